@@ -1,0 +1,9 @@
+//! The analyses. Each takes plain data (energies, matrix elements) and returns
+//! plain serde structs; none touches HDF5 or formats output.
+
+pub mod diagonal;
+pub mod levels;
+pub mod offdiagonal;
+pub mod quench;
+pub mod scaling;
+pub mod thermo;

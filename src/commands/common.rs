@@ -1,0 +1,72 @@
+//! Options shared by the analysis subcommands: input files, dataset path
+//! overrides, sector and window selection, output format.
+
+use crate::error::Result;
+use crate::window::{Window, WindowSpec};
+use std::path::PathBuf;
+
+/// Dataset path overrides for files that follow another layout.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct PathArgs {
+    /// Path of the energies dataset inside the file (overrides sector discovery).
+    #[arg(long, value_name = "PATH")]
+    pub energies_path: Option<String>,
+    /// Path of the eigenvectors dataset inside the file.
+    #[arg(long, value_name = "PATH")]
+    pub eigenvectors_path: Option<String>,
+    /// Eigenvector layout when the file does not say: `columns` ([dim, n]) or `rows` ([n, dim]).
+    #[arg(long, value_name = "columns|rows")]
+    pub layout: Option<String>,
+    /// Extra observable at a custom path, as NAME=PATH (repeatable).
+    #[arg(long = "observable-path", value_name = "NAME=PATH")]
+    pub observable_paths: Vec<String>,
+    /// Path of the Hamiltonian dataset or CSR group.
+    #[arg(long, value_name = "PATH")]
+    pub hamiltonian_path: Option<String>,
+}
+
+/// Sector, window and output options of the analysis subcommands.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct SelectArgs {
+    /// Analyse only this sector (group path, e.g. `even` or `/L12/odd`); default: every sector.
+    #[arg(long, value_name = "NAME")]
+    pub sector: Option<String>,
+    /// Window of states by index fraction, LO:HI (states floor(LO·n) ..= ceil(HI·n) − 1).
+    #[arg(long, value_name = "LO:HI")]
+    pub window: Option<String>,
+    /// Window of states by energy density ε = (E − E_min)/(E_max − E_min), LO:HI (replaces --window).
+    #[arg(long, value_name = "LO:HI")]
+    pub energy_window: Option<String>,
+    /// Print JSON to stdout instead of text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+impl SelectArgs {
+    /// The window to use, with `default` when none was given.
+    pub fn window_spec(&self, default: Window) -> Result<WindowSpec> {
+        if let Some(e) = &self.energy_window {
+            if self.window.is_some() {
+                return Err(crate::Error::usage(
+                    "give --window or --energy-window, not both",
+                ));
+            }
+            return Ok(WindowSpec::EnergyDensity(Window::parse(e)?));
+        }
+        match &self.window {
+            Some(w) => Ok(WindowSpec::Fraction(Window::parse(w)?)),
+            None => Ok(WindowSpec::Fraction(default)),
+        }
+    }
+}
+
+/// Input files of an analysis subcommand.
+#[derive(Debug, Clone, clap::Args)]
+pub struct InputArgs {
+    /// HDF5 files holding eigenbases (see the README for the layout).
+    #[arg(required = true, value_name = "FILE")]
+    pub files: Vec<PathBuf>,
+    /// Dataset path overrides.
+    #[command(flatten)]
+    pub paths: PathArgs,
+}

@@ -1,0 +1,299 @@
+//! Plain data passed between the stages: matrices, vectors, operators, spectra.
+//!
+//! Everything here is real (`f64`) or complex ([`c64`]); element types read from
+//! files (float32, complex float32) are promoted on reading. Matrices are faer
+//! column-major matrices, so that column `j` of an eigenvector block is one
+//! contiguous eigenvector.
+
+pub use faer::c64;
+use faer::Mat;
+use serde::{Deserialize, Serialize};
+use std::ops::Range;
+
+/// Real or complex element type of a dataset.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Field {
+    /// Real numbers (`float32` or `float64` in the file).
+    Real,
+    /// Complex numbers (compound `{r, i}` of two floats in the file).
+    Complex,
+}
+
+impl std::fmt::Display for Field {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            Field::Real => "real",
+            Field::Complex => "complex",
+        })
+    }
+}
+
+/// A dense real or complex matrix (column-major).
+#[derive(Debug, Clone)]
+pub enum Matrix {
+    /// Real entries.
+    Real(Mat<f64>),
+    /// Complex entries.
+    Complex(Mat<c64>),
+}
+
+impl Matrix {
+    /// Number of rows.
+    pub fn nrows(&self) -> usize {
+        match self {
+            Matrix::Real(m) => m.nrows(),
+            Matrix::Complex(m) => m.nrows(),
+        }
+    }
+    /// Number of columns.
+    pub fn ncols(&self) -> usize {
+        match self {
+            Matrix::Real(m) => m.ncols(),
+            Matrix::Complex(m) => m.ncols(),
+        }
+    }
+    /// Element type.
+    pub fn field(&self) -> Field {
+        match self {
+            Matrix::Real(_) => Field::Real,
+            Matrix::Complex(_) => Field::Complex,
+        }
+    }
+    /// Entry `(i, j)` promoted to complex.
+    pub fn get_c(&self, i: usize, j: usize) -> c64 {
+        match self {
+            Matrix::Real(m) => c64::new(m[(i, j)], 0.0),
+            Matrix::Complex(m) => m[(i, j)],
+        }
+    }
+    /// Copy of the columns `cols` (a new matrix with `cols.len()` columns).
+    pub fn columns(&self, cols: Range<usize>) -> Matrix {
+        match self {
+            Matrix::Real(m) => Matrix::Real(m.subcols(cols.start, cols.len()).to_owned()),
+            Matrix::Complex(m) => Matrix::Complex(m.subcols(cols.start, cols.len()).to_owned()),
+        }
+    }
+    /// Promotes to a complex matrix (a copy when real).
+    pub fn to_complex(&self) -> Mat<c64> {
+        match self {
+            Matrix::Real(m) => Mat::from_fn(m.nrows(), m.ncols(), |i, j| c64::new(m[(i, j)], 0.0)),
+            Matrix::Complex(m) => m.clone(),
+        }
+    }
+}
+
+/// A real or complex vector (a state or an operator diagonal).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Vector {
+    /// Real entries.
+    Real(Vec<f64>),
+    /// Complex entries.
+    Complex(Vec<c64>),
+}
+
+impl Vector {
+    /// Length.
+    pub fn len(&self) -> usize {
+        match self {
+            Vector::Real(v) => v.len(),
+            Vector::Complex(v) => v.len(),
+        }
+    }
+    /// True when empty.
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+    /// Element type.
+    pub fn field(&self) -> Field {
+        match self {
+            Vector::Real(_) => Field::Real,
+            Vector::Complex(_) => Field::Complex,
+        }
+    }
+    /// Entries promoted to complex.
+    pub fn to_complex(&self) -> Vec<c64> {
+        match self {
+            Vector::Real(v) => v.iter().map(|&x| c64::new(x, 0.0)).collect(),
+            Vector::Complex(v) => v.clone(),
+        }
+    }
+}
+
+/// A sparse matrix in compressed sparse row form (the SciPy `csr_matrix` convention):
+/// row `i` holds the entries `data[indptr[i]..indptr[i+1]]` in the columns
+/// `indices[indptr[i]..indptr[i+1]]`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Csr<T> {
+    /// Number of rows.
+    pub nrows: usize,
+    /// Number of columns.
+    pub ncols: usize,
+    /// Row pointers, length `nrows + 1`.
+    pub indptr: Vec<usize>,
+    /// Column indices, length `nnz`.
+    pub indices: Vec<usize>,
+    /// Values, length `nnz`.
+    pub data: Vec<T>,
+}
+
+/// How an operator is stored.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum OperatorForm {
+    /// `[dim]`: diagonal in the computational basis.
+    Diagonal,
+    /// `[dim, dim]`: dense in the computational basis.
+    Dense,
+    /// CSR group `{data, indices, indptr}` with attribute `shape`.
+    Csr,
+    /// `[n, n]` with attribute `basis = "energy"`: already in the energy eigenbasis.
+    EnergyBasis,
+}
+
+impl std::fmt::Display for OperatorForm {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            OperatorForm::Diagonal => "diagonal",
+            OperatorForm::Dense => "dense",
+            OperatorForm::Csr => "csr",
+            OperatorForm::EnergyBasis => "energy-basis",
+        })
+    }
+}
+
+/// Operator data of one element type.
+#[derive(Debug, Clone)]
+pub enum OpData<T> {
+    /// Diagonal in the computational basis: `A = diag(d)`.
+    Diagonal(Vec<T>),
+    /// Dense in the computational basis.
+    Dense(Mat<T>),
+    /// Sparse (CSR) in the computational basis.
+    Csr(Csr<T>),
+    /// Already in the energy eigenbasis: entry `(n, m)` is `⟨n|A|m⟩`, in ascending-energy order.
+    EnergyBasis(Mat<T>),
+}
+
+impl<T> OpData<T> {
+    /// Storage form.
+    pub fn form(&self) -> OperatorForm {
+        match self {
+            OpData::Diagonal(_) => OperatorForm::Diagonal,
+            OpData::Dense(_) => OperatorForm::Dense,
+            OpData::Csr(_) => OperatorForm::Csr,
+            OpData::EnergyBasis(_) => OperatorForm::EnergyBasis,
+        }
+    }
+}
+
+/// A real or complex operator in one of the four storage forms.
+#[derive(Debug, Clone)]
+pub enum Operator {
+    /// Real entries.
+    Real(OpData<f64>),
+    /// Complex entries.
+    Complex(OpData<c64>),
+}
+
+impl Operator {
+    /// Storage form.
+    pub fn form(&self) -> OperatorForm {
+        match self {
+            Operator::Real(d) => d.form(),
+            Operator::Complex(d) => d.form(),
+        }
+    }
+    /// Element type.
+    pub fn field(&self) -> Field {
+        match self {
+            Operator::Real(_) => Field::Real,
+            Operator::Complex(_) => Field::Complex,
+        }
+    }
+}
+
+/// A named observable.
+#[derive(Debug, Clone)]
+pub struct Observable {
+    /// Name (the dataset or group name under `observables/`).
+    pub name: String,
+    /// The operator.
+    pub op: Operator,
+}
+
+/// An ascending spectrum with the permutation that sorted it.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Spectrum {
+    /// Eigenvalues in ascending order.
+    pub energies: Vec<f64>,
+    /// `order[k]` is the index in the file of the k-th lowest eigenvalue
+    /// (the identity when the file was already sorted).
+    pub order: Vec<usize>,
+}
+
+impl Spectrum {
+    /// Sorts `raw` ascending and keeps the permutation.
+    pub fn from_unsorted(raw: Vec<f64>) -> Spectrum {
+        let mut order: Vec<usize> = (0..raw.len()).collect();
+        order.sort_by(|&a, &b| raw[a].total_cmp(&raw[b]));
+        let energies = order.iter().map(|&i| raw[i]).collect();
+        Spectrum { energies, order }
+    }
+    /// True when the file order was already ascending.
+    pub fn was_sorted(&self) -> bool {
+        self.order.iter().enumerate().all(|(k, &i)| k == i)
+    }
+    /// Number of states.
+    pub fn len(&self) -> usize {
+        self.energies.len()
+    }
+    /// True when there are no states.
+    pub fn is_empty(&self) -> bool {
+        self.energies.is_empty()
+    }
+}
+
+/// Where eigenvector columns come from: a file read in blocks, or a matrix in memory.
+///
+/// Indices are positions in the ascending spectrum (after sorting), not in the file.
+pub trait ColumnSource: Sync {
+    /// Dimension of the (sector's) Hilbert space, the length of one eigenvector.
+    fn dim(&self) -> usize;
+    /// Number of eigenvectors available.
+    fn n_states(&self) -> usize;
+    /// Element type of the eigenvectors.
+    fn field(&self) -> Field;
+    /// Reads the eigenvectors of the states `range` as the columns of a `[dim, range.len()]` matrix.
+    fn read(&self, range: Range<usize>) -> crate::error::Result<Matrix>;
+}
+
+/// Eigenvectors held in memory (columns in ascending-energy order).
+impl ColumnSource for Matrix {
+    fn dim(&self) -> usize {
+        self.nrows()
+    }
+    fn n_states(&self) -> usize {
+        self.ncols()
+    }
+    fn field(&self) -> Field {
+        Matrix::field(self)
+    }
+    fn read(&self, range: Range<usize>) -> crate::error::Result<Matrix> {
+        Ok(self.columns(range))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn spectrum_sorting_keeps_permutation() {
+        // common practice, no source: argsort semantics
+        let s = Spectrum::from_unsorted(vec![3.0, -1.0, 2.0]);
+        assert_eq!(s.energies, vec![-1.0, 2.0, 3.0]);
+        assert_eq!(s.order, vec![1, 2, 0]);
+        assert!(!s.was_sorted());
+    }
+}

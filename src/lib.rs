@@ -1,0 +1,32 @@
+//! eigentherm: level statistics and eigenstate-thermalization (ETH) analyses of
+//! exact-diagonalization eigenbases stored in HDF5 files.
+//!
+//! The stages, one module each, exchange plain data ([`data`]):
+//!
+//! - [`input`]: discovers sectors in HDF5 files, reads spectra, eigenvector
+//!   blocks (hyperslabs), operators and states, and validates them;
+//! - [`model`]: reference eigenbases of models of known character (spin chains,
+//!   random matrices) and the writer of our file layout;
+//! - [`project`]: matrix elements `A_nm = ⟨n|A|m⟩` in a window of eigenstates,
+//!   streamed in column blocks under a memory budget;
+//! - [`analysis`]: level statistics, diagonal and off-diagonal ETH figures,
+//!   thermodynamic predictions, quench dynamics, finite-size scaling;
+//! - [`report`]: JSON, tables, SVG figures and the HTML report;
+//! - [`commands`]: one function per subcommand, gluing the stages together.
+//!
+//! Results are numerical evidence about finite systems, not proofs.
+
+pub mod analysis;
+pub mod cli;
+pub mod commands;
+pub mod data;
+pub mod error;
+pub mod input;
+pub mod linalg;
+pub mod model;
+pub mod progress;
+pub mod project;
+pub mod report;
+pub mod window;
+
+pub use error::{Error, Result};

@@ -1,0 +1,26 @@
+//! JSON output.
+
+use crate::error::{Error, Result};
+use serde::Serialize;
+
+/// Serialises `value` as pretty JSON on stdout.
+pub fn print<T: Serialize>(value: &T) -> Result<()> {
+    let s = serde_json::to_string_pretty(value)
+        .map_err(|e| Error::other(format!("cannot serialise JSON: {e}")))?;
+    println!("{s}");
+    Ok(())
+}
+
+/// Writes `bytes` to `path` atomically: a temporary file in the same folder, then a rename,
+/// so that a crash never leaves a half-written file.
+pub fn write_atomic(path: &std::path::Path, bytes: &[u8]) -> Result<()> {
+    use std::io::Write;
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(std::path::Path::new("."));
+    let mut tmp = tempfile::NamedTempFile::new_in(dir).map_err(|e| Error::io(path, e))?;
+    tmp.write_all(bytes).map_err(|e| Error::io(path, e))?;
+    tmp.persist(path).map_err(|e| Error::io(path, e.error))?;
+    Ok(())
+}
