@@ -1,0 +1,187 @@
+//! Numerical checks of a stored eigenbasis on a sample of states.
+//!
+//! - Orthonormality: with `V_S` the `[dim, k]` matrix of k sampled eigenvectors,
+//!   the error is `max_{a,b} |(V_Sᴴ V_S − 1)_{ab}|`. The sample is
+//!   [`SAMPLE`] states spread evenly over the spectrum (all states when fewer);
+//!   the basis passes when the error is at most [`ORTHO_TOL`].
+//! - Residuals: `max_j ‖H v_j − E_j v_j‖₂` over the same sample, where a
+//!   Hamiltonian is stored; it passes when at most
+//!   `RESIDUAL_TOL · max(1, max_j |E_j|)` (relative to the spectral scale).
+
+use super::{EigenFile, Sector};
+use crate::data::{c64, ColumnSource, Matrix, OpData, Operator, Spectrum};
+use crate::error::{Error, Result};
+use faer::Mat;
+use serde::Serialize;
+
+/// Number of sampled states in the checks.
+pub const SAMPLE: usize = 64;
+/// Largest accepted `|VᴴV − 1|` entry.
+pub const ORTHO_TOL: f64 = 1e-8;
+/// Largest accepted residual `‖Hv − Ev‖`, relative to `max(1, max |E|)`.
+pub const RESIDUAL_TOL: f64 = 1e-8;
+
+/// Result of the orthonormality check.
+#[derive(Debug, Clone, Serialize)]
+pub struct OrthoCheck {
+    /// Number of sampled states.
+    pub sample: usize,
+    /// `max |(V_Sᴴ V_S − 1)_{ab}|` over the sample.
+    pub max_error: f64,
+    /// Tolerance ([`ORTHO_TOL`]).
+    pub tolerance: f64,
+    /// `max_error ≤ tolerance`.
+    pub pass: bool,
+}
+
+/// Result of the residual check.
+#[derive(Debug, Clone, Serialize)]
+pub struct ResidualCheck {
+    /// Number of sampled states.
+    pub sample: usize,
+    /// `max_j ‖H v_j − E_j v_j‖₂` over the sample.
+    pub max_residual: f64,
+    /// Index (ascending order) of the state with the largest residual.
+    pub worst_state: usize,
+    /// Threshold `RESIDUAL_TOL · max(1, max |E|)`.
+    pub threshold: f64,
+    /// `max_residual ≤ threshold`.
+    pub pass: bool,
+}
+
+/// `k` indices spread evenly over `0..n` (all of them when `n ≤ k`):
+/// `round(i (n − 1) / (k − 1))` for `i = 0..k`.
+pub fn sample_indices(n: usize, k: usize) -> Vec<usize> {
+    if n <= k {
+        return (0..n).collect();
+    }
+    if k <= 1 {
+        return vec![0];
+    }
+    let mut v: Vec<usize> = (0..k)
+        .map(|i| ((i as f64) * (n - 1) as f64 / (k - 1) as f64).round() as usize)
+        .collect();
+    v.dedup();
+    v
+}
+
+/// Reads the sampled columns as one complex `[dim, k]` matrix.
+fn read_sample(src: &dyn ColumnSource, idx: &[usize]) -> Result<Mat<c64>> {
+    let mut out = Mat::<c64>::zeros(src.dim(), idx.len());
+    for (k, &j) in idx.iter().enumerate() {
+        let col = src.read(j..j + 1)?;
+        for i in 0..src.dim() {
+            out[(i, k)] = col.get_c(i, 0);
+        }
+    }
+    Ok(out)
+}
+
+/// Orthonormality error `max |V_Sᴴ V_S − 1|` on `sample` evenly spread states.
+pub fn orthonormality(src: &dyn ColumnSource, sample: usize) -> Result<OrthoCheck> {
+    let idx = sample_indices(src.n_states(), sample);
+    let v = read_sample(src, &idx)?;
+    let g = v.adjoint() * &v;
+    let mut err = 0.0f64;
+    for b in 0..g.ncols() {
+        for a in 0..g.nrows() {
+            let target = if a == b { 1.0 } else { 0.0 };
+            let d = (g[(a, b)] - c64::new(target, 0.0)).norm();
+            err = if d.is_nan() { f64::INFINITY } else { err.max(d) };
+        }
+    }
+    Ok(OrthoCheck {
+        sample: idx.len(),
+        max_error: err,
+        tolerance: ORTHO_TOL,
+        pass: err <= ORTHO_TOL,
+    })
+}
+
+/// `y = H x` for a computational-basis operator (complex arithmetic).
+fn apply(h: &Operator, x: &[c64]) -> Result<Vec<c64>> {
+    fn go<T: Copy>(d: &OpData<T>, x: &[c64], c: impl Fn(T) -> c64) -> Result<Vec<c64>> {
+        let n = x.len();
+        match d {
+            OpData::Diagonal(v) => Ok(v.iter().zip(x).map(|(&a, &b)| c(a) * b).collect()),
+            OpData::Dense(m) => Ok((0..n)
+                .map(|i| (0..n).map(|j| c(m[(i, j)]) * x[j]).sum())
+                .collect()),
+            OpData::Csr(a) => Ok((0..a.nrows)
+                .map(|i| {
+                    (a.indptr[i]..a.indptr[i + 1])
+                        .map(|k| c(a.data[k]) * x[a.indices[k]])
+                        .sum()
+                })
+                .collect()),
+            OpData::EnergyBasis(_) => Err(Error::other(
+                "a Hamiltonian in the energy basis cannot be used for residuals",
+            )),
+        }
+    }
+    match h {
+        Operator::Real(d) => go(d, x, |a| c64::new(a, 0.0)),
+        Operator::Complex(d) => go(d, x, |a| a),
+    }
+}
+
+/// Largest residual `‖H v_j − E_j v_j‖₂` over `sample` evenly spread states.
+pub fn residuals(
+    src: &dyn ColumnSource,
+    spectrum: &Spectrum,
+    h: &Operator,
+    sample: usize,
+) -> Result<ResidualCheck> {
+    let idx = sample_indices(src.n_states(), sample);
+    let scale = spectrum
+        .energies
+        .iter()
+        .fold(1.0f64, |m, e| m.max(e.abs()));
+    let mut worst = (0.0f64, idx.first().copied().unwrap_or(0));
+    for &j in &idx {
+        let col: Matrix = src.read(j..j + 1)?;
+        let x: Vec<c64> = (0..src.dim()).map(|i| col.get_c(i, 0)).collect();
+        let hx = apply(h, &x)?;
+        let e = spectrum.energies[j];
+        let r = hx
+            .iter()
+            .zip(&x)
+            .map(|(a, b)| (a - b * e).norm_sqr())
+            .sum::<f64>()
+            .sqrt();
+        let r = if r.is_nan() { f64::INFINITY } else { r };
+        if r > worst.0 {
+            worst = (r, j);
+        }
+    }
+    let threshold = RESIDUAL_TOL * scale;
+    Ok(ResidualCheck {
+        sample: idx.len(),
+        max_residual: worst.0,
+        worst_state: worst.1,
+        threshold,
+        pass: worst.0 <= threshold,
+    })
+}
+
+/// Checks orthonormality ([`orthonormality`] with [`SAMPLE`] states) and turns a
+/// failure into an error naming the eigenvector dataset. Analyses call this before
+/// using a basis.
+pub fn require_orthonormal(
+    file: &EigenFile,
+    sector: &Sector,
+    src: &dyn ColumnSource,
+) -> Result<OrthoCheck> {
+    let c = orthonormality(src, SAMPLE)?;
+    if !c.pass {
+        return Err(Error::dataset(
+            file.path(),
+            sector.eigenvectors_path.clone().unwrap_or_default(),
+            format!(
+                "eigenvectors are not orthonormal: max |V^H V - 1| = {:.3e} over {} sampled states exceeds {:e}",
+                c.max_error, c.sample, c.tolerance
+            ),
+        ));
+    }
+    Ok(c)
+}
