@@ -42,7 +42,11 @@ pub fn kind(f: &hdf5::File, path: &str) -> Option<LocationType> {
     // HDF5 error we do not want to provoke.
     let mut at = String::new();
     for part in path.trim_start_matches('/').split('/') {
-        let parent = if at.is_empty() { "/".to_string() } else { at.clone() };
+        let parent = if at.is_empty() {
+            "/".to_string()
+        } else {
+            at.clone()
+        };
         let g = f.group(&parent).ok()?;
         if !g.link_exists(part) {
             return None;
@@ -102,7 +106,13 @@ const SECTOR_MEMBERS: [&str; 5] = [
     "hamiltonian",
 ];
 
-fn walk(file: &Path, f: &hdf5::File, group: &str, depth: usize, out: &mut Vec<String>) -> Result<()> {
+fn walk(
+    file: &Path,
+    f: &hdf5::File,
+    group: &str,
+    depth: usize,
+    out: &mut Vec<String>,
+) -> Result<()> {
     if depth > MAX_DEPTH {
         return Ok(());
     }
@@ -136,13 +146,23 @@ fn open_ds(file: &Path, f: &hdf5::File, path: &str) -> Result<hdf5::Dataset> {
         Some(LocationType::Dataset) => f
             .dataset(path)
             .map_err(|e| h5::h5err(file, path, "cannot open dataset", e)),
-        Some(_) => Err(Error::dataset(file, path, "expected a dataset, found a group")),
+        Some(_) => Err(Error::dataset(
+            file,
+            path,
+            "expected a dataset, found a group",
+        )),
         None => Err(Error::dataset(file, path, "missing dataset")),
     }
 }
 
 /// Reads the metadata of the sector whose group is `group` and whose energies are at `epath`.
-fn describe(file: &Path, f: &hdf5::File, group: &str, epath: &str, ov: &Overrides) -> Result<Sector> {
+fn describe(
+    file: &Path,
+    f: &hdf5::File,
+    group: &str,
+    epath: &str,
+    ov: &Overrides,
+) -> Result<Sector> {
     // Energies: 1-D, real, non-empty.
     let eds = open_ds(file, f, epath)?;
     let eshape = eds.shape();
@@ -150,7 +170,10 @@ fn describe(file: &Path, f: &hdf5::File, group: &str, epath: &str, ov: &Override
         return Err(Error::dataset(
             file,
             epath,
-            format!("expected a 1-D dataset, found shape {}", format_shape(&eshape)),
+            format!(
+                "expected a 1-D dataset, found shape {}",
+                format_shape(&eshape)
+            ),
         ));
     }
     let eel = h5::element(file, epath, &eds)?;
@@ -183,24 +206,28 @@ fn describe(file: &Path, f: &hdf5::File, group: &str, epath: &str, ov: &Override
         let ds = open_ds(file, f, vp)?;
         let el = h5::element(file, vp, &ds)?;
         if let Some(l) = attr_string(file, vp, &ds, "layout")? {
-            layout = match l.as_str() {
-                "rows" => Layout::Rows,
-                "columns" => Layout::Columns,
-                other => {
-                    return Err(Error::dataset(
+            layout =
+                match l.as_str() {
+                    "rows" => Layout::Rows,
+                    "columns" => Layout::Columns,
+                    other => return Err(Error::dataset(
                         file,
                         vp,
-                        format!("attribute layout = \"{other}\" is neither \"rows\" nor \"columns\""),
-                    ))
-                }
-            };
+                        format!(
+                            "attribute layout = \"{other}\" is neither \"rows\" nor \"columns\""
+                        ),
+                    )),
+                };
         }
         let shape = ds.shape();
         if shape.len() != 2 {
             return Err(Error::dataset(
                 file,
                 vp,
-                format!("expected a 2-D dataset, found shape {}", format_shape(&shape)),
+                format!(
+                    "expected a 2-D dataset, found shape {}",
+                    format_shape(&shape)
+                ),
             ));
         }
         let (d, nv) = match layout {
@@ -270,7 +297,11 @@ fn describe(file: &Path, f: &hdf5::File, group: &str, epath: &str, ov: &Override
     for (name, p) in &ov.observables {
         let p = resolve(group, p);
         if kind(f, &p).is_none() {
-            return Err(Error::dataset(file, &p, format!("missing dataset (observable '{name}')")));
+            return Err(Error::dataset(
+                file,
+                &p,
+                format!("missing dataset (observable '{name}')"),
+            ));
         }
         observables.retain(|o: &ObservableInfo| &o.name != name);
         observables.push(probe_operator(file, f, name, &p, dim, n, true)?);
@@ -281,7 +312,11 @@ fn describe(file: &Path, f: &hdf5::File, group: &str, epath: &str, ov: &Override
         Some(p) => {
             let p = resolve(group, p);
             if kind(f, &p).is_none() {
-                return Err(Error::dataset(file, &p, "missing dataset (given as the hamiltonian path)"));
+                return Err(Error::dataset(
+                    file,
+                    &p,
+                    "missing dataset (given as the hamiltonian path)",
+                ));
             }
             Some(p)
         }
@@ -385,16 +420,17 @@ fn probe_operator(
     n: usize,
     energy_basis_allowed: bool,
 ) -> Result<ObservableInfo> {
-    let want = |rows: usize, cols: usize, expect: Option<(usize, usize)>, what: &str| -> Result<()> {
-        match expect {
-            Some((r, c)) if (r, c) != (rows, cols) => Err(Error::dataset(
-                file,
-                path,
-                format!("shape [{rows}, {cols}] does not match {what} [{r}, {c}]"),
-            )),
-            _ => Ok(()),
-        }
-    };
+    let want =
+        |rows: usize, cols: usize, expect: Option<(usize, usize)>, what: &str| -> Result<()> {
+            match expect {
+                Some((r, c)) if (r, c) != (rows, cols) => Err(Error::dataset(
+                    file,
+                    path,
+                    format!("shape [{rows}, {cols}] does not match {what} [{r}, {c}]"),
+                )),
+                _ => Ok(()),
+            }
+        };
     match kind(f, path) {
         Some(LocationType::Dataset) => {
             let ds = open_ds(file, f, path)?;
@@ -465,13 +501,17 @@ fn probe_operator(
                 if kind(f, &join(path, part)) != Some(LocationType::Dataset) {
                     return Err(Error::dataset(
                         file,
-                        &join(path, part),
+                        join(path, part),
                         "missing dataset (a CSR group needs data, indices, indptr and attribute shape)",
                     ));
                 }
             }
             let shape = attr_counts(file, path, &g, "shape")?.ok_or_else(|| {
-                Error::dataset(file, path, "CSR group without attribute shape = [rows, cols]")
+                Error::dataset(
+                    file,
+                    path,
+                    "CSR group without attribute shape = [rows, cols]",
+                )
             })?;
             if shape.len() != 2 {
                 return Err(Error::dataset(
@@ -480,7 +520,12 @@ fn probe_operator(
                     format!("attribute shape has {} entries, expected 2", shape.len()),
                 ));
             }
-            want(shape[0], shape[1], dim.map(|d| (d, d)), "the eigenvector dimension")?;
+            want(
+                shape[0],
+                shape[1],
+                dim.map(|d| (d, d)),
+                "the eigenvector dimension",
+            )?;
             if shape[0] != shape[1] {
                 return Err(Error::dataset(
                     file,
@@ -499,7 +544,10 @@ fn probe_operator(
                 return Err(Error::dataset(
                     file,
                     &ipath,
-                    format!("shape {} does not match {nnz} values in data", format_shape(&idx.shape())),
+                    format!(
+                        "shape {} does not match {nnz} values in data",
+                        format_shape(&idx.shape())
+                    ),
                 ));
             }
             let ppath = join(path, "indptr");

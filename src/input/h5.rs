@@ -281,9 +281,7 @@ pub fn read_indices(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<Vec<u
 
 /// First non-finite entry of a real slice, as (index, value).
 pub fn first_nonfinite_real(v: &[f64]) -> Option<(usize, f64)> {
-    v.iter()
-        .position(|x| !x.is_finite())
-        .map(|i| (i, v[i]))
+    v.iter().position(|x| !x.is_finite()).map(|i| (i, v[i]))
 }
 
 /// First non-finite entry of a complex slice, as (index, value).

@@ -65,12 +65,7 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
                 let reader = file.vectors(s, &spec)?;
                 v.orthonormality = Some(validate::orthonormality(&reader, validate::SAMPLE)?);
                 if let Some(h) = file.hamiltonian(s)? {
-                    v.residual = Some(validate::residuals(
-                        &reader,
-                        &spec,
-                        &h,
-                        validate::SAMPLE,
-                    )?);
+                    v.residual = Some(validate::residuals(&reader, &spec, &h, validate::SAMPLE)?);
                 }
             }
             Some(v)

@@ -310,7 +310,10 @@ impl EigenFile {
                 if known.is_empty() {
                     format!("no observable named '{name}': the sector has no observables")
                 } else {
-                    format!("no observable named '{name}'; observables: {}", known.join(", "))
+                    format!(
+                        "no observable named '{name}'; observables: {}",
+                        known.join(", ")
+                    )
                 },
             ));
         };
@@ -338,7 +341,10 @@ impl EigenFile {
                 if sector.states.is_empty() {
                     format!("no state named '{name}': the sector has no states")
                 } else {
-                    format!("no state named '{name}'; states: {}", sector.states.join(", "))
+                    format!(
+                        "no state named '{name}'; states: {}",
+                        sector.states.join(", ")
+                    )
                 },
             ));
         };

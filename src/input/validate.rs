@@ -87,7 +87,11 @@ pub fn orthonormality(src: &dyn ColumnSource, sample: usize) -> Result<OrthoChec
         for a in 0..g.nrows() {
             let target = if a == b { 1.0 } else { 0.0 };
             let d = (g[(a, b)] - c64::new(target, 0.0)).norm();
-            err = if d.is_nan() { f64::INFINITY } else { err.max(d) };
+            err = if d.is_nan() {
+                f64::INFINITY
+            } else {
+                err.max(d)
+            };
         }
     }
     Ok(OrthoCheck {
@@ -133,10 +137,7 @@ pub fn residuals(
     sample: usize,
 ) -> Result<ResidualCheck> {
     let idx = sample_indices(src.n_states(), sample);
-    let scale = spectrum
-        .energies
-        .iter()
-        .fold(1.0f64, |m, e| m.max(e.abs()));
+    let scale = spectrum.energies.iter().fold(1.0f64, |m, e| m.max(e.abs()));
     let mut worst = (0.0f64, idx.first().copied().unwrap_or(0));
     for &j in &idx {
         let col: Matrix = src.read(j..j + 1)?;
