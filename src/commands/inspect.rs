@@ -189,6 +189,11 @@ fn format_sector(o: &mut String, r: &SectorReport) {
                 );
             }
         }
+        let _ = writeln!(
+            o,
+            "    verify        {} operators and states read: finite, Hermitian, well-formed: pass",
+            v.operators_checked
+        );
         match &v.residual {
             Some(c) => {
                 let _ = writeln!(

@@ -206,18 +206,19 @@ fn describe(
         let ds = open_ds(file, f, vp)?;
         let el = h5::element(file, vp, &ds)?;
         if let Some(l) = attr_string(file, vp, &ds, "layout")? {
-            layout =
-                match l.as_str() {
-                    "rows" => Layout::Rows,
-                    "columns" => Layout::Columns,
-                    other => return Err(Error::dataset(
+            layout = match l.as_str() {
+                "rows" => Layout::Rows,
+                "columns" => Layout::Columns,
+                other => {
+                    return Err(Error::dataset(
                         file,
                         vp,
                         format!(
                             "attribute layout = \"{other}\" is neither \"rows\" nor \"columns\""
                         ),
-                    )),
-                };
+                    ))
+                }
+            };
         }
         let shape = ds.shape();
         if shape.len() != 2 {

@@ -1,7 +1,9 @@
 //! The summary of a file printed by `eigentherm inspect` (and reused by `study`):
 //! sectors with their datasets, element types, layout, chunking, observables,
 //! states and attributes; the spectrum's range; optionally the numerical checks
-//! of [`super::validate`] (orthonormality on a sample, residuals `‖Hv − Ev‖`).
+//! of [`super::validate`] (orthonormality on a sample, residuals `‖Hv − Ev‖`)
+//! and a full read of every observable, state and Hamiltonian (finite values,
+//! Hermiticity, CSR structure).
 
 use super::validate::{self, OrthoCheck, ResidualCheck};
 use super::{EigenFile, Sector};
@@ -40,6 +42,9 @@ pub struct Verification {
     pub orthonormality: Option<OrthoCheck>,
     /// Largest residual on a sample (when eigenvectors and a Hamiltonian are stored).
     pub residual: Option<ResidualCheck>,
+    /// Number of observables, states and Hamiltonians read in full and found valid
+    /// (finite, Hermitian, CSR structure sound); a bad one ends the inspection with its error.
+    pub operators_checked: usize,
 }
 
 impl Verification {
@@ -60,12 +65,32 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
             let mut v = Verification {
                 orthonormality: None,
                 residual: None,
+                operators_checked: 0,
             };
+            for o in &s.observables {
+                file.observable(s, &o.name)?;
+                v.operators_checked += 1;
+            }
+            for st in &s.states {
+                file.state(s, st)?;
+                v.operators_checked += 1;
+            }
             if s.eigenvectors_path.is_some() {
                 let reader = file.vectors(s, &spec)?;
-                v.orthonormality = Some(validate::orthonormality(&reader, validate::SAMPLE)?);
+                v.orthonormality = Some(validate::orthonormality(
+                    &reader,
+                    validate::SAMPLE,
+                    validate::ortho_tolerance(s),
+                )?);
                 if let Some(h) = file.hamiltonian(s)? {
-                    v.residual = Some(validate::residuals(&reader, &spec, &h, validate::SAMPLE)?);
+                    v.operators_checked += 1;
+                    v.residual = Some(validate::residuals(
+                        &reader,
+                        &spec,
+                        &h,
+                        validate::SAMPLE,
+                        validate::residual_tolerance(s),
+                    )?);
                 }
             }
             Some(v)

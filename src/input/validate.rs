@@ -3,12 +3,14 @@
 //! - Orthonormality: with `V_S` the `[dim, k]` matrix of k sampled eigenvectors,
 //!   the error is `max_{a,b} |(V_Sᴴ V_S − 1)_{ab}|`. The sample is
 //!   [`SAMPLE`] states spread evenly over the spectrum (all states when fewer);
-//!   the basis passes when the error is at most [`ORTHO_TOL`].
+//!   the basis passes when the error is at most [`ORTHO_TOL`] (float64 storage) or
+//!   [`ORTHO_TOL_F32`] (float32 storage, whose rounding alone gives ~10⁻⁷).
 //! - Residuals: `max_j ‖H v_j − E_j v_j‖₂` over the same sample, where a
 //!   Hamiltonian is stored; it passes when at most
-//!   `RESIDUAL_TOL · max(1, max_j |E_j|)` (relative to the spectral scale).
+//!   `tol · max(1, max_j |E_j|)` (relative to the spectral scale) with the same
+//!   tolerances (float32 when either energies or eigenvectors are float32).
 
-use super::{EigenFile, Sector};
+use super::{EigenFile, Element, Sector};
 use crate::data::{c64, ColumnSource, Matrix, OpData, Operator, Spectrum};
 use crate::error::{Error, Result};
 use faer::Mat;
@@ -16,10 +18,27 @@ use serde::Serialize;
 
 /// Number of sampled states in the checks.
 pub const SAMPLE: usize = 64;
-/// Largest accepted `|VᴴV − 1|` entry.
+/// Largest accepted `|VᴴV − 1|` entry for float64 data.
 pub const ORTHO_TOL: f64 = 1e-8;
-/// Largest accepted residual `‖Hv − Ev‖`, relative to `max(1, max |E|)`.
+/// Largest accepted `|VᴴV − 1|` entry for float32 data (about 100 float32 epsilons).
+pub const ORTHO_TOL_F32: f64 = 1e-5;
+/// Largest accepted residual `‖Hv − Ev‖` for float64 data, relative to `max(1, max |E|)`.
 pub const RESIDUAL_TOL: f64 = 1e-8;
+/// Largest accepted relative residual when energies or eigenvectors are float32.
+pub const RESIDUAL_TOL_F32: f64 = 1e-5;
+
+/// The tolerance for data stored with element types `elements`: `f32_tol` when any
+/// is single precision, `f64_tol` otherwise.
+pub fn tolerance_for(elements: &[Element], f64_tol: f64, f32_tol: f64) -> f64 {
+    if elements
+        .iter()
+        .any(|e| matches!(e, Element::Float32 | Element::Complex64))
+    {
+        f32_tol
+    } else {
+        f64_tol
+    }
+}
 
 /// Result of the orthonormality check.
 #[derive(Debug, Clone, Serialize)]
@@ -77,8 +96,9 @@ fn read_sample(src: &dyn ColumnSource, idx: &[usize]) -> Result<Mat<c64>> {
     Ok(out)
 }
 
-/// Orthonormality error `max |V_Sᴴ V_S − 1|` on `sample` evenly spread states.
-pub fn orthonormality(src: &dyn ColumnSource, sample: usize) -> Result<OrthoCheck> {
+/// Orthonormality error `max |V_Sᴴ V_S − 1|` on `sample` evenly spread states,
+/// passing when at most `tolerance`.
+pub fn orthonormality(src: &dyn ColumnSource, sample: usize, tolerance: f64) -> Result<OrthoCheck> {
     let idx = sample_indices(src.n_states(), sample);
     let v = read_sample(src, &idx)?;
     let g = v.adjoint() * &v;
@@ -97,8 +117,8 @@ pub fn orthonormality(src: &dyn ColumnSource, sample: usize) -> Result<OrthoChec
     Ok(OrthoCheck {
         sample: idx.len(),
         max_error: err,
-        tolerance: ORTHO_TOL,
-        pass: err <= ORTHO_TOL,
+        tolerance,
+        pass: err <= tolerance,
     })
 }
 
@@ -129,12 +149,14 @@ fn apply(h: &Operator, x: &[c64]) -> Result<Vec<c64>> {
     }
 }
 
-/// Largest residual `‖H v_j − E_j v_j‖₂` over `sample` evenly spread states.
+/// Largest residual `‖H v_j − E_j v_j‖₂` over `sample` evenly spread states,
+/// passing when at most `rel_tol · max(1, max |E|)`.
 pub fn residuals(
     src: &dyn ColumnSource,
     spectrum: &Spectrum,
     h: &Operator,
     sample: usize,
+    rel_tol: f64,
 ) -> Result<ResidualCheck> {
     let idx = sample_indices(src.n_states(), sample);
     let scale = spectrum.energies.iter().fold(1.0f64, |m, e| m.max(e.abs()));
@@ -155,7 +177,7 @@ pub fn residuals(
             worst = (r, j);
         }
     }
-    let threshold = RESIDUAL_TOL * scale;
+    let threshold = rel_tol * scale;
     Ok(ResidualCheck {
         sample: idx.len(),
         max_residual: worst.0,
@@ -165,15 +187,28 @@ pub fn residuals(
     })
 }
 
-/// Checks orthonormality ([`orthonormality`] with [`SAMPLE`] states) and turns a
-/// failure into an error naming the eigenvector dataset. Analyses call this before
-/// using a basis.
+/// The orthonormality tolerance of a sector's eigenvectors ([`ORTHO_TOL`] or [`ORTHO_TOL_F32`]).
+pub fn ortho_tolerance(sector: &Sector) -> f64 {
+    let el: Vec<Element> = sector.element.into_iter().collect();
+    tolerance_for(&el, ORTHO_TOL, ORTHO_TOL_F32)
+}
+
+/// The relative residual tolerance of a sector ([`RESIDUAL_TOL`] or [`RESIDUAL_TOL_F32`]).
+pub fn residual_tolerance(sector: &Sector) -> f64 {
+    let mut el: Vec<Element> = sector.element.into_iter().collect();
+    el.push(sector.energies_element);
+    tolerance_for(&el, RESIDUAL_TOL, RESIDUAL_TOL_F32)
+}
+
+/// Checks orthonormality ([`orthonormality`] with [`SAMPLE`] states and the
+/// sector's tolerance) and turns a failure into an error naming the eigenvector
+/// dataset. Analyses call this before using a basis read from a file.
 pub fn require_orthonormal(
     file: &EigenFile,
     sector: &Sector,
     src: &dyn ColumnSource,
 ) -> Result<OrthoCheck> {
-    let c = orthonormality(src, SAMPLE)?;
+    let c = orthonormality(src, SAMPLE, ortho_tolerance(sector))?;
     if !c.pass {
         return Err(Error::dataset(
             file.path(),
