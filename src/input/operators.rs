@@ -259,3 +259,65 @@ fn check_hermitian_csr<T: Scalar>(file: &Path, path: &str, a: &Csr<T>) -> Result
     }
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn csr(indptr: Vec<usize>, indices: Vec<usize>, data: Vec<f64>) -> Csr<f64> {
+        Csr {
+            nrows: indptr.len() - 1,
+            ncols: indptr.len() - 1,
+            indptr,
+            indices,
+            data,
+        }
+    }
+
+    #[test]
+    fn csr_structure_errors_name_the_dataset_and_problem() {
+        // SciPy CSR convention (scipy.sparse.csr_matrix documentation)
+        let f = Path::new("x.h5");
+        let ok = csr(vec![0, 1, 2], vec![1, 0], vec![2.0, 2.0]);
+        assert!(check_csr(f, "/op", &ok).is_ok());
+        assert!(check_hermitian_csr(f, "/op", &ok).is_ok());
+        let dec = csr(vec![0, 2, 1], vec![1, 0], vec![2.0, 2.0]);
+        let e = check_csr(f, "/op", &dec).unwrap_err().to_string();
+        assert!(e.contains("/op/indptr: decreases at row 1"), "{e}");
+        let short = csr(vec![0, 1, 1], vec![1, 0], vec![2.0, 2.0]);
+        let e = check_csr(f, "/op", &short).unwrap_err().to_string();
+        assert!(e.contains("ends at 1, but data holds 2 values"), "{e}");
+    }
+
+    #[test]
+    fn hermiticity_uses_a_relative_tolerance_and_sums_duplicates() {
+        // definition A = Aᴴ; duplicates add up in the SciPy convention
+        let f = Path::new("x.h5");
+        // (0,1) stored twice as 1.0 + 1.0 = 2.0 against (1,0) = 2.0: Hermitian
+        let dup = csr(vec![0, 2, 3], vec![1, 1, 0], vec![1.0, 1.0, 2.0]);
+        assert!(check_hermitian_csr(f, "/op", &dup).is_ok());
+        // missing transpose entry
+        let lone = csr(vec![0, 1, 1], vec![1], vec![1.0]);
+        let e = check_hermitian_csr(f, "/op", &lone)
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("not Hermitian"), "{e}");
+        // a deviation of 1e-12 relative to entries of 1e3 passes (tol 1e-10 relative)
+        let m = Mat::from_fn(2, 2, |i, j| if i == 0 && j == 1 { 1e3 + 1e-9 } else { 1e3 });
+        assert!(check_hermitian_dense(f, "/op", &m).is_ok());
+        let m = Mat::from_fn(2, 2, |i, j| if i == 0 && j == 1 { 1e3 + 1e-6 } else { 1e3 });
+        assert!(check_hermitian_dense(f, "/op", &m).is_err());
+        // complex: A_01 = i, A_10 = -i is Hermitian; A_10 = +i is not
+        let h = Mat::from_fn(2, 2, |i, j| match (i, j) {
+            (0, 1) => c64::new(0.0, 1.0),
+            (1, 0) => c64::new(0.0, -1.0),
+            _ => c64::new(1.0, 0.0),
+        });
+        assert!(check_hermitian_dense(f, "/op", &h).is_ok());
+        let s = Mat::from_fn(2, 2, |i, j| match (i, j) {
+            (0, 1) | (1, 0) => c64::new(0.0, 1.0),
+            _ => c64::new(1.0, 0.0),
+        });
+        assert!(check_hermitian_dense(f, "/op", &s).is_err());
+    }
+}

@@ -221,3 +221,60 @@ pub fn require_orthonormal(
     }
     Ok(c)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sample_spreads_over_the_spectrum_including_both_ends() {
+        // common practice, no source: evenly spaced sample with endpoints
+        let v = sample_indices(1000, 64);
+        assert_eq!(v.len(), 64);
+        assert_eq!((v[0], v[63]), (0, 999));
+        assert!(v.windows(2).all(|w| w[1] > w[0]));
+        assert_eq!(sample_indices(10, 64), (0..10).collect::<Vec<_>>());
+    }
+
+    #[test]
+    fn orthonormality_error_of_a_rotated_basis_and_a_skewed_one() {
+        // VᵀV = 1 for a rotation (exact identity). Columns v0 = (1, 0), v1 = (t, 1):
+        // ⟨v0|v1⟩ = t and ‖v1‖² − 1 = t², so max |VᵀV − 1| = t for t < 1.
+        let (c, s) = (0.6f64, 0.8f64);
+        let rot = Matrix::Real(Mat::from_fn(2, 2, |i, j| match (i, j) {
+            (0, 0) | (1, 1) => c,
+            (1, 0) => s,
+            _ => -s,
+        }));
+        let r = orthonormality(&rot, 64, ORTHO_TOL).unwrap();
+        assert!(r.pass && r.max_error < 1e-15, "{}", r.max_error);
+        let t = 1e-3;
+        let skew = Matrix::Real(Mat::from_fn(2, 2, |i, j| match (i, j) {
+            (0, 0) | (1, 1) => 1.0,
+            (0, 1) => t,
+            _ => 0.0,
+        }));
+        let r = orthonormality(&skew, 64, ORTHO_TOL).unwrap();
+        assert!(!r.pass);
+        assert!((r.max_error - t).abs() < 1e-15, "{}", r.max_error);
+    }
+
+    #[test]
+    fn residual_of_exact_and_perturbed_eigenpairs() {
+        // H = diag(1, 2) with the unit vectors: residual 0 (exact); with E shifted by δ
+        // the residual is |δ| (‖Hv − (E+δ)v‖ = |δ|)
+        let h = Operator::Real(OpData::Diagonal(vec![1.0, 2.0]));
+        let v = Matrix::Real(Mat::from_fn(2, 2, |i, j| if i == j { 1.0 } else { 0.0 }));
+        let sp = Spectrum::from_unsorted(vec![1.0, 2.0]);
+        let r = residuals(&v, &sp, &h, 64, RESIDUAL_TOL).unwrap();
+        assert_eq!(r.max_residual, 0.0);
+        assert!(r.pass);
+        let sp = Spectrum::from_unsorted(vec![1.0, 2.0 + 1e-6]);
+        let r = residuals(&v, &sp, &h, 64, RESIDUAL_TOL).unwrap();
+        assert!((r.max_residual - 1e-6).abs() < 1e-15);
+        assert_eq!(r.worst_state, 1);
+        assert!(!r.pass);
+        // threshold relative to max(1, max|E|) = 2 + 1e-6
+        assert!((r.threshold - RESIDUAL_TOL * (2.0 + 1e-6)).abs() < 1e-20);
+    }
+}

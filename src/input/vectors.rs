@@ -165,9 +165,14 @@ impl VectorReader {
                 format!("non-finite value {x} in component {comp} of the eigenvector of state {state} (file order)"),
             ));
         }
-        let m = match self.layout {
-            Layout::Columns => Mat::from_fn(rows, cols, |i, j| arr[[i, j]]),
-            Layout::Rows => Mat::from_fn(cols, rows, |i, j| arr[[j, i]]),
+        // A freshly read array is in standard (C) order; fall back to indexing otherwise.
+        let m = match (self.layout, arr.as_slice()) {
+            // C-order [dim, w]: entry (i, j) at i * w + j.
+            (Layout::Columns, Some(v)) => Mat::from_fn(rows, cols, |i, j| v[i * cols + j]),
+            // C-order [w, dim] is column-major [dim, w]: entry (i, j) at j * dim + i.
+            (Layout::Rows, Some(v)) => Mat::from_fn(cols, rows, |i, j| v[j * cols + i]),
+            (Layout::Columns, None) => Mat::from_fn(rows, cols, |i, j| arr[[i, j]]),
+            (Layout::Rows, None) => Mat::from_fn(cols, rows, |i, j| arr[[j, i]]),
         };
         Ok(m)
     }
