@@ -281,6 +281,19 @@ mod tests {
     }
 
     #[test]
+    fn canonical_prediction_of_the_energy_is_exact() {
+        // A = c·H: ⟨A⟩_β(E) = c·⟨H⟩_β(E) = c·E by the definition of β(E), and the bin mean
+        // of c·Eₙ is c·Ē (definitions; no source needed)
+        let e: Vec<f64> = (0..300).map(|i| (i as f64 * 0.61).sin() * 4.0).collect();
+        let mut e = e;
+        e.sort_by(f64::total_cmp);
+        let a: Vec<f64> = e.iter().map(|x| 0.1 * x).collect();
+        let r = analyse("h", &e, &a, 60..240, "0.2:0.8", Some(300)).unwrap();
+        let c = r.predictions.canonical.unwrap();
+        assert!(c.bins >= 10 && c.max_abs < 1e-9, "{c:?}");
+    }
+
+    #[test]
     fn smooth_linear_observable_has_no_residual() {
         // Aₙₙ = 2Eₙ + 1 is its own smooth part (common practice, no source)
         let e: Vec<f64> = (0..100).map(|i| i as f64 * 0.1).collect();

@@ -168,10 +168,15 @@ pub fn render_text(r: &Report) -> String {
                 "omega", "count", "|A|^2", "stderr", "|f|^2"
             );
             for b in &o.envelope_log {
+                let err = if b.mean_sq_stderr.is_finite() {
+                    format!("{:.1e}", b.mean_sq_stderr)
+                } else {
+                    "-".to_string()
+                };
                 let _ = writeln!(
                     t,
-                    "    {:>11.4e} {:>8} {:>11.4e} {:>11.1e} {:>11.4e}",
-                    b.omega, b.count, b.mean_sq, b.mean_sq_stderr, b.f_sq
+                    "    {:>11.4e} {:>8} {:>11.4e} {:>11} {:>11.4e}",
+                    b.omega, b.count, b.mean_sq, err, b.f_sq
                 );
             }
         }
