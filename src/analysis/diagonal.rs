@@ -291,6 +291,11 @@ mod tests {
         let r = analyse("h", &e, &a, 60..240, "0.2:0.8", Some(300)).unwrap();
         let c = r.predictions.canonical.unwrap();
         assert!(c.bins >= 10 && c.max_abs < 1e-9, "{c:?}");
+        assert!(!r.predictions.partial_basis && r.predictions.note.is_none());
+        // a partial eigenbasis (n < dim) is flagged (DESIGN.md; common practice, no source)
+        let p = analyse("h", &e, &a, 60..240, "0.2:0.8", Some(1000)).unwrap();
+        assert!(p.predictions.partial_basis);
+        assert!(p.predictions.note.unwrap().contains("unreliable"));
     }
 
     #[test]
