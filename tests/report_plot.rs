@@ -44,8 +44,8 @@ fn scaling_plot_log_log_with_errors_and_references() {
     let fit = sample_curve_log(|d| 0.8 * d.powf(-0.5), 200.0, 20000.0, 20);
     let fig = Figure::new("D (Hilbert-space dimension)", "mean |ΔAₙₙ|")
         .axes(Axis::Log, Axis::Log)
-        .add(Series::points("σᶻ (middle site)", pts).with_errors(errs))
-        .add(Series::line("fit ∝ D^(−0.50)", fit).style(Style::Dashed))
+        .series(Series::points("σᶻ (middle site)", pts).with_errors(errs))
+        .series(Series::line("fit ∝ D^(−0.50)", fit).style(Style::Dashed))
         .legend(Legend::UpperRight);
     let svg = fig.to_svg().unwrap();
     save("scaling.svg", &svg);
@@ -78,7 +78,7 @@ fn mean_r_plot_with_reference_lines() {
     // References: <r> Poisson 2 ln 2 - 1, GOE 0.5307, GUE 0.5996 (Atas et al., PRL 110,
     // 084101 (2013); the last two from memory).
     let fig = Figure::new("L (sites)", "⟨r̃⟩")
-        .add(
+        .series(
             Series::points(
                 "even sector",
                 vec![(10.0, 0.51), (12.0, 0.525), (14.0, 0.529)],
@@ -124,11 +124,11 @@ fn spacing_histogram_with_surmises() {
     let pi = std::f64::consts::PI;
     let fig = Figure::new("s (unfolded spacing)", "P(s)")
         .histogram("spacings", bins)
-        .add(Series::line(
+        .series(Series::line(
             "Poisson e^(−s)",
             sample_curve(|x| (-x).exp(), 0.0, 4.0, 100),
         ))
-        .add(Series::line(
+        .series(Series::line(
             "GOE surmise",
             sample_curve(|x| pi * x / 2.0 * (-pi * x * x / 4.0).exp(), 0.0, 4.0, 100),
         ));
@@ -145,7 +145,7 @@ fn lin_log_axes_and_bad_input() {
     // left out, and a figure with nothing to draw is an error, not a panic.
     let fig = Figure::new("ω", "|f(ω)|²")
         .axes(Axis::Linear, Axis::Log)
-        .add(Series::line(
+        .series(Series::line(
             "envelope",
             vec![(0.0, 1e-3), (1.0, 3e-4), (2.0, 0.0), (3.0, 1e-5)],
         ));
@@ -158,12 +158,12 @@ fn lin_log_axes_and_bad_input() {
     );
     let bad = Figure::new("x", "y")
         .axes(Axis::Log, Axis::Log)
-        .add(Series::points("", vec![(-1.0, 2.0), (0.0, 1.0)]));
+        .series(Series::points("", vec![(-1.0, 2.0), (0.0, 1.0)]));
     let err = bad.to_svg().unwrap_err().to_string();
     assert!(err.contains("no point to plot"), "{err}");
     assert!(Figure::new("x", "y")
         .x_range(1.0, 1.0)
-        .add(Series::points("", vec![(1.0, 1.0)]))
+        .series(Series::points("", vec![(1.0, 1.0)]))
         .to_svg()
         .is_err());
 }

@@ -251,7 +251,7 @@ impl Figure {
     }
 
     /// Adds a series.
-    pub fn add(mut self, series: Series) -> Self {
+    pub fn series(mut self, series: Series) -> Self {
         self.series.push(series);
         self
     }
