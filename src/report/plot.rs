@@ -387,9 +387,41 @@ impl Figure {
         };
         let y = match self.y_range {
             Some(r) => check_range(r, ylog).ok_or_else(|| self.error("empty y range"))?,
-            None => auto_range(&ys, ylog).ok_or_else(|| self.error("no point to plot"))?,
+            None => {
+                let r = auto_range(&ys, ylog).ok_or_else(|| self.error("no point to plot"))?;
+                self.legend_room(r, ylog)
+            }
         };
         Ok((x, y))
+    }
+
+    /// Extends an automatic y range so that the legend box sits beside the data rather
+    /// than on it: by a fraction `min(0.6, 0.075·entries + 0.04)` of the new span, at the
+    /// top for an upper legend and at the bottom for a lower one.
+    fn legend_room(&self, (lo, hi): (f64, f64), log: bool) -> (f64, f64) {
+        let entries = self.series.iter().filter(|s| !s.label.is_empty()).count()
+            + usize::from(self.histogram.as_ref().is_some_and(|h| !h.label.is_empty()));
+        if entries == 0 || self.legend == Legend::Hidden {
+            return (lo, hi);
+        }
+        let frac = (0.075 * entries as f64 + 0.04).min(0.6);
+        let upper = matches!(self.legend, Legend::UpperLeft | Legend::UpperRight);
+        let (a, b) = if log {
+            (lo.log10(), hi.log10())
+        } else {
+            (lo, hi)
+        };
+        let extra = (b - a) * frac / (1.0 - frac);
+        let (a, b) = if upper {
+            (a, b + extra)
+        } else {
+            (a - extra, b)
+        };
+        if log {
+            (10f64.powf(a), 10f64.powf(b))
+        } else {
+            (a, b)
+        }
     }
 
     fn draw<XS, YS>(
@@ -492,8 +524,15 @@ impl Figure {
             let style = TextStyle::from(("sans-serif", TICK_FONT).into_font())
                 .color(&grey)
                 .pos(Pos::new(HPos::Right, VPos::Bottom));
+            // Above the line, or below it when the line is near the top of the plot.
             let (px, py) = chart.backend_coord(&(x1, r.y));
-            root.draw(&Text::new(r.label.clone(), (px - 4, py - 2), style))
+            let top = chart.plotting_area().get_pixel_range().1.start;
+            let (style, py) = if py - top < 22 {
+                (style.pos(Pos::new(HPos::Right, VPos::Top)), py + 3)
+            } else {
+                (style, py - 2)
+            };
+            root.draw(&Text::new(r.label.clone(), (px - 4, py), style))
                 .map_err(|x| e(&x))?;
         }
 
