@@ -1,1 +1,948 @@
-//! (Not yet implemented.)
+//! Finite-size scaling: weighted fits, bootstrap errors and the verdict rule.
+//!
+//! # Fits
+//!
+//! A figure `y` measured at several system sizes is fitted to
+//!
+//! - a power law in the Hilbert-space dimension, `y = c · D^(−α)`, i.e. the straight line
+//!   `ln y = ln c − α ln D` ([`fit_power_law`]);
+//! - an exponential in the number of sites, `y = c · e^(−κ L)`, i.e. `ln y = ln c − κ L`
+//!   ([`fit_exponential`]).
+//!
+//! Both are weighted linear least squares of `ln y` on `x` (`x = ln D` or `x = L`). With
+//! per-point uncertainties `σ_y`, the uncertainty of `ln y` is `σ_y / y` (first-order error
+//! propagation) and the weights are `wᵢ = (yᵢ/σ_yᵢ)²`; without them every weight is 1. With
+//! `S = Σ w`, `Sx = Σ w x`, `Sy = Σ w ln y`, `Sxx = Σ w x²`, `Sxy = Σ w x ln y` and
+//! `Δ = S·Sxx − Sx²`, the line `ln y = a + b x` has `b = (S·Sxy − Sx·Sy)/Δ`,
+//! `a = (Sxx·Sy − Sx·Sxy)/Δ`, and the covariance of `(a, b)` is
+//! `Var a = Sxx/Δ`, `Var b = S/Δ`, `Cov(a, b) = −Sx/Δ` (any numerical-methods text, e.g.
+//! Press et al., *Numerical Recipes*, §15.2). `χ² = Σ wᵢ (ln yᵢ − a − b xᵢ)²` and
+//! `dof = points − 2`.
+//!
+//! **Error scaling.** Without input uncertainties the standard errors are scaled by
+//! `√(χ²/dof)` (the scatter about the line sets the error scale: ordinary least squares).
+//! With input uncertainties they are scaled by `S = max(1, √(χ²/dof))`, the scale factor of
+//! the Particle Data Group (Review of Particle Physics, Introduction, "averaging
+//! procedures", from memory): a poor fit inflates the errors, a fit better than the input
+//! errors suggest never shrinks them (with few points `χ²/dof` scatters widely, and
+//! shrinking would give overconfident exponents). With exactly two points (`dof = 0`) the
+//! line passes through both: the errors then come from the input uncertainties alone, and
+//! are NaN when none were given.
+//! The exponent is `α = −b` (or `κ = −b`), the prefactor `c = e^a` with
+//! `σ_c = c · σ_a` (first-order propagation).
+//!
+//! # Bootstrap
+//!
+//! [`bootstrap`] resamples `n` values with replacement `resamples` times
+//! ([`DEFAULT_RESAMPLES`] = 200 by default) from a ChaCha8 generator seeded with `seed`
+//! ([`DEFAULT_SEED`]); the estimate is the statistic of the original sample and the standard
+//! error the sample standard deviation (denominator `B − 1`) of the `B` resampled statistics
+//! (Efron & Tibshirani, *An Introduction to the Bootstrap*, 1993, ch. 6).
+//! [`block_bootstrap`] is the moving-block bootstrap for correlated sequences (Künsch,
+//! Ann. Stat. 17, 1217 (1989)): it draws `⌈n/ℓ⌉` blocks of `ℓ` consecutive values at
+//! uniformly random start positions `0 ..= n − ℓ`, concatenates them and truncates to `n`.
+//! Differences of consecutive eigenstate values, `Aₙ₊₁,ₙ₊₁ − Aₙₙ`, share a state with their
+//! neighbours and are correlated at lag 1; [`default_block_length`] gives
+//! `ℓ = max(2, ⌈n^(1/3)⌉)`, the usual `n^(1/3)` growth rate of the block length
+//! (Hall, Horowitz & Jing, Biometrika 82, 561 (1995)).
+//!
+//! # Verdict
+//!
+//! [`decide`] turns the evidence into [`Verdict::Thermalizes`],
+//! [`Verdict::DoesNotThermalize`] or [`Verdict::Inconclusive`] by the rule written out in
+//! [`RULE`] (reproduced in the doc comment of [`decide`]), with all thresholds in
+//! [`VerdictThresholds`]. Every verdict carries a finite-size caveat.
+
+use crate::error::{Error, Result};
+use rand::Rng;
+use serde::Serialize;
+
+/// Resamples used by the bootstrap when the caller has no reason to choose: 200.
+pub const DEFAULT_RESAMPLES: usize = 200;
+
+/// Seed of the bootstrap generator when the caller does not give one (fixed, so that
+/// reports are reproducible run to run).
+pub const DEFAULT_SEED: u64 = 0x5EED_2014;
+
+/// Which scaling law was fitted.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FitModel {
+    /// `y = c · D^(−α)` against the Hilbert-space dimension `D`.
+    PowerLaw,
+    /// `y = c · e^(−κ L)` against the number of sites `L`.
+    Exponential,
+}
+
+/// Result of a weighted straight-line fit of `ln y` (see the module documentation).
+#[derive(Debug, Clone, Serialize)]
+pub struct ScalingFit {
+    /// The law fitted.
+    pub model: FitModel,
+    /// `α` of `y ∝ D^(−α)` or `κ` of `y ∝ e^(−κ L)` (minus the slope of `ln y`).
+    pub exponent: f64,
+    /// Standard error of `exponent` (scaled as described in the module docs).
+    pub exponent_stderr: f64,
+    /// Prefactor `c = e^a`.
+    pub prefactor: f64,
+    /// Standard error of the prefactor, `c · σ_a`.
+    pub prefactor_stderr: f64,
+    /// Intercept `a = ln c`.
+    pub ln_prefactor: f64,
+    /// Standard error of `a`.
+    pub ln_prefactor_stderr: f64,
+    /// Covariance of `(a, exponent)`, scaled like the errors.
+    pub covariance: f64,
+    /// `χ² = Σ wᵢ (ln yᵢ − a − b xᵢ)²` (with unit weights when no errors were given).
+    pub chi2: f64,
+    /// `χ²/dof`, NaN when `dof = 0`.
+    pub chi2_per_dof: f64,
+    /// Degrees of freedom, `points − 2`.
+    pub dof: usize,
+    /// Number of points fitted.
+    pub points: usize,
+    /// Whether per-point uncertainties were used as weights.
+    pub weighted: bool,
+}
+
+impl ScalingFit {
+    /// The fitted figure at `x` (a dimension `D` for a power law, a size `L` for an
+    /// exponential): `c · D^(−α)` or `c · e^(−κ L)`.
+    pub fn predict(&self, x: f64) -> f64 {
+        match self.model {
+            FitModel::PowerLaw => (self.ln_prefactor - self.exponent * x.ln()).exp(),
+            FitModel::Exponential => (self.ln_prefactor - self.exponent * x).exp(),
+        }
+    }
+}
+
+/// Fits `y = c · D^(−α)`: weighted least squares of `ln y` against `ln D` (module docs).
+///
+/// `dims` and `figures` must be positive and finite, with at least two distinct dimensions;
+/// `errors`, when given, are the standard errors `σ_y` (positive and finite).
+pub fn fit_power_law(dims: &[f64], figures: &[f64], errors: Option<&[f64]>) -> Result<ScalingFit> {
+    if let Some((i, d)) = dims
+        .iter()
+        .enumerate()
+        .find(|(_, d)| !(d.is_finite() && **d > 0.0))
+    {
+        return Err(Error::other(format!(
+            "power-law fit: dimension {d} of point {i} is not positive"
+        )));
+    }
+    let x: Vec<f64> = dims.iter().map(|d| d.ln()).collect();
+    fit_log_line(FitModel::PowerLaw, &x, figures, errors)
+}
+
+/// Fits `y = c · e^(−κ L)`: weighted least squares of `ln y` against `L` (module docs).
+///
+/// Same requirements as [`fit_power_law`], with sizes `L` finite (any sign).
+pub fn fit_exponential(
+    sizes: &[f64],
+    figures: &[f64],
+    errors: Option<&[f64]>,
+) -> Result<ScalingFit> {
+    if let Some((i, l)) = sizes.iter().enumerate().find(|(_, l)| !l.is_finite()) {
+        return Err(Error::other(format!(
+            "exponential fit: size {l} of point {i} is not finite"
+        )));
+    }
+    fit_log_line(FitModel::Exponential, sizes, figures, errors)
+}
+
+fn fit_log_line(
+    model: FitModel,
+    x: &[f64],
+    y: &[f64],
+    errors: Option<&[f64]>,
+) -> Result<ScalingFit> {
+    let what = match model {
+        FitModel::PowerLaw => "power-law fit",
+        FitModel::Exponential => "exponential fit",
+    };
+    if x.len() != y.len() {
+        return Err(Error::other(format!(
+            "{what}: {} abscissae but {} figures",
+            x.len(),
+            y.len()
+        )));
+    }
+    if let Some(e) = errors {
+        if e.len() != y.len() {
+            return Err(Error::other(format!(
+                "{what}: {} uncertainties for {} figures",
+                e.len(),
+                y.len()
+            )));
+        }
+    }
+    if y.len() < 2 {
+        return Err(Error::other(format!(
+            "{what}: needs at least two sizes, got {}",
+            y.len()
+        )));
+    }
+    if let Some((i, v)) = y
+        .iter()
+        .enumerate()
+        .find(|(_, v)| !(v.is_finite() && **v > 0.0))
+    {
+        return Err(Error::other(format!(
+            "{what}: figure {v} of point {i} is not positive (a logarithm is taken)"
+        )));
+    }
+    let mut w = vec![1.0; y.len()];
+    if let Some(e) = errors {
+        for (i, (&s, &v)) in e.iter().zip(y).enumerate() {
+            if !(s.is_finite() && s > 0.0) {
+                return Err(Error::other(format!(
+                    "{what}: uncertainty {s} of point {i} is not positive"
+                )));
+            }
+            let sl = s / v;
+            w[i] = 1.0 / (sl * sl);
+        }
+    }
+    let ly: Vec<f64> = y.iter().map(|v| v.ln()).collect();
+    let (mut s, mut sx, mut sy, mut sxx, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for i in 0..y.len() {
+        s += w[i];
+        sx += w[i] * x[i];
+        sy += w[i] * ly[i];
+        sxx += w[i] * x[i] * x[i];
+        sxy += w[i] * x[i] * ly[i];
+    }
+    let delta = s * sxx - sx * sx;
+    let spread = sxx / s - (sx / s).powi(2);
+    let degenerate = delta.is_nan()
+        || delta <= 0.0
+        || spread.is_nan()
+        || spread <= 1e-14 * (sxx / s).abs().max(1e-300);
+    if degenerate {
+        return Err(Error::other(format!(
+            "{what}: all points have the same size, the exponent is undetermined"
+        )));
+    }
+    let b = (s * sxy - sx * sy) / delta;
+    let a = (sxx * sy - sx * sxy) / delta;
+    let chi2: f64 = (0..y.len())
+        .map(|i| w[i] * (ly[i] - a - b * x[i]).powi(2))
+        .sum();
+    let dof = y.len() - 2;
+    let (chi2_per_dof, scale) = if dof > 0 {
+        let r = chi2 / dof as f64;
+        if errors.is_some() {
+            (r, r.max(1.0))
+        } else {
+            (r, r)
+        }
+    } else if errors.is_some() {
+        (f64::NAN, 1.0)
+    } else {
+        (f64::NAN, f64::NAN)
+    };
+    let var_a = sxx / delta * scale;
+    let var_b = s / delta * scale;
+    let cov_ab = -sx / delta * scale;
+    let c = a.exp();
+    Ok(ScalingFit {
+        model,
+        exponent: -b,
+        exponent_stderr: var_b.sqrt(),
+        prefactor: c,
+        prefactor_stderr: c * var_a.sqrt(),
+        ln_prefactor: a,
+        ln_prefactor_stderr: var_a.sqrt(),
+        covariance: -cov_ab,
+        chi2,
+        chi2_per_dof,
+        dof,
+        points: y.len(),
+        weighted: errors.is_some(),
+    })
+}
+
+/// Nonparametric bootstrap of `statistic` over independent `samples`.
+///
+/// Returns `(statistic(samples), σ*)` where `σ*` is the standard deviation (denominator
+/// `B − 1`) of the statistic over `B = resamples` resamples drawn with replacement from a
+/// ChaCha8 generator seeded with `seed` (module docs). With fewer than two samples or
+/// fewer than two resamples the error is NaN. Use [`DEFAULT_RESAMPLES`] and
+/// [`DEFAULT_SEED`] unless there is a reason not to.
+pub fn bootstrap(
+    samples: &[f64],
+    statistic: impl Fn(&[f64]) -> f64,
+    resamples: usize,
+    seed: u64,
+) -> (f64, f64) {
+    let estimate = statistic(samples);
+    let n = samples.len();
+    if n < 2 || resamples < 2 {
+        return (estimate, f64::NAN);
+    }
+    let mut rng = crate::model::rmt::rng(seed);
+    let mut buf = vec![0.0; n];
+    let stats: Vec<f64> = (0..resamples)
+        .map(|_| {
+            for slot in buf.iter_mut() {
+                *slot = samples[rng.random_range(0..n)];
+            }
+            statistic(&buf)
+        })
+        .collect();
+    (estimate, sample_std(&stats))
+}
+
+/// Block length used by [`block_bootstrap`] when the caller has no better choice:
+/// `max(2, ⌈n^(1/3)⌉)`, capped at `n` (module docs).
+pub fn default_block_length(n: usize) -> usize {
+    let l = (n as f64).cbrt().ceil() as usize;
+    l.max(2).min(n.max(1))
+}
+
+/// Moving-block bootstrap of `statistic` over a correlated sequence.
+///
+/// Each resample concatenates `⌈n/ℓ⌉` blocks `samples[s .. s+ℓ]` with `s` uniform in
+/// `0 ..= n − ℓ` and truncates to `n` values (Künsch 1989). Returns
+/// `(statistic(samples), σ*)` as [`bootstrap`]; `block_len` is clamped to `1 ..= n`
+/// (`ℓ = 1` is the ordinary bootstrap).
+pub fn block_bootstrap(
+    samples: &[f64],
+    statistic: impl Fn(&[f64]) -> f64,
+    block_len: usize,
+    resamples: usize,
+    seed: u64,
+) -> (f64, f64) {
+    let estimate = statistic(samples);
+    let n = samples.len();
+    if n < 2 || resamples < 2 {
+        return (estimate, f64::NAN);
+    }
+    let l = block_len.clamp(1, n);
+    let starts = n - l + 1;
+    let mut rng = crate::model::rmt::rng(seed);
+    let mut buf = Vec::with_capacity(n + l);
+    let stats: Vec<f64> = (0..resamples)
+        .map(|_| {
+            buf.clear();
+            while buf.len() < n {
+                let s = rng.random_range(0..starts);
+                buf.extend_from_slice(&samples[s..s + l]);
+            }
+            buf.truncate(n);
+            statistic(&buf)
+        })
+        .collect();
+    (estimate, sample_std(&stats))
+}
+
+/// Arithmetic mean (NaN for an empty slice); a convenient bootstrap statistic.
+pub fn mean(x: &[f64]) -> f64 {
+    x.iter().sum::<f64>() / x.len() as f64
+}
+
+fn sample_std(x: &[f64]) -> f64 {
+    let m = mean(x);
+    let ss: f64 = x.iter().map(|v| (v - m).powi(2)).sum();
+    (ss / (x.len() as f64 - 1.0)).sqrt()
+}
+
+// ---------------------------------------------------------------------------------------
+// Verdict
+// ---------------------------------------------------------------------------------------
+
+/// ⟨r̃⟩ of uncorrelated (Poisson) levels, `2 ln 2 − 1` (Atas, Bogomolny, Giraud, Roux,
+/// PRL 110, 084101 (2013)).
+pub const MEAN_R_POISSON: f64 = 0.386_294_361_119_890_6;
+/// ⟨r̃⟩ of large GOE matrices, 0.5307(1) (Atas et al. 2013, from memory).
+pub const MEAN_R_GOE: f64 = 0.5307;
+/// ⟨r̃⟩ of large GUE matrices, 0.5996(1) (Atas et al. 2013, from memory).
+pub const MEAN_R_GUE: f64 = 0.5996;
+
+/// The overall answer.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Verdict {
+    /// The evidence is consistent with ETH and chaotic level statistics.
+    Thermalizes,
+    /// The evidence contradicts thermalization of this observable.
+    DoesNotThermalize,
+    /// Missing, too uncertain or contradictory evidence.
+    Inconclusive,
+}
+
+impl std::fmt::Display for Verdict {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            Verdict::Thermalizes => "thermalizes",
+            Verdict::DoesNotThermalize => "does not thermalize",
+            Verdict::Inconclusive => "inconclusive",
+        })
+    }
+}
+
+/// Whether the system is real (time-reversal symmetric: GOE references, ratio 2) or
+/// complex (GUE references, ratio 1).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Symmetry {
+    /// Real symmetric Hamiltonian and observable.
+    Real,
+    /// Complex Hermitian.
+    Complex,
+}
+
+/// One size's mean level-spacing ratio.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct RatioAtSize {
+    /// Hilbert-space dimension of the sector.
+    pub dimension: f64,
+    /// Mean ⟨r̃⟩ in the window.
+    pub mean_r: f64,
+    /// Its standard error.
+    pub stderr: f64,
+}
+
+/// A fitted exponent with its error and the value ETH predicts for it.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct ExponentEvidence {
+    /// Measured `α` of `figure ∝ D^(−α)`.
+    pub alpha: f64,
+    /// Its standard error.
+    pub stderr: f64,
+    /// The ETH expectation `α₀`.
+    pub expected: f64,
+}
+
+impl ExponentEvidence {
+    /// Exponent of `fluct_variance ∝ D^(−α)`: ETH expects `α₀ = 1`.
+    pub fn variance(alpha: f64, stderr: f64) -> Self {
+        Self {
+            alpha,
+            stderr,
+            expected: 1.0,
+        }
+    }
+    /// Exponent of a difference figure (`diff_mean_abs`) `∝ D^(−α)`: ETH expects `α₀ = 1/2`.
+    pub fn difference(alpha: f64, stderr: f64) -> Self {
+        Self {
+            alpha,
+            stderr,
+            expected: 0.5,
+        }
+    }
+}
+
+/// Deviation of the smooth `A(E)` in the window from the canonical prediction.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct CanonicalDeviation {
+    /// `|Ā − A_can|`, the eigenstate average in the window minus the canonical value at the
+    /// same mean energy (largest size).
+    pub deviation: f64,
+    /// A natural scale of the observable to make it relative, e.g. the width
+    /// `max − min` of its spectrum (2 for a Pauli operator) or its operator norm.
+    pub scale: f64,
+}
+
+/// Low-frequency ratio `fluct_variance / low_omega_variance` with its error.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct RatioEvidence {
+    /// Measured ratio (largest size).
+    pub ratio: f64,
+    /// Its standard error (NaN if unknown: then only the wide band counts).
+    pub stderr: f64,
+}
+
+/// Everything [`decide`] looks at. Missing pieces are `None` / empty.
+#[derive(Debug, Clone, Serialize)]
+pub struct VerdictInputs {
+    /// Real or complex system (selects the GOE or GUE reference and the ratio 2 or 1).
+    pub symmetry: Symmetry,
+    /// ⟨r̃⟩ per size (any order).
+    pub mean_r: Vec<RatioAtSize>,
+    /// Fluctuation exponent across sizes.
+    pub fluctuation: Option<ExponentEvidence>,
+    /// Deviation from the canonical prediction.
+    pub canonical: Option<CanonicalDeviation>,
+    /// Diagonal / low-ω off-diagonal variance ratio.
+    pub low_omega_ratio: Option<RatioEvidence>,
+}
+
+/// Thresholds of the verdict rule (defaults as in [`RULE`]).
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct VerdictThresholds {
+    /// Level criterion passes when `η ≥ level_chaotic` (η = position of ⟨r̃⟩ between the
+    /// Poisson (0) and GOE/GUE (1) references at the largest size).
+    pub level_chaotic: f64,
+    /// Level criterion fails when `η ≤ level_poisson`.
+    pub level_poisson: f64,
+    /// ... or when η falls from the smallest to the largest size by more than this and
+    /// by more than `sigmas` standard errors.
+    pub level_drift: f64,
+    /// Number of standard errors used in the comparisons.
+    pub sigmas: f64,
+    /// Fluctuation exponent too uncertain when `σ_α > exponent_max_rel_err · α₀`.
+    pub exponent_max_rel_err: f64,
+    /// Fluctuation criterion passes when `α + sigmas·σ_α ≥ exponent_pass · α₀`.
+    pub exponent_pass: f64,
+    /// Fluctuation criterion fails when `α + sigmas·σ_α < exponent_fail · α₀`.
+    pub exponent_fail: f64,
+    /// Canonical criterion passes when the relative deviation is `≤ canonical_pass`.
+    pub canonical_pass: f64,
+    /// Canonical criterion fails when the relative deviation is `> canonical_fail`.
+    pub canonical_fail: f64,
+    /// Ratio criterion passes when `|ρ − ρ₀| ≤ max(sigmas·σ_ρ, ratio_pass · ρ₀)`.
+    pub ratio_pass: f64,
+    /// Ratio criterion fails when `|ρ − ρ₀| > ratio_fail · ρ₀ + sigmas·σ_ρ`.
+    pub ratio_fail: f64,
+}
+
+impl Default for VerdictThresholds {
+    fn default() -> Self {
+        Self {
+            level_chaotic: 0.75,
+            level_poisson: 0.25,
+            level_drift: 0.1,
+            sigmas: 2.0,
+            exponent_max_rel_err: 0.25,
+            exponent_pass: 0.75,
+            exponent_fail: 0.25,
+            canonical_pass: 0.05,
+            canonical_fail: 0.2,
+            ratio_pass: 0.25,
+            ratio_fail: 0.5,
+        }
+    }
+}
+
+/// The verdict rule in words, with the default thresholds (printed with every verdict).
+pub const RULE: &str = "\
+Verdict rule (defaults). References: <r> = 0.3863 (Poisson), 0.5307 (GOE, real systems), \
+0.5996 (GUE, complex systems); eta = (<r> - 0.3863)/(r_chaos - 0.3863) at the largest size. \
+[L] level statistics: pass if eta >= 0.75; fail if eta <= 0.25, or if eta falls from the \
+smallest to the largest size by more than 0.1 and by more than 2 standard errors; otherwise \
+unclear (also when missing). \
+[F] fluctuations (ETH: fluct_variance ~ D^-1, alpha0 = 1; difference figures ~ D^-1/2, \
+alpha0 = 0.5): unclear if sigma_alpha > 0.25*alpha0 or missing; else pass if \
+alpha + 2*sigma_alpha >= 0.75*alpha0; fail if alpha + 2*sigma_alpha < 0.25*alpha0; \
+otherwise unclear. \
+[C] canonical: relative deviation |A - A_can|/scale: pass if <= 0.05, fail if > 0.2, \
+otherwise unclear (also when missing). \
+[R] low-omega ratio fluct_variance/low_omega_variance vs rho0 = 2 (real) or 1 (complex): \
+pass if |rho - rho0| <= max(2*sigma_rho, 0.25*rho0); fail if |rho - rho0| > 0.5*rho0 + \
+2*sigma_rho; otherwise unclear (also when missing). \
+Thermalizes: L and F pass and neither C nor R fails. \
+Does not thermalize: F fails; or L fails and F does not pass; or C fails and F does not pass. \
+Otherwise inconclusive (missing, uncertain or contradictory evidence).";
+
+/// Outcome of one criterion.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Outcome {
+    /// Consistent with thermalization.
+    Pass,
+    /// Contradicts thermalization.
+    Fail,
+    /// Missing or too uncertain.
+    Unclear,
+}
+
+impl Outcome {
+    /// `pass`, `fail` or `unclear`.
+    pub fn label(self) -> &'static str {
+        match self {
+            Outcome::Pass => "pass",
+            Outcome::Fail => "fail",
+            Outcome::Unclear => "unclear",
+        }
+    }
+}
+
+/// One criterion's outcome and why.
+#[derive(Debug, Clone, Serialize)]
+pub struct Criterion {
+    /// Short name: `levels`, `fluctuations`, `canonical`, `low_omega_ratio`.
+    pub name: &'static str,
+    /// The outcome.
+    pub outcome: Outcome,
+    /// One sentence with the numbers compared.
+    pub reason: String,
+}
+
+/// A verdict with its evidence, thresholds, rule and caveat.
+#[derive(Debug, Clone, Serialize)]
+pub struct VerdictReport {
+    /// The answer.
+    pub verdict: Verdict,
+    /// One line per criterion, in the order levels, fluctuations, canonical, ratio.
+    pub reasons: Vec<String>,
+    /// The four criteria.
+    pub criteria: Vec<Criterion>,
+    /// The thresholds used.
+    pub thresholds: VerdictThresholds,
+    /// The rule in words (with default thresholds: [`RULE`]).
+    pub rule: String,
+    /// Finite-size caveat (always present).
+    pub caveat: String,
+}
+
+/// Applies the verdict rule with the default thresholds ([`decide_with`]).
+///
+/// The rule (same as [`RULE`]); `η = (⟨r̃⟩ − 0.3863)/(r_chaos − 0.3863)` at the largest
+/// dimension, with `r_chaos = 0.5307` (GOE, real) or `0.5996` (GUE, complex):
+///
+/// - **L** (levels): pass if `η ≥ 0.75`; fail if `η ≤ 0.25`, or if `η` falls from the
+///   smallest to the largest size by more than 0.1 and by more than 2 standard errors;
+///   otherwise (or missing) unclear.
+/// - **F** (fluctuations, `α₀ = 1` for `fluct_variance ∝ D^(−1)`, `α₀ = 1/2` for the
+///   difference figures, Kim, Ikeda, Huse PRE 90, 052105 (2014); Beugeling, Moessner,
+///   Haque PRE 89, 042112 (2014), from memory): unclear if `σ_α > 0.25 α₀` (or missing);
+///   else pass if `α + 2σ_α ≥ 0.75 α₀`, fail if `α + 2σ_α < 0.25 α₀`, otherwise unclear.
+/// - **C** (canonical): relative deviation `|Ā − A_can|/scale`: pass if `≤ 0.05`,
+///   fail if `> 0.2`, otherwise (or missing) unclear.
+/// - **R** (low-ω ratio vs `ρ₀ = 2` real / `1` complex, D'Alessio et al., Adv. Phys. 65,
+///   239 (2016)): pass if `|ρ − ρ₀| ≤ max(2σ_ρ, 0.25 ρ₀)`; fail if
+///   `|ρ − ρ₀| > 0.5 ρ₀ + 2σ_ρ`; otherwise (or missing) unclear.
+///
+/// **Thermalizes** iff L and F pass and neither C nor R fails. **Does not thermalize** iff F
+/// fails, or L fails and F does not pass, or C fails and F does not pass. Otherwise
+/// **inconclusive**. A single size never gives F, so it is never enough to conclude
+/// "thermalizes".
+pub fn decide(inputs: &VerdictInputs) -> VerdictReport {
+    decide_with(inputs, &VerdictThresholds::default())
+}
+
+/// [`decide`] with explicit thresholds (the rule text then quotes the defaults, and the
+/// thresholds actually used are in [`VerdictReport::thresholds`]).
+pub fn decide_with(inputs: &VerdictInputs, t: &VerdictThresholds) -> VerdictReport {
+    let levels = level_criterion(inputs, t);
+    let fluct = fluctuation_criterion(inputs, t);
+    let canon = canonical_criterion(inputs, t);
+    let ratio = ratio_criterion(inputs, t);
+    use Outcome::*;
+    let verdict = if levels.outcome == Pass
+        && fluct.outcome == Pass
+        && canon.outcome != Fail
+        && ratio.outcome != Fail
+    {
+        Verdict::Thermalizes
+    } else if fluct.outcome == Fail
+        || (levels.outcome == Fail && fluct.outcome != Pass)
+        || (canon.outcome == Fail && fluct.outcome != Pass)
+    {
+        Verdict::DoesNotThermalize
+    } else {
+        Verdict::Inconclusive
+    };
+    let criteria = vec![levels, fluct, canon, ratio];
+    let reasons = criteria
+        .iter()
+        .map(|c| format!("[{}] {}: {}", c.name, c.outcome.label(), c.reason))
+        .collect();
+    VerdictReport {
+        verdict,
+        reasons,
+        criteria,
+        thresholds: *t,
+        rule: RULE.to_string(),
+        caveat: caveat(inputs),
+    }
+}
+
+fn caveat(inputs: &VerdictInputs) -> String {
+    let n = inputs.mean_r.len();
+    let dmax = inputs
+        .mean_r
+        .iter()
+        .map(|p| p.dimension)
+        .fold(f64::NAN, f64::max);
+    let sizes = if n == 0 {
+        "no level statistics were given".to_string()
+    } else {
+        format!("{n} size(s), largest dimension D = {dmax}")
+    };
+    format!(
+        "Finite-size evidence only ({sizes}): exponents fitted over few sizes can drift as \
+         sizes grow, and slow (e.g. near-integrable or many-body-localized) dynamics can look \
+         either way at accessible sizes; this is numerical evidence about finite systems, \
+         not a proof."
+    )
+}
+
+fn chaos_reference(s: Symmetry) -> (f64, &'static str) {
+    match s {
+        Symmetry::Real => (MEAN_R_GOE, "GOE"),
+        Symmetry::Complex => (MEAN_R_GUE, "GUE"),
+    }
+}
+
+fn level_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
+    let name = "levels";
+    let pts: Vec<&RatioAtSize> = inputs
+        .mean_r
+        .iter()
+        .filter(|p| p.mean_r.is_finite() && p.dimension.is_finite())
+        .collect();
+    let (rc, ens) = chaos_reference(inputs.symmetry);
+    let span = rc - MEAN_R_POISSON;
+    let eta = |r: f64| (r - MEAN_R_POISSON) / span;
+    let Some(largest) = pts
+        .iter()
+        .max_by(|a, b| a.dimension.total_cmp(&b.dimension))
+    else {
+        return Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: "no level statistics".into(),
+        };
+    };
+    let smallest = pts
+        .iter()
+        .min_by(|a, b| a.dimension.total_cmp(&b.dimension))
+        .unwrap_or(largest);
+    let e_l = eta(largest.mean_r);
+    let head = format!(
+        "<r> = {:.4} at D = {} gives eta = {:.2} between Poisson (0) and {ens} (1)",
+        largest.mean_r, largest.dimension, e_l
+    );
+    if e_l >= t.level_chaotic {
+        return Criterion {
+            name,
+            outcome: Outcome::Pass,
+            reason: format!("{head} >= {}", t.level_chaotic),
+        };
+    }
+    if e_l <= t.level_poisson {
+        return Criterion {
+            name,
+            outcome: Outcome::Fail,
+            reason: format!("{head} <= {}", t.level_poisson),
+        };
+    }
+    if smallest.dimension < largest.dimension {
+        let e_s = eta(smallest.mean_r);
+        let drop = e_s - e_l;
+        let err = (smallest.stderr.powi(2) + largest.stderr.powi(2)).sqrt() / span;
+        let err = if err.is_finite() { err } else { 0.0 };
+        if drop > t.level_drift && drop > t.sigmas * err {
+            return Criterion {
+                name,
+                outcome: Outcome::Fail,
+                reason: format!(
+                    "{head}, falling from {:.2} at D = {} (by {:.2} > {} and > {} x {:.2}): flows towards Poisson",
+                    e_s, smallest.dimension, drop, t.level_drift, t.sigmas, err
+                ),
+            };
+        }
+    }
+    Criterion {
+        name,
+        outcome: Outcome::Unclear,
+        reason: format!(
+            "{head}, between {} and {}",
+            t.level_poisson, t.level_chaotic
+        ),
+    }
+}
+
+fn fluctuation_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
+    let name = "fluctuations";
+    let Some(f) = inputs.fluctuation else {
+        return Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: "no fluctuation exponent (needs two or more sizes)".into(),
+        };
+    };
+    let head = format!(
+        "alpha = {:.3} +- {:.3} (ETH: {})",
+        f.alpha, f.stderr, f.expected
+    );
+    if !(f.alpha.is_finite() && f.stderr.is_finite())
+        || f.stderr > t.exponent_max_rel_err * f.expected
+    {
+        return Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: format!(
+                "{head}: error larger than {} x {}",
+                t.exponent_max_rel_err, f.expected
+            ),
+        };
+    }
+    let upper = f.alpha + t.sigmas * f.stderr;
+    if upper >= t.exponent_pass * f.expected {
+        Criterion {
+            name,
+            outcome: Outcome::Pass,
+            reason: format!(
+                "{head}: alpha + {}sigma = {upper:.3} >= {} x {}",
+                t.sigmas, t.exponent_pass, f.expected
+            ),
+        }
+    } else if upper < t.exponent_fail * f.expected {
+        Criterion {
+            name,
+            outcome: Outcome::Fail,
+            reason: format!(
+                "{head}: alpha + {}sigma = {upper:.3} < {} x {}: fluctuations do not decay like ETH",
+                t.sigmas, t.exponent_fail, f.expected
+            ),
+        }
+    } else {
+        Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: format!(
+                "{head}: alpha + {}sigma = {upper:.3} between {} and {} x {}",
+                t.sigmas, t.exponent_fail, t.exponent_pass, f.expected
+            ),
+        }
+    }
+}
+
+fn canonical_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
+    let name = "canonical";
+    let Some(c) = inputs.canonical else {
+        return Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: "no canonical comparison".into(),
+        };
+    };
+    let rel = c.deviation.abs() / c.scale;
+    if !rel.is_finite() {
+        return Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: format!(
+                "relative deviation {} / {} is not a number",
+                c.deviation, c.scale
+            ),
+        };
+    }
+    let head = format!(
+        "|A - A_can| / scale = {:.3e} / {} = {:.3}",
+        c.deviation.abs(),
+        c.scale,
+        rel
+    );
+    if rel <= t.canonical_pass {
+        Criterion {
+            name,
+            outcome: Outcome::Pass,
+            reason: format!("{head} <= {}", t.canonical_pass),
+        }
+    } else if rel > t.canonical_fail {
+        Criterion {
+            name,
+            outcome: Outcome::Fail,
+            reason: format!("{head} > {}", t.canonical_fail),
+        }
+    } else {
+        Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: format!(
+                "{head}, between {} and {}",
+                t.canonical_pass, t.canonical_fail
+            ),
+        }
+    }
+}
+
+fn ratio_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
+    let name = "low_omega_ratio";
+    let Some(r) = inputs.low_omega_ratio else {
+        return Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: "no low-omega ratio".into(),
+        };
+    };
+    let rho0 = match inputs.symmetry {
+        Symmetry::Real => 2.0,
+        Symmetry::Complex => 1.0,
+    };
+    if !r.ratio.is_finite() {
+        return Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: format!("ratio {} is not a number", r.ratio),
+        };
+    }
+    let sig = if r.stderr.is_finite() { r.stderr } else { 0.0 };
+    let dev = (r.ratio - rho0).abs();
+    let head = format!(
+        "ratio = {:.3} +- {:.3} vs {rho0}: |dev| = {dev:.3}",
+        r.ratio, r.stderr
+    );
+    let pass_band = (t.sigmas * sig).max(t.ratio_pass * rho0);
+    let fail_band = t.ratio_fail * rho0 + t.sigmas * sig;
+    if dev <= pass_band {
+        Criterion {
+            name,
+            outcome: Outcome::Pass,
+            reason: format!("{head} <= {pass_band:.3}"),
+        }
+    } else if dev > fail_band {
+        Criterion {
+            name,
+            outcome: Outcome::Fail,
+            reason: format!("{head} > {fail_band:.3}"),
+        }
+    } else {
+        Criterion {
+            name,
+            outcome: Outcome::Unclear,
+            reason: format!("{head} between {pass_band:.3} and {fail_band:.3}"),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn exact_power_law_two_points() {
+        // Exact data y = 3 D^(-0.5): linear algebra identity, no source needed.
+        let d = [64.0, 1024.0];
+        let y: Vec<f64> = d.iter().map(|x: &f64| 3.0 * x.powf(-0.5)).collect();
+        let f = fit_power_law(&d, &y, None).unwrap();
+        assert!((f.exponent - 0.5).abs() < 1e-12);
+        assert!((f.prefactor - 3.0).abs() < 1e-10);
+        assert_eq!(f.dof, 0);
+        assert!(f.exponent_stderr.is_nan());
+    }
+
+    #[test]
+    fn rejects_bad_input() {
+        // Common practice, no source: logarithms of non-positive figures are undefined.
+        assert!(fit_power_law(&[1.0, 2.0], &[1.0, 0.0], None).is_err());
+        assert!(fit_power_law(&[4.0, 4.0], &[1.0, 2.0], None).is_err());
+        assert!(fit_power_law(&[4.0], &[1.0], None).is_err());
+        assert!(fit_power_law(&[4.0, 8.0], &[1.0, 2.0], Some(&[0.1, 0.0])).is_err());
+    }
+
+    #[test]
+    fn rule_text_quotes_default_thresholds() {
+        // Common practice, no source: the printed rule must match the thresholds in use.
+        let t = VerdictThresholds::default();
+        for v in [
+            t.level_chaotic,
+            t.level_poisson,
+            t.level_drift,
+            t.exponent_max_rel_err,
+            t.exponent_pass,
+            t.exponent_fail,
+            t.canonical_pass,
+            t.canonical_fail,
+            t.ratio_pass,
+            t.ratio_fail,
+        ] {
+            assert!(RULE.contains(&format!("{v}")), "{v} missing from RULE");
+        }
+        assert!(RULE.contains(&format!("{} standard errors", t.sigmas)));
+    }
+}

@@ -1,1 +1,761 @@
-//! (Not yet implemented.)
+//! SVG figures (plotters, SVG backend, rendered to a `String`).
+//!
+//! One generic [`Figure`] covers what the reports need: scatter and line [`Series`] with
+//! optional vertical error bars and a legend, linear or logarithmic axes ([`Axis`]),
+//! labelled horizontal reference lines ([`RefLine`], e.g. ⟨r̃⟩ of Poisson/GOE/GUE), and
+//! histograms ([`Bin`]s drawn as bars, e.g. a spacing distribution) with overlaid curves
+//! (e.g. the Wigner surmises, [`sample_curve`]).
+//!
+//! On a logarithmic axis, points with a non-positive coordinate cannot be placed and are
+//! left out; the lower end of an error bar below the axis minimum is clipped to it.
+//! Automatic ranges enclose every point, error bar, bar and reference line, padded by 5 %
+//! of the span (of `log₁₀` on log axes).
+//!
+//! Text needs no system font: the SVG backend writes `<text>` elements with a generic
+//! `sans-serif` family, and plotters (built without its `ttf` feature) only estimates text
+//! extents for layout. Sizes are chosen for a paper column: 480×360 px by default, tick
+//! labels 14.5 px and axis labels 16 px in the SVG (plotters writes `font-size` as the
+//! requested size / 1.24).
+
+use crate::error::{Error, Result};
+use plotters::coord::ranged1d::{AsRangedCoord, ValueFormatter};
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+use serde::Serialize;
+
+/// Default figure width in pixels.
+pub const WIDTH: u32 = 480;
+/// Default figure height in pixels.
+pub const HEIGHT: u32 = 360;
+
+/// Requested size of tick labels and legend text (SVG `font-size` = 18 / 1.24 ≈ 14.5 px).
+const TICK_FONT: f64 = 18.0;
+/// Requested size of axis labels and the title (SVG `font-size` = 20 / 1.24 ≈ 16.1 px).
+const LABEL_FONT: f64 = 20.0;
+
+/// Colour-blind-safe palette (Okabe & Ito, "Color Universal Design", 2008).
+const PALETTE: [(u8, u8, u8); 8] = [
+    (0, 114, 178),
+    (213, 94, 0),
+    (0, 158, 115),
+    (204, 121, 167),
+    (230, 159, 0),
+    (86, 180, 233),
+    (0, 0, 0),
+    (240, 228, 66),
+];
+
+fn palette(i: usize) -> RGBColor {
+    let (r, g, b) = PALETTE[i % PALETTE.len()];
+    RGBColor(r, g, b)
+}
+
+/// Axis scale.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Axis {
+    /// Linear.
+    Linear,
+    /// Logarithmic (base 10 ticks).
+    Log,
+}
+
+/// How a series is drawn.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Style {
+    /// Markers only.
+    Points,
+    /// A solid line only.
+    Line,
+    /// A dashed line only.
+    Dashed,
+    /// Markers joined by a solid line.
+    LinePoints,
+}
+
+/// One data series.
+#[derive(Debug, Clone, Serialize)]
+pub struct Series {
+    /// Legend text (empty: not in the legend).
+    pub label: String,
+    /// `(x, y)` points, drawn in order.
+    pub points: Vec<(f64, f64)>,
+    /// Optional symmetric vertical error bars, one per point.
+    pub y_errors: Option<Vec<f64>>,
+    /// How the series is drawn.
+    pub style: Style,
+    /// Palette index (default: the series' position in the figure).
+    pub color: Option<usize>,
+}
+
+impl Series {
+    /// Markers only.
+    pub fn points(label: impl Into<String>, points: Vec<(f64, f64)>) -> Self {
+        Self {
+            label: label.into(),
+            points,
+            y_errors: None,
+            style: Style::Points,
+            color: None,
+        }
+    }
+
+    /// A solid line.
+    pub fn line(label: impl Into<String>, points: Vec<(f64, f64)>) -> Self {
+        Self {
+            style: Style::Line,
+            ..Self::points(label, points)
+        }
+    }
+
+    /// Changes the drawing style.
+    pub fn style(mut self, style: Style) -> Self {
+        self.style = style;
+        self
+    }
+
+    /// Adds symmetric vertical error bars.
+    pub fn with_errors(mut self, errors: Vec<f64>) -> Self {
+        self.y_errors = Some(errors);
+        self
+    }
+
+    /// Chooses the palette colour.
+    pub fn color(mut self, index: usize) -> Self {
+        self.color = Some(index);
+        self
+    }
+}
+
+/// A labelled horizontal reference line at `y`, drawn dashed in grey with its label at the
+/// right end just above the line.
+#[derive(Debug, Clone, Serialize)]
+pub struct RefLine {
+    /// Height.
+    pub y: f64,
+    /// Label, e.g. `GOE 0.5307`.
+    pub label: String,
+}
+
+/// One histogram bar `[lo, hi)` of height `value`.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Bin {
+    /// Lower edge.
+    pub lo: f64,
+    /// Upper edge.
+    pub hi: f64,
+    /// Height (a density, a count, ...).
+    pub value: f64,
+}
+
+/// A histogram: bars with a legend label.
+#[derive(Debug, Clone, Serialize)]
+pub struct Histogram {
+    /// Legend text.
+    pub label: String,
+    /// The bars.
+    pub bins: Vec<Bin>,
+}
+
+/// Where the legend goes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Legend {
+    /// Upper right corner.
+    UpperRight,
+    /// Upper left corner.
+    UpperLeft,
+    /// Lower right corner.
+    LowerRight,
+    /// Lower left corner.
+    LowerLeft,
+    /// No legend.
+    Hidden,
+}
+
+/// A figure: axes, series, reference lines and an optional histogram.
+#[derive(Debug, Clone, Serialize)]
+pub struct Figure {
+    /// Title above the plot (optional; captions usually go in the report instead).
+    pub title: Option<String>,
+    /// x-axis label with symbol and unit, e.g. `D (Hilbert-space dimension)`.
+    pub x_label: String,
+    /// y-axis label, e.g. `⟨A⟩`.
+    pub y_label: String,
+    /// x scale.
+    pub x_axis: Axis,
+    /// y scale.
+    pub y_axis: Axis,
+    /// Fixed x range (default: automatic).
+    pub x_range: Option<(f64, f64)>,
+    /// Fixed y range (default: automatic).
+    pub y_range: Option<(f64, f64)>,
+    /// Bars drawn first (under the series).
+    pub histogram: Option<Histogram>,
+    /// The series.
+    pub series: Vec<Series>,
+    /// Reference lines.
+    pub ref_lines: Vec<RefLine>,
+    /// Legend position.
+    pub legend: Legend,
+    /// Width in pixels.
+    pub width: u32,
+    /// Height in pixels.
+    pub height: u32,
+}
+
+impl Figure {
+    /// An empty linear-linear figure of the default size with these axis labels.
+    pub fn new(x_label: impl Into<String>, y_label: impl Into<String>) -> Self {
+        Self {
+            title: None,
+            x_label: x_label.into(),
+            y_label: y_label.into(),
+            x_axis: Axis::Linear,
+            y_axis: Axis::Linear,
+            x_range: None,
+            y_range: None,
+            histogram: None,
+            series: Vec::new(),
+            ref_lines: Vec::new(),
+            legend: Legend::UpperRight,
+            width: WIDTH,
+            height: HEIGHT,
+        }
+    }
+
+    /// Sets the title.
+    pub fn title(mut self, title: impl Into<String>) -> Self {
+        self.title = Some(title.into());
+        self
+    }
+
+    /// Sets both axis scales (`(Log, Log)` for log-log, `(Linear, Log)` for lin-log).
+    pub fn axes(mut self, x: Axis, y: Axis) -> Self {
+        self.x_axis = x;
+        self.y_axis = y;
+        self
+    }
+
+    /// Fixes the x range.
+    pub fn x_range(mut self, lo: f64, hi: f64) -> Self {
+        self.x_range = Some((lo, hi));
+        self
+    }
+
+    /// Fixes the y range.
+    pub fn y_range(mut self, lo: f64, hi: f64) -> Self {
+        self.y_range = Some((lo, hi));
+        self
+    }
+
+    /// Adds a series.
+    pub fn series(mut self, series: Series) -> Self {
+        self.series.push(series);
+        self
+    }
+
+    /// Adds a labelled horizontal reference line.
+    pub fn reference(mut self, y: f64, label: impl Into<String>) -> Self {
+        self.ref_lines.push(RefLine {
+            y,
+            label: label.into(),
+        });
+        self
+    }
+
+    /// Sets the histogram.
+    pub fn histogram(mut self, label: impl Into<String>, bins: Vec<Bin>) -> Self {
+        self.histogram = Some(Histogram {
+            label: label.into(),
+            bins,
+        });
+        self
+    }
+
+    /// Sets the legend position.
+    pub fn legend(mut self, legend: Legend) -> Self {
+        self.legend = legend;
+        self
+    }
+
+    /// Renders the figure as a standalone SVG document (`<svg ...>...</svg>`).
+    ///
+    /// Fails (with the axis labels in the message) when nothing can be placed, e.g. every
+    /// point is non-positive on a log axis, or a fixed range is empty.
+    pub fn to_svg(&self) -> Result<String> {
+        let (xr, yr) = self.ranges()?;
+        let mut buf = String::new();
+        {
+            let root =
+                SVGBackend::with_string(&mut buf, (self.width, self.height)).into_drawing_area();
+            let res = match (self.x_axis, self.y_axis) {
+                (Axis::Linear, Axis::Linear) => {
+                    self.draw(&root, xr.0..xr.1, yr.0..yr.1, false, false)
+                }
+                (Axis::Linear, Axis::Log) => self.draw(
+                    &root,
+                    xr.0..xr.1,
+                    (yr.0..yr.1)
+                        .log_scale()
+                        .with_key_points(log_ticks(yr.0, yr.1)),
+                    false,
+                    true,
+                ),
+                (Axis::Log, Axis::Linear) => self.draw(
+                    &root,
+                    (xr.0..xr.1)
+                        .log_scale()
+                        .with_key_points(log_ticks(xr.0, xr.1)),
+                    yr.0..yr.1,
+                    true,
+                    false,
+                ),
+                (Axis::Log, Axis::Log) => self.draw(
+                    &root,
+                    (xr.0..xr.1)
+                        .log_scale()
+                        .with_key_points(log_ticks(xr.0, xr.1)),
+                    (yr.0..yr.1)
+                        .log_scale()
+                        .with_key_points(log_ticks(yr.0, yr.1)),
+                    true,
+                    true,
+                ),
+            };
+            res.map_err(|e| self.error(&e))?;
+            root.present().map_err(|e| self.error(&e.to_string()))?;
+        }
+        Ok(buf)
+    }
+
+    fn error(&self, problem: &str) -> Error {
+        Error::other(format!(
+            "figure '{}' against '{}': {problem}",
+            self.y_label, self.x_label
+        ))
+    }
+
+    /// Automatic or fixed ranges, valid for the axis scales.
+    fn ranges(&self) -> Result<((f64, f64), (f64, f64))> {
+        let xlog = self.x_axis == Axis::Log;
+        let ylog = self.y_axis == Axis::Log;
+        let ok = |v: f64, log: bool| v.is_finite() && (!log || v > 0.0);
+        let mut xs = Vec::new();
+        let mut ys = Vec::new();
+        for s in &self.series {
+            for (i, &(x, y)) in s.points.iter().enumerate() {
+                if !(ok(x, xlog) && ok(y, ylog)) {
+                    continue;
+                }
+                xs.push(x);
+                ys.push(y);
+                if let Some(e) = s.y_errors.as_ref().and_then(|e| e.get(i)) {
+                    if e.is_finite() && *e > 0.0 {
+                        ys.push(y + e);
+                        if ok(y - e, ylog) {
+                            ys.push(y - e);
+                        }
+                    }
+                }
+            }
+        }
+        if let Some(h) = &self.histogram {
+            for b in &h.bins {
+                for x in [b.lo, b.hi] {
+                    if ok(x, xlog) {
+                        xs.push(x);
+                    }
+                }
+                if ok(b.value, ylog) {
+                    ys.push(b.value);
+                }
+                if !ylog {
+                    ys.push(0.0);
+                }
+            }
+        }
+        for r in &self.ref_lines {
+            if ok(r.y, ylog) {
+                ys.push(r.y);
+            }
+        }
+        let x = match self.x_range {
+            Some(r) => check_range(r, xlog).ok_or_else(|| self.error("empty x range"))?,
+            None => auto_range(&xs, xlog).ok_or_else(|| self.error("no point to plot"))?,
+        };
+        let y = match self.y_range {
+            Some(r) => check_range(r, ylog).ok_or_else(|| self.error("empty y range"))?,
+            None => {
+                let r = auto_range(&ys, ylog).ok_or_else(|| self.error("no point to plot"))?;
+                self.legend_room(r, ylog)
+            }
+        };
+        Ok((x, y))
+    }
+
+    /// Extends an automatic y range so that the legend box sits beside the data rather
+    /// than on it: by a fraction `min(0.6, 0.075·entries + 0.04)` of the new span, at the
+    /// top for an upper legend and at the bottom for a lower one.
+    fn legend_room(&self, (lo, hi): (f64, f64), log: bool) -> (f64, f64) {
+        let entries = self.series.iter().filter(|s| !s.label.is_empty()).count()
+            + usize::from(self.histogram.as_ref().is_some_and(|h| !h.label.is_empty()));
+        if entries == 0 || self.legend == Legend::Hidden {
+            return (lo, hi);
+        }
+        let frac = (0.075 * entries as f64 + 0.04).min(0.6);
+        let upper = matches!(self.legend, Legend::UpperLeft | Legend::UpperRight);
+        let (a, b) = if log {
+            (lo.log10(), hi.log10())
+        } else {
+            (lo, hi)
+        };
+        let extra = (b - a) * frac / (1.0 - frac);
+        let (a, b) = if upper {
+            (a, b + extra)
+        } else {
+            (a - extra, b)
+        };
+        if log {
+            (10f64.powf(a), 10f64.powf(b))
+        } else {
+            (a, b)
+        }
+    }
+
+    fn draw<XS, YS>(
+        &self,
+        root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+        x_spec: XS,
+        y_spec: YS,
+        xlog: bool,
+        ylog: bool,
+    ) -> std::result::Result<(), String>
+    where
+        XS: AsRangedCoord<Value = f64>,
+        YS: AsRangedCoord<Value = f64>,
+        XS::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
+        YS::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
+    {
+        let e = |e: &dyn std::fmt::Display| e.to_string();
+        root.fill(&WHITE).map_err(|x| e(&x))?;
+        let mut builder = ChartBuilder::on(root);
+        builder
+            .margin(12)
+            .x_label_area_size(52)
+            .y_label_area_size(78);
+        if let Some(t) = &self.title {
+            builder.caption(t, ("sans-serif", LABEL_FONT));
+        }
+        let mut chart = builder
+            .build_cartesian_2d(x_spec, y_spec)
+            .map_err(|x| e(&x))?;
+        let fmt = |v: &f64| tick_label(*v);
+        chart
+            .configure_mesh()
+            .x_desc(self.x_label.as_str())
+            .y_desc(self.y_label.as_str())
+            .x_labels(6)
+            .y_labels(6)
+            .x_label_formatter(&fmt)
+            .y_label_formatter(&fmt)
+            .label_style(("sans-serif", TICK_FONT))
+            .axis_desc_style(("sans-serif", LABEL_FONT))
+            .light_line_style(WHITE)
+            .bold_line_style(RGBColor(225, 225, 225))
+            .draw()
+            .map_err(|x| e(&x))?;
+
+        let (x0, x1) = {
+            let r = chart.x_range();
+            (r.start, r.end)
+        };
+        let (y0, _) = {
+            let r = chart.y_range();
+            (r.start, r.end)
+        };
+        let ok = |v: f64, log: bool| v.is_finite() && (!log || v > 0.0);
+
+        // Histogram bars.
+        if let Some(h) = &self.histogram {
+            let fill = RGBColor(200, 200, 200);
+            let base = if ylog { y0 } else { 0.0 };
+            let bars = h
+                .bins
+                .iter()
+                .filter(|b| ok(b.lo, xlog) && ok(b.hi, xlog) && ok(b.value, ylog))
+                .map(|b| {
+                    Rectangle::new(
+                        [(b.lo, base), (b.hi, b.value)],
+                        ShapeStyle::from(&fill).filled(),
+                    )
+                });
+            let anno = chart.draw_series(bars).map_err(|x| e(&x))?;
+            if !h.label.is_empty() {
+                anno.label(h.label.as_str()).legend(move |(x, y)| {
+                    Rectangle::new([(x, y - 6), (x + 20, y + 6)], fill.filled())
+                });
+            }
+            let outline = h
+                .bins
+                .iter()
+                .filter(|b| ok(b.lo, xlog) && ok(b.hi, xlog) && ok(b.value, ylog))
+                .map(|b| {
+                    Rectangle::new(
+                        [(b.lo, base), (b.hi, b.value)],
+                        ShapeStyle::from(&RGBColor(120, 120, 120)).stroke_width(1),
+                    )
+                });
+            chart.draw_series(outline).map_err(|x| e(&x))?;
+        }
+
+        // Reference lines with their labels.
+        let grey = RGBColor(90, 90, 90);
+        for r in self.ref_lines.iter().filter(|r| ok(r.y, ylog)) {
+            chart
+                .draw_series(DashedLineSeries::new(
+                    vec![(x0, r.y), (x1, r.y)],
+                    6,
+                    4,
+                    ShapeStyle::from(&grey).stroke_width(1),
+                ))
+                .map_err(|x| e(&x))?;
+            let style = TextStyle::from(("sans-serif", TICK_FONT).into_font())
+                .color(&grey)
+                .pos(Pos::new(HPos::Right, VPos::Bottom));
+            // Above the line, or below it when the line is near the top of the plot.
+            let (px, py) = chart.backend_coord(&(x1, r.y));
+            let top = chart.plotting_area().get_pixel_range().1.start;
+            let (style, py) = if py - top < 22 {
+                (style.pos(Pos::new(HPos::Right, VPos::Top)), py + 3)
+            } else {
+                (style, py - 2)
+            };
+            root.draw(&Text::new(r.label.clone(), (px - 4, py), style))
+                .map_err(|x| e(&x))?;
+        }
+
+        // Series.
+        for (k, s) in self.series.iter().enumerate() {
+            let color = palette(s.color.unwrap_or(k));
+            let pts: Vec<(f64, f64)> = s
+                .points
+                .iter()
+                .copied()
+                .filter(|&(x, y)| ok(x, xlog) && ok(y, ylog))
+                .collect();
+            if let Some(errs) = &s.y_errors {
+                let bars = s
+                    .points
+                    .iter()
+                    .zip(errs)
+                    .filter(|((x, y), err)| {
+                        ok(*x, xlog) && ok(*y, ylog) && err.is_finite() && **err > 0.0
+                    })
+                    .map(|(&(x, y), &err)| {
+                        let lo = if ok(y - err, ylog) { y - err } else { y0 };
+                        ErrorBar::new_vertical(x, lo, y, y + err, color.stroke_width(1), 6)
+                    });
+                chart.draw_series(bars).map_err(|x| e(&x))?;
+            }
+            let line_style = color.stroke_width(2);
+            let triangle = k % 2 == 1;
+            match s.style {
+                Style::Line | Style::LinePoints => {
+                    chart
+                        .draw_series(LineSeries::new(pts.clone(), line_style))
+                        .map_err(|x| e(&x))?;
+                }
+                Style::Dashed => {
+                    chart
+                        .draw_series(DashedLineSeries::new(pts.clone(), 8, 5, line_style))
+                        .map_err(|x| e(&x))?;
+                }
+                Style::Points => {}
+            }
+            if matches!(s.style, Style::Points | Style::LinePoints) {
+                if triangle {
+                    chart
+                        .draw_series(
+                            pts.iter()
+                                .map(|&p| TriangleMarker::new(p, 6, color.filled())),
+                        )
+                        .map_err(|x| e(&x))?;
+                } else {
+                    chart
+                        .draw_series(pts.iter().map(|&p| Circle::new(p, 4, color.filled())))
+                        .map_err(|x| e(&x))?;
+                }
+            }
+            if !s.label.is_empty() {
+                let style = s.style;
+                chart
+                    .draw_series(std::iter::once(EmptyElement::at((x0, y0))))
+                    .map_err(|x| e(&x))?
+                    .label(s.label.as_str())
+                    .legend(move |(x, y)| legend_glyph(x, y, color, style, triangle));
+            }
+        }
+
+        let labelled = self.series.iter().any(|s| !s.label.is_empty())
+            || self.histogram.as_ref().is_some_and(|h| !h.label.is_empty());
+        if labelled && self.legend != Legend::Hidden {
+            let pos = match self.legend {
+                Legend::UpperLeft => SeriesLabelPosition::UpperLeft,
+                Legend::LowerLeft => SeriesLabelPosition::LowerLeft,
+                Legend::LowerRight => SeriesLabelPosition::LowerRight,
+                _ => SeriesLabelPosition::UpperRight,
+            };
+            chart
+                .configure_series_labels()
+                .position(pos)
+                .label_font(("sans-serif", TICK_FONT))
+                .background_style(WHITE.mix(0.85))
+                .border_style(RGBColor(160, 160, 160))
+                .draw()
+                .map_err(|x| e(&x))?;
+        }
+        Ok(())
+    }
+}
+
+/// Legend sample of a series: a line (solid, dashed or none) and a marker (circle,
+/// triangle or none), always the same element type so that one closure serves every style.
+fn legend_glyph<'a, DB: DrawingBackend + 'a>(
+    x: i32,
+    y: i32,
+    color: RGBColor,
+    style: Style,
+    triangle: bool,
+) -> impl IntoDynElement<'a, DB, (i32, i32)> {
+    let clear = ShapeStyle::from(&TRANSPARENT);
+    let (seg1, seg2) = match style {
+        Style::Line | Style::LinePoints => (color.stroke_width(2), color.stroke_width(2)),
+        Style::Dashed => (color.stroke_width(2), clear),
+        Style::Points => (clear, clear),
+    };
+    let marker = matches!(style, Style::Points | Style::LinePoints);
+    let (circle, tri) = match (marker, triangle) {
+        (true, false) => (color.filled(), clear),
+        (true, true) => (clear, color.filled()),
+        _ => (clear, clear),
+    };
+    EmptyElement::at((x, y))
+        + PathElement::new(vec![(0, 0), (8, 0)], seg1)
+        + PathElement::new(vec![(8, 0), (12, 0)], seg2)
+        + PathElement::new(vec![(12, 0), (20, 0)], seg1)
+        + Circle::new((10, 0), 4, circle)
+        + TriangleMarker::new((10, 0), 6, tri)
+}
+
+/// Tick positions on a log axis `[lo, hi]`: the decades `10ᵏ` inside (every n-th when
+/// there are more than 8); with fewer than three, also `2·10ᵏ` and `5·10ᵏ`; with still
+/// fewer, every `m·10ᵏ`, `m = 1..9`.
+fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
+    let k0 = lo.log10().floor() as i32 - 1;
+    let k1 = hi.log10().ceil() as i32 + 1;
+    let inside = |mults: &[f64]| -> Vec<f64> {
+        let mut v: Vec<f64> = (k0..=k1)
+            .flat_map(|k| mults.iter().map(move |m| m * 10f64.powi(k)))
+            .filter(|&t| t >= lo * (1.0 - 1e-12) && t <= hi * (1.0 + 1e-12))
+            .collect();
+        v.sort_by(f64::total_cmp);
+        v
+    };
+    let decades = inside(&[1.0]);
+    if decades.len() > 8 {
+        let step = decades.len().div_ceil(6);
+        return decades.into_iter().step_by(step).collect();
+    }
+    if decades.len() >= 3 {
+        return decades;
+    }
+    let some = inside(&[1.0, 2.0, 5.0]);
+    if some.len() >= 3 {
+        return some;
+    }
+    inside(&[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0])
+}
+
+fn check_range((lo, hi): (f64, f64), log: bool) -> Option<(f64, f64)> {
+    (lo.is_finite() && hi.is_finite() && lo < hi && (!log || lo > 0.0)).then_some((lo, hi))
+}
+
+/// Data range padded by 5 % of the span (of `log₁₀` on a log axis); a single value gets
+/// ±10 % (or ±1 when it is 0).
+fn auto_range(v: &[f64], log: bool) -> Option<(f64, f64)> {
+    let lo = v.iter().copied().fold(f64::INFINITY, f64::min);
+    let hi = v.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    if !(lo.is_finite() && hi.is_finite()) {
+        return None;
+    }
+    if log {
+        let (a, b) = (lo.log10(), hi.log10());
+        let pad = if b > a { 0.05 * (b - a) } else { 0.1 };
+        Some((10f64.powf(a - pad), 10f64.powf(b + pad)))
+    } else if hi > lo {
+        let pad = 0.05 * (hi - lo);
+        Some((lo - pad, hi + pad))
+    } else if lo == 0.0 {
+        Some((-1.0, 1.0))
+    } else {
+        let pad = 0.1 * lo.abs();
+        Some((lo - pad, hi + pad))
+    }
+}
+
+/// Tick label: [`crate::report::table::format_value`] (4 significant digits, trailing zeros
+/// removed, scientific outside `[10⁻³, 10⁵)`).
+fn tick_label(v: f64) -> String {
+    // Ticks at multiples of a step can carry rounding noise (0.30000000000000004).
+    crate::report::table::format_value(v)
+}
+
+/// A density histogram of `samples` on `[lo, hi)` with `bins` equal bins: bar height =
+/// count / (N · width), where N counts every finite sample (also those outside the range),
+/// so that the bars integrate to the fraction of samples inside it.
+pub fn density_histogram(samples: &[f64], lo: f64, hi: f64, bins: usize) -> Vec<Bin> {
+    if bins == 0 || lo.partial_cmp(&hi) != Some(std::cmp::Ordering::Less) {
+        return Vec::new();
+    }
+    let w = (hi - lo) / bins as f64;
+    let mut counts = vec![0usize; bins];
+    let mut n = 0usize;
+    for &s in samples.iter().filter(|s| s.is_finite()) {
+        n += 1;
+        if s >= lo && s < hi {
+            let k = (((s - lo) / w) as usize).min(bins - 1);
+            counts[k] += 1;
+        }
+    }
+    let norm = if n > 0 { 1.0 / (n as f64 * w) } else { 0.0 };
+    counts
+        .iter()
+        .enumerate()
+        .map(|(k, &c)| Bin {
+            lo: lo + k as f64 * w,
+            hi: lo + (k + 1) as f64 * w,
+            value: c as f64 * norm,
+        })
+        .collect()
+}
+
+/// `n ≥ 2` points `(x, f(x))` equally spaced on `[lo, hi]`, for drawing a curve.
+pub fn sample_curve(f: impl Fn(f64) -> f64, lo: f64, hi: f64, n: usize) -> Vec<(f64, f64)> {
+    let n = n.max(2);
+    (0..n)
+        .map(|i| {
+            let x = lo + (hi - lo) * i as f64 / (n - 1) as f64;
+            (x, f(x))
+        })
+        .collect()
+}
+
+/// `n ≥ 2` points `(x, f(x))` equally spaced in `log₁₀ x` on `[lo, hi]` (`0 < lo < hi`).
+pub fn sample_curve_log(f: impl Fn(f64) -> f64, lo: f64, hi: f64, n: usize) -> Vec<(f64, f64)> {
+    sample_curve(|t| f(10f64.powf(t)), lo.log10(), hi.log10(), n)
+        .into_iter()
+        .map(|(t, y)| (10f64.powf(t), y))
+        .collect()
+}

@@ -1,0 +1,169 @@
+//! SVG figures: axis labels, legends, reference lines, log axes, histograms.
+
+use eigentherm::analysis::scaling::{MEAN_R_GOE, MEAN_R_GUE, MEAN_R_POISSON};
+use eigentherm::report::plot::{
+    density_histogram, sample_curve, sample_curve_log, Axis, Figure, Legend, Series, Style,
+};
+
+fn save(name: &str, svg: &str) {
+    // Kept for looking at by eye (scripts/check_report_html can render them).
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("figures");
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(dir.join(name), svg).unwrap();
+}
+
+/// The text content of every `<text>` element, trimmed.
+fn texts(svg: &str) -> Vec<String> {
+    svg.split("<text")
+        .skip(1)
+        .filter_map(|t| {
+            let body = t.split_once('>')?.1;
+            Some(body.split("</text>").next()?.trim().to_string())
+        })
+        .collect()
+}
+
+/// Every `font-size="..."` in the SVG.
+fn font_sizes(svg: &str) -> Vec<f64> {
+    svg.split("font-size=\"")
+        .skip(1)
+        .filter_map(|s| s.split('"').next()?.parse().ok())
+        .collect()
+}
+
+#[test]
+fn scaling_plot_log_log_with_errors_and_references() {
+    // Common practice, no source: figure content checks. Data: an ETH-like decay
+    // D^(-1/2) (Kim, Ikeda, Huse PRE 90, 052105 (2014), from memory), invented values.
+    let dims = [256.0, 1024.0, 4096.0, 16384.0];
+    let pts: Vec<(f64, f64)> = dims
+        .iter()
+        .map(|&d: &f64| (d, 0.8 * d.powf(-0.5)))
+        .collect();
+    let errs: Vec<f64> = pts.iter().map(|p| 0.1 * p.1).collect();
+    let fit = sample_curve_log(|d| 0.8 * d.powf(-0.5), 200.0, 20000.0, 20);
+    let fig = Figure::new("D (Hilbert-space dimension)", "mean |ΔAₙₙ|")
+        .axes(Axis::Log, Axis::Log)
+        .series(Series::points("σᶻ (middle site)", pts).with_errors(errs))
+        .series(Series::line("fit ∝ D^(−0.50)", fit).style(Style::Dashed))
+        .legend(Legend::UpperRight);
+    let svg = fig.to_svg().unwrap();
+    save("scaling.svg", &svg);
+    assert!(svg.starts_with("<svg"));
+    assert!(svg.contains("D (Hilbert-space dimension)"));
+    assert!(svg.contains("mean |ΔAₙₙ|"));
+    assert!(svg.contains("σᶻ (middle site)"));
+    assert!(svg.contains("fit ∝ D^(−0.50)"));
+    // Four data markers (legend marker is a fifth circle).
+    assert!(svg.matches("<circle").count() >= 4);
+    // Readable at column width: every text at least 14 px.
+    let sizes = font_sizes(&svg);
+    assert!(!sizes.is_empty());
+    assert!(sizes.iter().all(|&s| s >= 14.0), "{sizes:?}");
+    // Log-axis ticks print decades, e.g. 1000 and 0.01.
+    let t = texts(&svg);
+    assert!(
+        t.iter().any(|x| x == "1000") && t.iter().any(|x| x == "10000"),
+        "{t:?}"
+    );
+    // Fewer than three decades on the y axis (0.006 .. 0.05): 1-2-5 ticks are added.
+    assert!(
+        t.iter().any(|x| x == "0.02") && t.iter().any(|x| x == "0.01"),
+        "{t:?}"
+    );
+}
+
+#[test]
+fn mean_r_plot_with_reference_lines() {
+    // References: <r> Poisson 2 ln 2 - 1, GOE 0.5307, GUE 0.5996 (Atas et al., PRL 110,
+    // 084101 (2013); the last two from memory).
+    let fig = Figure::new("L (sites)", "⟨r̃⟩")
+        .series(
+            Series::points(
+                "even sector",
+                vec![(10.0, 0.51), (12.0, 0.525), (14.0, 0.529)],
+            )
+            .with_errors(vec![0.01, 0.005, 0.002])
+            .style(Style::LinePoints),
+        )
+        .reference(MEAN_R_POISSON, "Poisson 0.386")
+        .reference(MEAN_R_GOE, "GOE 0.531")
+        .reference(MEAN_R_GUE, "GUE 0.600")
+        .legend(Legend::LowerLeft);
+    let svg = fig.to_svg().unwrap();
+    save("mean_r.svg", &svg);
+    for label in [
+        "L (sites)",
+        "⟨r̃⟩",
+        "Poisson 0.386",
+        "GOE 0.531",
+        "GUE 0.600",
+        "even sector",
+    ] {
+        assert!(svg.contains(label), "{label} missing");
+    }
+    // Dashed reference lines: three of them at least.
+    assert!(svg.matches("<polyline").count() + svg.matches("<line").count() >= 3);
+}
+
+#[test]
+fn spacing_histogram_with_surmises() {
+    // Wigner surmise GOE P(s) = (π s/2) exp(−π s²/4) and Poisson P(s) = e^(−s) (Mehta,
+    // Random Matrices, 3rd ed. 2004). Histogram of Poisson spacings drawn from a seeded
+    // generator; the density integrates to the fraction inside the range.
+    use rand::Rng;
+    let mut r = eigentherm::model::rmt::rng(3);
+    let s: Vec<f64> = (0..5000).map(|_| -(1.0 - r.random::<f64>()).ln()).collect();
+    let bins = density_histogram(&s, 0.0, 4.0, 40);
+    let area: f64 = bins.iter().map(|b| b.value * (b.hi - b.lo)).sum();
+    let inside = s.iter().filter(|&&x| x < 4.0).count() as f64 / s.len() as f64;
+    assert!((area - inside).abs() < 1e-12);
+    // The first bin [0, 0.1) of e^{-s} holds 1 - e^{-0.1} = 0.0952 of the mass: density
+    // 0.952; 5000 samples give a relative error ~ 5 %.
+    assert!((bins[0].value - 0.952).abs() < 0.15, "{}", bins[0].value);
+    let pi = std::f64::consts::PI;
+    let fig = Figure::new("s (unfolded spacing)", "P(s)")
+        .histogram("spacings", bins)
+        .series(Series::line(
+            "Poisson e^(−s)",
+            sample_curve(|x| (-x).exp(), 0.0, 4.0, 100),
+        ))
+        .series(Series::line(
+            "GOE surmise",
+            sample_curve(|x| pi * x / 2.0 * (-pi * x * x / 4.0).exp(), 0.0, 4.0, 100),
+        ));
+    let svg = fig.to_svg().unwrap();
+    save("spacings.svg", &svg);
+    assert!(svg.contains("s (unfolded spacing)") && svg.contains("P(s)"));
+    assert!(svg.contains("GOE surmise") && svg.contains("spacings"));
+    assert!(svg.matches("<rect").count() >= 40);
+}
+
+#[test]
+fn lin_log_axes_and_bad_input() {
+    // Common practice, no source: non-positive values cannot sit on a log axis; they are
+    // left out, and a figure with nothing to draw is an error, not a panic.
+    let fig = Figure::new("ω", "|f(ω)|²")
+        .axes(Axis::Linear, Axis::Log)
+        .series(Series::line(
+            "envelope",
+            vec![(0.0, 1e-3), (1.0, 3e-4), (2.0, 0.0), (3.0, 1e-5)],
+        ));
+    let svg = fig.to_svg().unwrap();
+    save("envelope.svg", &svg);
+    let t = texts(&svg);
+    assert!(
+        t.iter().any(|x| x == "|f(ω)|²") && t.iter().any(|x| x == "ω"),
+        "{t:?}"
+    );
+    let bad = Figure::new("x", "y")
+        .axes(Axis::Log, Axis::Log)
+        .series(Series::points("", vec![(-1.0, 2.0), (0.0, 1.0)]));
+    let err = bad.to_svg().unwrap_err().to_string();
+    assert!(err.contains("no point to plot"), "{err}");
+    assert!(Figure::new("x", "y")
+        .x_range(1.0, 1.0)
+        .series(Series::points("", vec![(1.0, 1.0)]))
+        .to_svg()
+        .is_err());
+}
