@@ -11,4 +11,5 @@ pub mod levels;
 pub mod offdiagonal;
 pub mod quench;
 pub mod scaling;
+pub mod sector;
 pub mod study;

@@ -1,12 +1,444 @@
-//! `eigentherm scaling` (not yet implemented).
+//! `eigentherm scaling`: finite-size scaling of the ETH figures across files and
+//! sectors, fits `figure ∝ D^(−α)` (and `∝ e^(−κL)` where sizes are known), and a
+//! verdict per observable (see [`crate::analysis::scaling`] for the fits and the rule).
+//!
+//! Rows are grouped into families before fitting: by the sector attribute `model`
+//! (written by `eigentherm generate`; files without it form one family), by the sector
+//! name (kept apart by default; `--combine-sectors` merges the sectors of one size into
+//! one row: figures averaged, errors combined as `√(Σσ²)/k`, dimension averaged), and by
+//! observable.
 
+use crate::analysis::scaling::{
+    self, fit_exponential, fit_power_law, CanonicalDeviation, ExponentEvidence, RatioAtSize, RatioEvidence,
+    ScalingFit, Symmetry, VerdictInputs, VerdictReport,
+};
+use crate::commands::common::{InputArgs, SelectArgs};
+use crate::commands::sector::{analyse_sector, SectorAnalysis, SectorSettings, RESAMPLES};
+use crate::analysis::offdiagonal::OffdiagonalOptions;
+use crate::data::Field;
 use crate::error::{Error, Result};
+use crate::project::ProjectOptions;
+use crate::window::Window;
+use serde::Serialize;
 
 /// Options of `eigentherm scaling`.
-#[derive(Debug, clap::Args)]
-pub struct Args {}
+#[derive(Debug, Clone, clap::Args)]
+pub struct Args {
+    /// Input files and dataset path overrides.
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Sector, window (default 0.4:0.6 for matrix elements) and output format.
+    #[command(flatten)]
+    pub select: SelectArgs,
+    /// Observable to analyse (repeatable, at least one).
+    #[arg(long = "observable", value_name = "NAME", required = true)]
+    pub observables: Vec<String>,
+    /// Window of the level statistics (default 0.25:0.75).
+    #[arg(long, value_name = "LO:HI")]
+    pub levels_window: Option<String>,
+    /// Frequency cut of the low-ω statistics (default: 10 mean level spacings of the window).
+    #[arg(long, value_name = "W")]
+    pub omega_max: Option<f64>,
+    /// Working-memory budget of the projector, e.g. 6G or 512M (default: half the machine's memory).
+    #[arg(long, value_name = "SIZE")]
+    pub memory: Option<String>,
+    /// Merge the sectors of one size into one row (default: fit each sector name apart).
+    #[arg(long)]
+    pub combine_sectors: bool,
+}
+
+/// One row of the scaling table: one (file, sector, observable).
+#[derive(Debug, Clone, Serialize)]
+pub struct Row {
+    /// Family key (model, sector, observable) the row is fitted in.
+    pub family: String,
+    /// File (or files, joined by `+`, for combined rows).
+    pub file: String,
+    /// Sector name (or names joined by `+`).
+    pub sector: String,
+    /// Observable.
+    pub observable: String,
+    /// Hilbert-space dimension D.
+    pub dimension: f64,
+    /// Number of sites L, when known.
+    pub size: Option<usize>,
+    /// Mean ratio of consecutive spacings ⟨r̃⟩ (levels window).
+    pub mean_r: f64,
+    /// Its standard error.
+    pub mean_r_stderr: f64,
+    /// `½⟨(Aₙ₊₁,ₙ₊₁ − Aₙₙ)²⟩` in the window.
+    pub fluct_variance: f64,
+    /// Bootstrap standard error.
+    pub fluct_variance_stderr: f64,
+    /// `⟨|Aₙ₊₁,ₙ₊₁ − Aₙₙ|⟩` in the window.
+    pub diff_mean_abs: f64,
+    /// Bootstrap standard error.
+    pub diff_mean_abs_stderr: f64,
+    /// Mean `|Aₙₘ|²` over window pairs with `|ω| < omega_max` (NaN when unavailable).
+    pub low_omega_variance: f64,
+    /// Its standard error.
+    pub low_omega_variance_stderr: f64,
+    /// Γ = ⟨|Aₙₘ|²⟩/⟨|Aₙₘ|⟩² at low ω.
+    pub gaussian_ratio: f64,
+    /// Its standard error.
+    pub gaussian_ratio_stderr: f64,
+    /// `fluct_variance / low_omega_variance`.
+    pub diag_offdiag_ratio: f64,
+    /// Its standard error.
+    pub diag_offdiag_ratio_stderr: f64,
+    /// RMS deviation of the binned A(E) from the canonical prediction in the window (NaN when unavailable).
+    pub canonical_rms_deviation: f64,
+    /// Spread max Aₙₙ − min Aₙₙ over all states (scale of the canonical criterion).
+    pub observable_spread: f64,
+    /// Element type (real: GOE references; complex: GUE references).
+    pub field: Field,
+    /// True when all diagonal elements vanish by symmetry.
+    pub diagonal_vanishes: bool,
+}
+
+/// Fits of one figure in one family.
+#[derive(Debug, Clone, Serialize)]
+pub struct FigureFit {
+    /// Family key.
+    pub family: String,
+    /// Figure name (`fluct_variance`, `diff_mean_abs`, `low_omega_variance`).
+    pub figure: String,
+    /// α in figure ∝ D^(−α).
+    pub alpha: f64,
+    /// Standard error of α.
+    pub alpha_stderr: f64,
+    /// Full power-law fit.
+    pub power_law: ScalingFit,
+    /// κ in figure ∝ e^(−κL), when every row has a size.
+    pub exponential: Option<ScalingFit>,
+}
+
+/// Verdict of one family.
+#[derive(Debug, Clone, Serialize)]
+pub struct FamilyVerdict {
+    /// Family key.
+    pub family: String,
+    /// Observable.
+    pub observable: String,
+    /// The verdict, reasons, rule and caveat.
+    pub verdict: VerdictReport,
+}
+
+/// JSON document of `eigentherm scaling`.
+#[derive(Debug, Clone, Serialize)]
+pub struct Report {
+    /// How rows are grouped and errors obtained.
+    pub method: String,
+    /// One row per (file, sector, observable), or per (size, observable) with `--combine-sectors`.
+    pub rows: Vec<Row>,
+    /// Fits of each decaying figure per family.
+    pub fits: Vec<FigureFit>,
+    /// One verdict per family.
+    pub verdicts: Vec<FamilyVerdict>,
+}
+
+/// Settings of the per-sector pipeline from the command line.
+pub fn settings(select: &SelectArgs, levels_window: Option<&str>, omega_max: Option<f64>, memory: Option<&str>) -> Result<SectorSettings> {
+    let levels_window = match levels_window {
+        Some(w) => crate::window::WindowSpec::Fraction(Window::parse(w)?),
+        None => crate::window::WindowSpec::Fraction(Window::LEVELS),
+    };
+    Ok(SectorSettings {
+        levels_window,
+        window: select.window_spec(Window::MATRIX_ELEMENTS)?,
+        offdiagonal: OffdiagonalOptions { omega_max },
+        project: ProjectOptions::from_memory_arg(memory)?,
+    })
+}
+
+/// Runs the pipeline on every selected file and sector.
+pub fn analyse_all(input: &InputArgs, select: &SelectArgs, observables: &[String], settings: &SectorSettings) -> Result<Vec<SectorAnalysis>> {
+    let files = input.open()?;
+    let mut out = Vec::new();
+    let pb = crate::progress::bar(files.iter().map(|f| f.sectors().len() as u64).sum(), "sectors");
+    for f in &files {
+        for s in f.select(select.sector.as_deref())? {
+            pb.set_message(format!("{} [{}]", f.path().display(), s.name));
+            out.push(analyse_sector(f, s, observables, settings)?);
+            pb.inc(1);
+        }
+    }
+    pb.finish_and_clear();
+    Ok(out)
+}
+
+/// Builds the rows, fits and verdicts from per-sector analyses.
+pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Report> {
+    let mut rows = Vec::new();
+    for a in analyses {
+        for o in &a.observables {
+            let d = &o.diagonal;
+            let off = o.offdiagonal.as_ref();
+            let nan = f64::NAN;
+            let (lo, lo_e, g, g_e, r, r_e) = off
+                .map(|x| {
+                    (
+                        x.low_omega_variance,
+                        x.low_omega_variance_stderr,
+                        x.gaussian_ratio,
+                        x.gaussian_ratio_stderr,
+                        x.diag_offdiag_ratio,
+                        x.diag_offdiag_ratio_stderr,
+                    )
+                })
+                .unwrap_or((nan, nan, nan, nan, nan, nan));
+            let (amin, amax) = o
+                .points
+                .iter()
+                .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| (lo.min(p.1), hi.max(p.1)));
+            let sector_key = if combine_sectors { "*".to_string() } else { a.sector.clone() };
+            rows.push(Row {
+                family: format!("{} | {} | {}", a.model.clone().unwrap_or_else(|| "-".into()), sector_key, o.name),
+                file: a.file.clone(),
+                sector: a.sector.clone(),
+                observable: o.name.clone(),
+                dimension: a.dimension as f64,
+                size: a.size,
+                mean_r: a.levels.mean_r,
+                mean_r_stderr: a.levels.mean_r_stderr,
+                fluct_variance: d.fluct_variance,
+                fluct_variance_stderr: o.bootstrap.fluct_variance,
+                diff_mean_abs: d.diff_mean_abs,
+                diff_mean_abs_stderr: o.bootstrap.diff_mean_abs,
+                low_omega_variance: lo,
+                low_omega_variance_stderr: lo_e,
+                gaussian_ratio: g,
+                gaussian_ratio_stderr: g_e,
+                diag_offdiag_ratio: r,
+                diag_offdiag_ratio_stderr: r_e,
+                canonical_rms_deviation: d.predictions.canonical.as_ref().map(|c| c.rms).unwrap_or(nan),
+                observable_spread: amax - amin,
+                field: a.field,
+                diagonal_vanishes: o.diagonal_vanishes,
+            });
+        }
+    }
+    if combine_sectors {
+        rows = combine(rows);
+    }
+    rows.sort_by(|a, b| a.family.cmp(&b.family).then(a.dimension.total_cmp(&b.dimension)));
+
+    let mut families: Vec<String> = rows.iter().map(|r| r.family.clone()).collect();
+    families.dedup();
+    let mut fits = Vec::new();
+    let mut verdicts = Vec::new();
+    for fam in &families {
+        let fr: Vec<&Row> = rows.iter().filter(|r| &r.family == fam).collect();
+        let mut fluct_fit = None;
+        for figure in ["fluct_variance", "diff_mean_abs", "low_omega_variance"] {
+            if let Some(fit) = fit_figure(fam, figure, &fr) {
+                if figure == "fluct_variance" {
+                    fluct_fit = Some(fit.power_law.clone());
+                }
+                fits.push(fit);
+            }
+        }
+        let last = fr.last().ok_or_else(|| Error::other("empty family"))?;
+        let symmetry = match last.field {
+            Field::Real => Symmetry::Real,
+            Field::Complex => Symmetry::Complex,
+        };
+        let vanishes = fr.iter().all(|r| r.diagonal_vanishes);
+        let inputs = VerdictInputs {
+            symmetry,
+            mean_r: fr
+                .iter()
+                .map(|r| RatioAtSize { dimension: r.dimension, mean_r: r.mean_r, stderr: r.mean_r_stderr })
+                .collect(),
+            fluctuation: if vanishes {
+                None
+            } else {
+                fluct_fit.map(|f| ExponentEvidence::variance(f.exponent, f.exponent_stderr))
+            },
+            canonical: (last.canonical_rms_deviation.is_finite() && last.observable_spread > 0.0).then(|| {
+                CanonicalDeviation { deviation: last.canonical_rms_deviation, scale: last.observable_spread }
+            }),
+            low_omega_ratio: (last.diag_offdiag_ratio.is_finite() && !vanishes)
+                .then(|| RatioEvidence { ratio: last.diag_offdiag_ratio, stderr: last.diag_offdiag_ratio_stderr }),
+        };
+        let mut verdict = scaling::decide(&inputs);
+        if vanishes {
+            verdict.reasons.push(
+                "every diagonal element vanishes by symmetry: fluctuation figures carry no evidence".to_string(),
+            );
+        }
+        verdicts.push(FamilyVerdict { family: fam.clone(), observable: last.observable.clone(), verdict });
+    }
+    Ok(Report {
+        method: format!(
+            "families = (model attribute, sector{}, observable); fits: weighted least squares of ln(figure) \
+             against ln D (and against L where sizes are known); fluctuation errors: moving-block bootstrap \
+             of consecutive differences, {RESAMPLES} resamples, fixed seed; off-diagonal errors: analytic \
+             standard errors over pairs",
+            if combine_sectors { "s of one size combined" } else { " kept apart" }
+        ),
+        rows,
+        fits,
+        verdicts,
+    })
+}
+
+/// Fits `figure ∝ D^(−α)` (and `∝ e^(−κL)`) over the rows of a family; `None` with fewer
+/// than two usable (positive, finite) points.
+fn fit_figure(family: &str, figure: &str, rows: &[&Row]) -> Option<FigureFit> {
+    let pick = |r: &Row| match figure {
+        "fluct_variance" => (r.fluct_variance, r.fluct_variance_stderr),
+        "diff_mean_abs" => (r.diff_mean_abs, r.diff_mean_abs_stderr),
+        _ => (r.low_omega_variance, r.low_omega_variance_stderr),
+    };
+    let usable: Vec<&&Row> = rows.iter().filter(|r| { let (y, _) = pick(r); y.is_finite() && y > 0.0 }).collect();
+    if usable.len() < 2 {
+        return None;
+    }
+    let dims: Vec<f64> = usable.iter().map(|r| r.dimension).collect();
+    let ys: Vec<f64> = usable.iter().map(|r| pick(r).0).collect();
+    let es: Vec<f64> = usable.iter().map(|r| pick(r).1).collect();
+    let errors = es.iter().all(|e| e.is_finite() && *e > 0.0).then_some(es.as_slice());
+    let power_law = fit_power_law(&dims, &ys, errors).ok()?;
+    let exponential = if usable.iter().all(|r| r.size.is_some()) {
+        let sizes: Vec<f64> = usable.iter().map(|r| r.size.unwrap_or(0) as f64).collect();
+        let distinct = sizes.windows(2).any(|w| w[0] != w[1]);
+        if distinct { fit_exponential(&sizes, &ys, errors).ok() } else { None }
+    } else {
+        None
+    };
+    Some(FigureFit {
+        family: family.to_string(),
+        figure: figure.to_string(),
+        alpha: power_law.exponent,
+        alpha_stderr: power_law.exponent_stderr,
+        power_law,
+        exponential,
+    })
+}
+
+/// Merges rows of one family and one size (or dimension, when sizes are unknown).
+fn combine(rows: Vec<Row>) -> Vec<Row> {
+    let mut out: Vec<Row> = Vec::new();
+    let mut groups: Vec<Vec<Row>> = Vec::new();
+    for r in rows {
+        let key = |x: &Row| (x.family.clone(), x.size.map(|s| s as f64).unwrap_or(x.dimension));
+        match groups.iter_mut().find(|g| key(&g[0]) == key(&r)) {
+            Some(g) => g.push(r),
+            None => groups.push(vec![r]),
+        }
+    }
+    for g in groups {
+        let k = g.len() as f64;
+        let avg = |f: &dyn Fn(&Row) -> f64| g.iter().map(f).sum::<f64>() / k;
+        let comb = |f: &dyn Fn(&Row) -> f64| g.iter().map(|r| f(r).powi(2)).sum::<f64>().sqrt() / k;
+        let mut r = g[0].clone();
+        r.file = join(g.iter().map(|x| x.file.as_str()));
+        r.sector = join(g.iter().map(|x| x.sector.as_str()));
+        r.dimension = avg(&|x| x.dimension);
+        r.mean_r = avg(&|x| x.mean_r);
+        r.mean_r_stderr = comb(&|x| x.mean_r_stderr);
+        r.fluct_variance = avg(&|x| x.fluct_variance);
+        r.fluct_variance_stderr = comb(&|x| x.fluct_variance_stderr);
+        r.diff_mean_abs = avg(&|x| x.diff_mean_abs);
+        r.diff_mean_abs_stderr = comb(&|x| x.diff_mean_abs_stderr);
+        r.low_omega_variance = avg(&|x| x.low_omega_variance);
+        r.low_omega_variance_stderr = comb(&|x| x.low_omega_variance_stderr);
+        r.gaussian_ratio = avg(&|x| x.gaussian_ratio);
+        r.gaussian_ratio_stderr = comb(&|x| x.gaussian_ratio_stderr);
+        r.diag_offdiag_ratio = avg(&|x| x.diag_offdiag_ratio);
+        r.diag_offdiag_ratio_stderr = comb(&|x| x.diag_offdiag_ratio_stderr);
+        r.canonical_rms_deviation = avg(&|x| x.canonical_rms_deviation);
+        r.observable_spread = g.iter().map(|x| x.observable_spread).fold(0.0, f64::max);
+        r.diagonal_vanishes = g.iter().all(|x| x.diagonal_vanishes);
+        out.push(r);
+    }
+    out
+}
+
+fn join<'a>(it: impl Iterator<Item = &'a str>) -> String {
+    let mut v: Vec<&str> = it.collect();
+    v.dedup();
+    v.join("+")
+}
+
+/// The scaling table as a [`crate::report::table::Table`].
+pub fn table(report: &Report) -> Result<crate::report::table::Table> {
+    use crate::report::table::{Cell, Column, Table};
+    let cols = vec![
+        Column::new("family", "family"),
+        Column::new("sector", "sector"),
+        Column::new("size", "L"),
+        Column::new("dimension", "D"),
+        Column::new("mean_r", "⟨r̃⟩"),
+        Column::new("fluct_variance", "fluct. variance"),
+        Column::new("diff_mean_abs", "⟨|ΔA|⟩"),
+        Column::new("low_omega_variance", "low-ω ⟨|A_nm|²⟩"),
+        Column::new("gaussian_ratio", "Γ"),
+        Column::new("diag_offdiag_ratio", "diag/offdiag"),
+    ];
+    let mut t = Table::new(cols);
+    for r in &report.rows {
+        let u = |v: f64, e: f64| -> Cell { if v.is_finite() { Cell::from((v, e)) } else { Cell::Empty } };
+        t.push_row(vec![
+            Cell::from(r.family.as_str()),
+            Cell::from(r.sector.as_str()),
+            r.size.map(|s| Cell::Int(s as i64)).unwrap_or(Cell::Empty),
+            Cell::Int(r.dimension.round() as i64),
+            u(r.mean_r, r.mean_r_stderr),
+            u(r.fluct_variance, r.fluct_variance_stderr),
+            u(r.diff_mean_abs, r.diff_mean_abs_stderr),
+            u(r.low_omega_variance, r.low_omega_variance_stderr),
+            u(r.gaussian_ratio, r.gaussian_ratio_stderr),
+            u(r.diag_offdiag_ratio, r.diag_offdiag_ratio_stderr),
+        ])?;
+    }
+    Ok(t)
+}
+
+/// Human-readable rendering: the table, the fits, the verdicts with their rule and caveat.
+pub fn render_text(report: &Report) -> String {
+    use std::fmt::Write;
+    let mut s = String::new();
+    if let Ok(t) = table(report) {
+        let _ = writeln!(s, "{}", t.to_markdown());
+    }
+    let _ = writeln!(s, "Fits (figure ∝ D^-alpha; figure ∝ exp(-kappa L) where sizes are known):");
+    for f in &report.fits {
+        let _ = write!(
+            s,
+            "  {:<40} {:<20} alpha = {}",
+            f.family,
+            f.figure,
+            crate::report::table::format_uncertain(f.alpha, f.alpha_stderr)
+        );
+        if let Some(e) = &f.exponential {
+            let _ = write!(s, "   kappa = {}", crate::report::table::format_uncertain(e.exponent, e.exponent_stderr));
+        }
+        let _ = writeln!(s, "   (chi2/dof {:.2}, {} points)", f.power_law.chi2_per_dof, f.power_law.points);
+    }
+    let _ = writeln!(s, "\nVerdicts:");
+    for v in &report.verdicts {
+        let _ = writeln!(s, "  {}: {}", v.family, v.verdict.verdict);
+        for r in &v.verdict.reasons {
+            let _ = writeln!(s, "    - {r}");
+        }
+    }
+    if let Some(v) = report.verdicts.first() {
+        let _ = writeln!(s, "\n{}\n\nCaveat: {}", v.verdict.rule, v.verdict.caveat);
+    }
+    s
+}
 
 /// Runs `eigentherm scaling`.
-pub fn run(_args: &Args) -> Result<()> {
-    Err(Error::other("'scaling' is not implemented yet"))
+pub fn run(args: &Args) -> Result<()> {
+    let st = settings(&args.select, args.levels_window.as_deref(), args.omega_max, args.memory.as_deref())?;
+    let analyses = analyse_all(&args.input, &args.select, &args.observables, &st)?;
+    let report = build(&analyses, args.combine_sectors)?;
+    if args.select.json {
+        crate::report::json::print(&report)
+    } else {
+        print!("{}", render_text(&report));
+        Ok(())
+    }
 }

@@ -373,6 +373,7 @@ fn describe(
         .map_err(|e| h5::h5err(file, group, "cannot open group", e))?;
     let size = attr_count(file, group, &gobj, "size")?;
     let label = attr_string(file, group, &gobj, "label")?;
+    let model = attr_string(file, group, &gobj, "model")?;
 
     Ok(Sector {
         name: sector_name(group),
@@ -386,6 +387,7 @@ fn describe(
         observables,
         size,
         label,
+        model,
         energies_path: epath.to_string(),
         energies_element: eel,
         eigenvectors_path: vpath,

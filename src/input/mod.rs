@@ -161,6 +161,9 @@ pub struct Sector {
     pub size: Option<usize>,
     /// Attribute `label`, when present.
     pub label: Option<String>,
+    /// Attribute `model` (the model family, written by `eigentherm generate`), when present;
+    /// `scaling` groups sectors by it.
+    pub model: Option<String>,
     /// Full HDF5 path of the energies.
     pub energies_path: String,
     /// Element type of the energies as stored.

@@ -1,0 +1,214 @@
+//! The whole per-sector pipeline shared by `scaling` and `study`: level statistics,
+//! diagonal and off-diagonal figures of each observable, and bootstrap errors of the
+//! eigenstate-to-eigenstate fluctuation figures.
+//!
+//! Bootstrap: the consecutive differences `Δₙ = Aₙ₊₁,ₙ₊₁ − Aₙₙ` in the window are
+//! resampled in moving blocks (length `⌈N^{1/3}⌉`, at least 2, because neighbouring
+//! differences share a state), [`RESAMPLES`] times with the fixed seed
+//! [`crate::analysis::scaling::DEFAULT_SEED`]; `diff_mean_abs = ⟨|Δ|⟩` and
+//! `fluct_variance = ½⟨Δ²⟩` are recomputed on each resample and their standard deviation
+//! is the quoted error. The off-diagonal figures carry the analytic standard errors of
+//! their accumulators (independent pairs).
+
+use crate::analysis::diagonal::{self, DiagonalResult};
+use crate::analysis::levels::{self, LevelOptions, LevelReport};
+use crate::analysis::offdiagonal::{Accumulator, OffdiagonalOptions, OffdiagonalResult};
+use crate::analysis::scaling::{block_bootstrap, default_block_length, DEFAULT_SEED};
+use crate::data::{Field, Operator, Spectrum};
+use crate::error::{Error, Result};
+use crate::input::{EigenFile, Sector};
+use crate::project::{self, ProjectOptions};
+use crate::window::WindowSpec;
+use serde::Serialize;
+
+/// Bootstrap resamples of the fluctuation figures.
+pub const RESAMPLES: usize = 200;
+
+/// Settings of the per-sector pipeline.
+#[derive(Debug, Clone)]
+pub struct SectorSettings {
+    /// Window of the level statistics.
+    pub levels_window: WindowSpec,
+    /// Window of the matrix-element analyses.
+    pub window: WindowSpec,
+    /// Off-diagonal options (omega_max).
+    pub offdiagonal: OffdiagonalOptions,
+    /// Projector memory budget.
+    pub project: ProjectOptions,
+}
+
+/// Bootstrap errors of the diagonal fluctuation figures.
+#[derive(Debug, Clone, Serialize)]
+pub struct BootstrapErrors {
+    /// Standard error of `diff_mean_abs`.
+    pub diff_mean_abs: f64,
+    /// Standard error of `fluct_variance`.
+    pub fluct_variance: f64,
+    /// Block length used.
+    pub block_length: usize,
+    /// Number of resamples.
+    pub resamples: usize,
+    /// Seed of the generator.
+    pub seed: u64,
+}
+
+/// Results of one observable in one sector.
+#[derive(Debug, Clone, Serialize)]
+pub struct ObservableAnalysis {
+    /// Observable name.
+    pub name: String,
+    /// Diagonal figures and thermal predictions.
+    pub diagonal: DiagonalResult,
+    /// Off-diagonal figures and envelope; `None` when too few pairs (the reason is in `notes`).
+    pub offdiagonal: Option<OffdiagonalResult>,
+    /// Bootstrap errors of the fluctuation figures.
+    pub bootstrap: BootstrapErrors,
+    /// True when every diagonal element vanishes (|Aₙₙ| < 1e-12 max|A|): typically a symmetry forbids it.
+    pub diagonal_vanishes: bool,
+    /// `(Eₙ, Aₙₙ)` of every state (for figures; not serialised).
+    #[serde(skip)]
+    pub points: Vec<(f64, f64)>,
+    /// Remarks (e.g. why the off-diagonal analysis was skipped).
+    pub notes: Vec<String>,
+}
+
+/// Results of one sector.
+#[derive(Debug, Clone, Serialize)]
+pub struct SectorAnalysis {
+    /// The file.
+    pub file: String,
+    /// Sector name.
+    pub sector: String,
+    /// Attribute `label`, or `file [sector]`.
+    pub label: String,
+    /// Attribute `model`, when present.
+    pub model: Option<String>,
+    /// Attribute `size` (sites), when present.
+    pub size: Option<usize>,
+    /// Hilbert-space dimension (eigenvector length; the number of states when not stored).
+    pub dimension: usize,
+    /// Number of stored states.
+    pub n_states: usize,
+    /// Element type of the eigenvectors.
+    pub field: Field,
+    /// Level statistics.
+    pub levels: LevelReport,
+    /// One entry per observable.
+    pub observables: Vec<ObservableAnalysis>,
+}
+
+/// Runs the whole pipeline on one sector for the observables `names` (all when empty).
+pub fn analyse_sector(
+    file: &EigenFile,
+    sector: &Sector,
+    names: &[String],
+    settings: &SectorSettings,
+) -> Result<SectorAnalysis> {
+    let in_sector = |e: Error| match e {
+        Error::Other(m) => Error::dataset(file.path(), sector.group.clone(), m),
+        other => other,
+    };
+    let spectrum: Spectrum = file.spectrum(sector)?;
+    let levels = levels::analyze(&spectrum.energies, &settings.levels_window, &LevelOptions::default())
+        .map_err(in_sector)?;
+    let (ops, src) = crate::commands::diagonal::load_sector(file, sector, names, &spectrum)?;
+    if sector.dim.is_some() {
+        crate::input::validate::require_orthonormal(file, sector, src.as_ref())?;
+    }
+    let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
+    let n = spectrum.len();
+    let diags = project::project_diagonal(src.as_ref(), &refs, 0..n, &settings.project).map_err(in_sector)?;
+    let range = settings.window.indices(&spectrum.energies);
+    let label = settings.window.label();
+
+    // Off-diagonal accumulators, all observables in one pass over the eigenvectors.
+    let mut accs = Vec::with_capacity(ops.len());
+    let mut notes: Vec<Vec<String>> = vec![Vec::new(); ops.len()];
+    for (k, (name, _)) in ops.iter().enumerate() {
+        match Accumulator::new(name, &spectrum.energies, range.clone(), &label, &settings.offdiagonal) {
+            Ok(a) => accs.push(Some(a)),
+            Err(e) => {
+                notes[k].push(format!("off-diagonal analysis skipped: {e}"));
+                accs.push(None);
+            }
+        }
+    }
+    if accs.iter().any(Option::is_some) {
+        project::for_each_block(src.as_ref(), &refs, range.clone(), &settings.project, |blk| {
+            for (acc, m) in accs.iter_mut().zip(&blk.elements) {
+                if let Some(a) = acc {
+                    a.add_block(blk, m)?;
+                }
+            }
+            Ok(())
+        })
+        .map_err(in_sector)?;
+    }
+
+    let mut observables = Vec::with_capacity(ops.len());
+    for (k, (((name, _), d), acc)) in ops.iter().zip(&diags).zip(accs).enumerate() {
+        let diagonal = diagonal::analyse(name, &spectrum.energies, d, range.clone(), &label, sector.dim)
+            .map_err(in_sector)?;
+        let offdiagonal = match acc.map(Accumulator::finish) {
+            Some(Ok(r)) => Some(r),
+            Some(Err(e)) => {
+                notes[k].push(format!("off-diagonal analysis skipped: {e}"));
+                None
+            }
+            None => None,
+        };
+        let window_values = &d[range.clone()];
+        let diffs: Vec<f64> = window_values.windows(2).map(|w| w[1] - w[0]).collect();
+        let block = default_block_length(diffs.len());
+        let (_, e_abs) = block_bootstrap(&diffs, mean_abs, block, RESAMPLES, DEFAULT_SEED);
+        let (_, e_var) = block_bootstrap(&diffs, half_mean_square, block, RESAMPLES, DEFAULT_SEED);
+        let scale = d.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        let vanishes = d.iter().all(|x| x.abs() <= 1e-12 * scale.max(1.0));
+        if vanishes {
+            notes[k].push(
+                "every diagonal element vanishes: a symmetry of the sector forbids a non-zero ⟨A⟩ \
+                 (fluctuation figures are zero and carry no evidence)"
+                    .to_string(),
+            );
+        }
+        observables.push(ObservableAnalysis {
+            name: name.clone(),
+            diagonal,
+            offdiagonal,
+            bootstrap: BootstrapErrors {
+                diff_mean_abs: e_abs,
+                fluct_variance: e_var,
+                block_length: block,
+                resamples: RESAMPLES,
+                seed: DEFAULT_SEED,
+            },
+            diagonal_vanishes: vanishes,
+            points: spectrum.energies.iter().copied().zip(d.iter().copied()).collect(),
+            notes: std::mem::take(&mut notes[k]),
+        });
+    }
+    let file_name = file.path().display().to_string();
+    Ok(SectorAnalysis {
+        label: sector
+            .label
+            .clone()
+            .unwrap_or_else(|| format!("{} [{}]", file_name, sector.name)),
+        file: file_name,
+        sector: sector.name.clone(),
+        model: sector.model.clone(),
+        size: sector.size,
+        dimension: sector.dim.unwrap_or(n),
+        n_states: n,
+        field: sector.field.unwrap_or(Field::Real),
+        levels,
+        observables,
+    })
+}
+
+fn mean_abs(x: &[f64]) -> f64 {
+    x.iter().map(|v| v.abs()).sum::<f64>() / x.len().max(1) as f64
+}
+
+fn half_mean_square(x: &[f64]) -> f64 {
+    0.5 * x.iter().map(|v| v * v).sum::<f64>() / x.len().max(1) as f64
+}
