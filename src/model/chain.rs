@@ -215,7 +215,7 @@ fn parameters(model: &ChainModel) -> Vec<(&'static str, f64)> {
 
 fn check_spec(spec: &ChainSpec) -> Result<()> {
     let l = spec.sites;
-    if l < 2 || l > super::basis::MAX_SITES {
+    if !(2..=super::basis::MAX_SITES).contains(&l) {
         return Err(Error::usage(format!(
             "number of sites must be between 2 and {}, got {l}",
             super::basis::MAX_SITES
