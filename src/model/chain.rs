@@ -215,7 +215,7 @@ fn parameters(model: &ChainModel) -> Vec<(&'static str, f64)> {
 
 fn check_spec(spec: &ChainSpec) -> Result<()> {
     let l = spec.sites;
-    if l < 2 || l > super::basis::MAX_SITES {
+    if !(2..=super::basis::MAX_SITES).contains(&l) {
         return Err(Error::usage(format!(
             "number of sites must be between 2 and {}, got {l}",
             super::basis::MAX_SITES
@@ -279,6 +279,16 @@ pub fn product_states(sites: usize) -> Vec<(&'static str, Vec<f64>)> {
 ///
 /// Sector groups: `even` and `odd` for [`Reflection::Resolve`], `full` otherwise.
 pub fn build_chain(spec: &ChainSpec) -> Result<Vec<SectorData>> {
+    Ok(build_chain_timed(spec)?
+        .into_iter()
+        .map(|(s, _)| s)
+        .collect())
+}
+
+/// [`build_chain`], also returning the time spent on each sector (projection and
+/// diagonalisation; the shared full-space assembly is counted in the first sector).
+pub fn build_chain_timed(spec: &ChainSpec) -> Result<Vec<(SectorData, std::time::Duration)>> {
+    let mut clock = std::time::Instant::now();
     check_spec(spec)?;
     let l = spec.sites;
     let site = observable_site(spec) - 1; // 0-based
@@ -378,7 +388,7 @@ pub fn build_chain(spec: &ChainSpec) -> Result<Vec<SectorData>> {
             Reflection::Resolve => "resolve",
             Reflection::Break { .. } => "break",
         };
-        out.push(SectorData {
+        let sector = SectorData {
             group: group.to_string(),
             energies,
             eigenvectors: Some(Matrix::Real(vectors)),
@@ -396,7 +406,9 @@ pub fn build_chain(spec: &ChainSpec) -> Result<Vec<SectorData>> {
             typed_attributes: typed,
             embedding: Some(basis.embedding()),
             notes,
-        });
+        };
+        out.push((sector, clock.elapsed()));
+        clock = std::time::Instant::now();
     }
     Ok(out)
 }

@@ -60,7 +60,7 @@ pub struct RandomSpec {
 /// with energies, eigenvectors, Hamiltonian and the observables `diag_pm`, `dense_rand`.
 pub fn build_random(spec: &RandomSpec) -> Result<SectorData> {
     let n = spec.dim;
-    if n < 2 || n > MAX_DIM {
+    if !(2..=MAX_DIM).contains(&n) {
         return Err(Error::usage(format!(
             "random-matrix dimension must be between 2 and {MAX_DIM}, got {n}"
         )));
