@@ -722,6 +722,54 @@ fn bound_check(a_kk: &Matrix, d_eff: f64, sigma2: f64) -> Result<BoundCheck> {
     })
 }
 
+/// A sector's quench result with the diagonal elements of all its states (kept for
+/// [`combine`]).
+#[derive(Debug, Clone, Serialize)]
+pub struct SectorQuench {
+    /// The analysis.
+    pub report: QuenchReport,
+    /// `Aₙₙ` for all states of the sector.
+    #[serde(skip)]
+    pub diag_all: Vec<f64>,
+}
+
+/// The whole pipeline for one sector: `cₙ = vₙᴴψ` and `Aₙₙ` in one streamed pass
+/// ([`basis::coefficients_and_diagonal`]), the kept states ([`kept_states`] with
+/// `opts.drop_weight`), `A_KK` ([`basis::project_kept`]), then [`analyze`].
+/// `energies` are the ascending energies of the `src.n_states()` eigenvectors and `psi` is the
+/// state in the sector's computational basis.
+pub fn quench_sector(
+    src: &dyn crate::data::ColumnSource,
+    energies: &[f64],
+    op: &crate::data::Operator,
+    psi: &[c64],
+    times: &[f64],
+    opts: &QuenchOptions,
+) -> Result<SectorQuench> {
+    if energies.len() != src.n_states() {
+        return Err(Error::other(format!(
+            "quench: {} energies but {} eigenvectors",
+            energies.len(),
+            src.n_states()
+        )));
+    }
+    let (coeffs, diag) = basis::coefficients_and_diagonal(src, psi, Some(op))?;
+    let diag_all = diag.ok_or_else(|| Error::other("internal: no diagonal elements"))?;
+    let weights: Vec<f64> = coeffs.iter().map(|c| c.norm_sqr()).collect();
+    let kept = kept_states(&weights, opts.drop_weight);
+    let a_kk = basis::project_kept(src, op, &kept.indices)?;
+    let report = analyze(
+        energies,
+        &diag_all,
+        &coeffs,
+        &a_kk,
+        &kept.indices,
+        times,
+        opts,
+    )?;
+    Ok(SectorQuench { report, diag_all })
+}
+
 /// The combination of per-sector results for an operator that is block diagonal in the
 /// sectors (`A = Σ_s P_s A P_s`; the operators stored per sector are of that form): with
 /// sector weights `w_s`, `⟨A(t)⟩ = Σ_s w_s ⟨A(t)⟩_s`, `E = Σ_s w_s E_s`, `A_DE = Σ_s w_s A_DE,s`,
