@@ -17,6 +17,7 @@ pub struct Cli {
 
 /// The subcommands.
 #[derive(Debug, Subcommand)]
+#[allow(clippy::large_enum_variant)] // parsed once; boxing the option structs buys nothing
 pub enum Command {
     /// Build the files of an invented demo scenario and run every analysis on them.
     Demo(commands::demo::Args),

@@ -90,6 +90,10 @@ fn gaussian_ensembles_have_the_textbook_variance_ratio() {
             }
             _ => panic!("dense Hamiltonian expected"),
         };
+        // Mehta (2004), semicircle of radius √2 after the 1/√N scaling: ⟨E²⟩ = R²/4 = 1/2
+        // (+ 1/(2N) at finite N for the GOE); 5 % tolerance
+        let e2 = s.energies.iter().map(|e| e * e).sum::<f64>() / s.energies.len() as f64;
+        assert!((e2 - 0.5).abs() < 0.025, "{ens:?}: <E²> = {e2}");
         let ratio = diag / off;
         assert!((ratio - want).abs() < 0.3 * want, "{ens:?}: ratio {ratio}");
     }

@@ -1,12 +1,571 @@
-//! `eigentherm quench` (not yet implemented).
+//! `eigentherm quench`: quench dynamics of an initial state from the stored eigenbasis.
+//!
+//! `eigentherm quench FILE... --observable NAME --state SPEC [--times lin:T0:T1:N|log:T0:T1:N]
+//! [--drop-weight EPS] [--shell-width DE] [--sector NAME] [--json]`
+//!
+//! The state SPEC (see [`crate::analysis::quench::state`]): `stored:NAME`, `index:K`,
+//! `product:LETTERS` (letters `u d + - r l`, site 1 first) or `product:x+` (every site along
+//! +x; also `x-`, `y±`, `z±`). A full-space state (`product:`, or `index:` when the file has
+//! embeddings) is decomposed over the sectors with their `embedding` (`c = Pᵀψ`); each sector
+//! with weight is analysed with its normalised component, and the sector results are combined
+//! with their weights. The combination is the dynamics of the sector-block-diagonal part
+//! `Σ_s P_s A P_s` of the observable — which is the operator itself for the observables stored
+//! per sector.
 
+use crate::analysis::quench::{
+    self, state::StateSpec, Combined, QuenchOptions, QuenchReport, SectorPart, TimeGrid,
+    DEFAULT_DROP_WEIGHT, DEFAULT_TIMES,
+};
+use crate::commands::common::{InputArgs, PathArgs};
+use crate::data::{c64, Csr};
 use crate::error::{Error, Result};
+use crate::input::{EigenFile, Layout, Overrides, Sector};
+use serde::Serialize;
+use std::path::Path;
 
 /// Options of `eigentherm quench`.
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// Input files and dataset path overrides.
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Observable name (under `observables/` in each sector).
+    #[arg(long, value_name = "NAME")]
+    pub observable: String,
+    /// Initial state: stored:NAME | index:K | product:LETTERS (u d + - r l per site, site 1 first) | product:x+ (also x-, y+, y-, z+, z-).
+    #[arg(long, value_name = "SPEC")]
+    pub state: String,
+    /// Time grid: lin:T0:T1:N or log:T0:T1:N (times in units of ħ/energy unit).
+    #[arg(long, value_name = "GRID", default_value = DEFAULT_TIMES)]
+    pub times: String,
+    /// Fraction of the norm that may be dropped: the trace keeps the largest weights |cₙ|² until 1 − EPS of the norm.
+    #[arg(long, value_name = "EPS", default_value_t = DEFAULT_DROP_WEIGHT)]
+    pub drop_weight: f64,
+    /// Full width ΔE of the microcanonical shell [default: 5% of the spectral width].
+    #[arg(long, value_name = "DE")]
+    pub shell_width: Option<f64>,
+    /// Analyse only this sector (group path); default: every sector where the state has weight.
+    #[arg(long, value_name = "NAME")]
+    pub sector: Option<String>,
+    /// Print JSON to stdout instead of text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// One sector's result.
+#[derive(Debug, Serialize)]
+pub struct SectorResult {
+    /// Sector name.
+    pub name: String,
+    /// Weight of the state in the sector, `‖c_s‖²` (before normalisation).
+    pub weight: f64,
+    /// Fraction of that weight on the stored eigenstates (< 1 for a partial eigenbasis).
+    pub captured: f64,
+    /// The analysis of the normalised sector component.
+    pub report: QuenchReport,
+}
+
+/// The result for one file.
+#[derive(Debug, Serialize)]
+pub struct FileResult {
+    /// The file.
+    pub file: String,
+    /// The observable.
+    pub observable: String,
+    /// The state SPEC as given.
+    pub state: String,
+    /// The parsed state.
+    pub state_spec: StateSpec,
+    /// The time grid.
+    pub times: TimeGrid,
+    /// The options used.
+    pub options: QuenchOptions,
+    /// Per-sector results.
+    pub sectors: Vec<SectorResult>,
+    /// Sectors where the state has no weight (skipped).
+    pub sectors_without_weight: Vec<String>,
+    /// Weighted combination over the sectors (when more than one has weight).
+    pub combined: Option<Combined>,
+}
 
 /// Runs `eigentherm quench`.
-pub fn run(_args: &Args) -> Result<()> {
-    Err(Error::other("'quench' is not implemented yet"))
+pub fn run(args: &Args) -> Result<()> {
+    let grid = TimeGrid::parse(&args.times)?;
+    let spec = StateSpec::parse(&args.state)?;
+    if !(args.drop_weight.is_finite() && (0.0..1.0).contains(&args.drop_weight)) {
+        return Err(Error::usage(format!(
+            "--drop-weight {}: expected 0 <= EPS < 1",
+            args.drop_weight
+        )));
+    }
+    if let Some(w) = args.shell_width {
+        if !(w.is_finite() && w > 0.0) {
+            return Err(Error::usage(format!(
+                "--shell-width {w}: expected a positive width"
+            )));
+        }
+    }
+    let opts = QuenchOptions {
+        shell_half_width: args.shell_width.map(|w| 0.5 * w),
+        drop_weight: args.drop_weight,
+        ..QuenchOptions::default()
+    };
+    let overrides = overrides(&args.input.paths)?;
+    let mut results = Vec::new();
+    for path in &args.input.files {
+        let r = run_file(path, &overrides, args, &spec, grid, &opts)?;
+        if !args.json {
+            print_text(&r);
+        }
+        results.push(r);
+    }
+    if args.json {
+        let out = serde_json::json!({ "files": results });
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&out)
+                .map_err(|e| Error::other(format!("JSON output failed: {e}")))?
+        );
+    }
+    Ok(())
+}
+
+/// Dataset path overrides from the command line.
+fn overrides(p: &PathArgs) -> Result<Overrides> {
+    let layout = match p.layout.as_deref() {
+        None => None,
+        Some("columns") => Some(Layout::Columns),
+        Some("rows") => Some(Layout::Rows),
+        Some(o) => {
+            return Err(Error::usage(format!(
+                "--layout {o}: expected 'columns' or 'rows'"
+            )))
+        }
+    };
+    let observables = p
+        .observable_paths
+        .iter()
+        .map(|s| {
+            s.split_once('=')
+                .filter(|(n, q)| !n.is_empty() && !q.is_empty())
+                .map(|(n, q)| (n.to_string(), q.to_string()))
+                .ok_or_else(|| Error::usage(format!("--observable-path {s}: expected NAME=PATH")))
+        })
+        .collect::<Result<Vec<_>>>()?;
+    Ok(Overrides {
+        energies: p.energies_path.clone(),
+        eigenvectors: p.eigenvectors_path.clone(),
+        layout,
+        observables,
+        hamiltonian: p.hamiltonian_path.clone(),
+    })
+}
+
+/// Gives library errors (which do not know the file) the file and dataset they concern.
+fn ctx(e: Error, file: &Path, dataset: &str) -> Error {
+    match e {
+        Error::Other(m) => Error::dataset(file, dataset, m),
+        e => e,
+    }
+}
+
+/// Sector components `(sector, c_s)` of a state.
+type Components<'a> = Vec<(&'a Sector, Vec<c64>)>;
+
+/// The sector components `(sector, c_s)` of the initial state.
+fn components<'a>(
+    file: &EigenFile,
+    sectors: &[&'a Sector],
+    spec: &StateSpec,
+    explicit_sector: bool,
+) -> Result<Components<'a>> {
+    let path = file.path();
+    let full_space = |index: Option<usize>| -> Result<Option<Components<'a>>> {
+        let mut embs: Vec<(&'a Sector, Csr<f64>)> = Vec::new();
+        for &s in sectors {
+            match file.embedding(s)? {
+                Some(p) => embs.push((s, p)),
+                None if embs.is_empty() && index.is_some() => return Ok(None),
+                None => {
+                    if embs.is_empty() && sectors.len() == 1 {
+                        return Ok(None);
+                    }
+                    return Err(Error::dataset(
+                        path,
+                        format!("{}/embedding", s.group.trim_end_matches('/')),
+                        "missing: cannot decompose a full-space state over the sectors without every sector's embedding",
+                    ));
+                }
+            }
+        }
+        let full_dim = embs[0].1.nrows;
+        if let Some((s, p)) = embs.iter().find(|(_, p)| p.nrows != full_dim) {
+            return Err(Error::dataset(
+                path,
+                format!("{}/embedding", s.group.trim_end_matches('/')),
+                format!(
+                    "full dimension {} differs from {full_dim} in sector '{}'",
+                    p.nrows, embs[0].0.name
+                ),
+            ));
+        }
+        let psi = state_vector(spec, full_dim).map_err(|e| {
+            ctx(
+                e,
+                path,
+                &format!("{}/embedding", embs[0].0.group.trim_end_matches('/')),
+            )
+        })?;
+        let mut out = Vec::new();
+        for (s, p) in &embs {
+            if Some(p.ncols) != s.dim {
+                return Err(Error::dataset(
+                    path,
+                    format!("{}/embedding", s.group.trim_end_matches('/')),
+                    format!(
+                        "has {} columns but the sector dimension is {}",
+                        p.ncols,
+                        s.dim
+                            .map_or("unknown (no eigenvectors)".into(), |d| d.to_string())
+                    ),
+                ));
+            }
+            let c = quench::state::restrict(p, &psi).map_err(|e| {
+                ctx(
+                    e,
+                    path,
+                    &format!("{}/embedding", s.group.trim_end_matches('/')),
+                )
+            })?;
+            out.push((*s, c));
+        }
+        Ok(Some(out))
+    };
+    match spec {
+        StateSpec::Stored { name } => {
+            let mut out = Vec::new();
+            for &s in sectors {
+                if s.states.iter().any(|n| n == name) {
+                    out.push((s, file.state(s, name)?.to_complex()));
+                } else if explicit_sector {
+                    return Err(Error::dataset(
+                        path,
+                        format!("{}/states/{name}", s.group.trim_end_matches('/')),
+                        format!(
+                            "no such state (known: {})",
+                            if s.states.is_empty() {
+                                "none".to_string()
+                            } else {
+                                s.states.join(", ")
+                            }
+                        ),
+                    ));
+                }
+            }
+            if out.is_empty() {
+                return Err(Error::file(
+                    path,
+                    format!("no sector stores the state 'states/{name}'"),
+                ));
+            }
+            Ok(out)
+        }
+        StateSpec::Index { index } => {
+            if let Some(out) = full_space(Some(*index))? {
+                return Ok(out);
+            }
+            // No embeddings: the index is in the basis of the single selected sector.
+            let s = single(sectors, path, "index:K without sector embeddings")?;
+            let dim = sector_dim(s, path)?;
+            if *index >= dim {
+                return Err(Error::usage(format!(
+                    "state index:{index}: the sector '{}' has dimension {dim}",
+                    s.name
+                )));
+            }
+            let mut c = vec![c64::new(0.0, 0.0); dim];
+            c[*index] = c64::new(1.0, 0.0);
+            Ok(vec![(s, c)])
+        }
+        StateSpec::Product { .. } | StateSpec::Uniform { .. } => {
+            if let Some(out) = full_space(None)? {
+                return Ok(out);
+            }
+            // No embedding, one sector: its basis is the full computational basis if dim = 2^L.
+            let s = single(sectors, path, "a product state without sector embeddings")?;
+            let dim = sector_dim(s, path)?;
+            let psi = state_vector(spec, dim).map_err(|e| {
+                ctx(
+                    e,
+                    path,
+                    &format!("{}/eigenvectors", s.group.trim_end_matches('/')),
+                )
+            })?;
+            eprintln!(
+                "note: {}: sector '{}' has no embedding; taking its basis as the full σᶻ basis of {} sites",
+                path.display(),
+                s.name,
+                dim.trailing_zeros()
+            );
+            Ok(vec![(s, psi)])
+        }
+    }
+}
+
+fn single<'a>(sectors: &[&'a Sector], path: &Path, what: &str) -> Result<&'a Sector> {
+    match sectors {
+        [s] => Ok(s),
+        _ => Err(Error::file(
+            path,
+            format!(
+                "{what} needs one sector: choose it with --sector (known: {})",
+                sectors
+                    .iter()
+                    .map(|s| s.name.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ),
+        )),
+    }
+}
+
+fn sector_dim(s: &Sector, path: &Path) -> Result<usize> {
+    s.dim.ok_or_else(|| {
+        Error::dataset(
+            path,
+            format!("{}/eigenvectors", s.group.trim_end_matches('/')),
+            "missing: the quench needs the eigenvectors",
+        )
+    })
+}
+
+/// The full-space vector of an `index:` or `product:` state of dimension `full_dim`.
+fn state_vector(spec: &StateSpec, full_dim: usize) -> Result<Vec<c64>> {
+    match spec {
+        StateSpec::Index { index } => {
+            if *index >= full_dim {
+                return Err(Error::usage(format!(
+                    "state index:{index}: the full dimension is {full_dim}"
+                )));
+            }
+            let mut v = vec![c64::new(0.0, 0.0); full_dim];
+            v[*index] = c64::new(1.0, 0.0);
+            Ok(v)
+        }
+        StateSpec::Product { sites } => {
+            let l = quench::state::sites_of_dim(full_dim).ok_or_else(|| {
+                Error::other(format!(
+                    "full dimension {full_dim} is not 2^L: not a spin-1/2 chain"
+                ))
+            })?;
+            if sites.len() != l {
+                return Err(Error::usage(format!(
+                    "the product state gives {} sites but the chain has {l}",
+                    sites.len()
+                )));
+            }
+            quench::state::product_state(sites)
+        }
+        StateSpec::Uniform { site } => {
+            let l = quench::state::sites_of_dim(full_dim).ok_or_else(|| {
+                Error::other(format!(
+                    "full dimension {full_dim} is not 2^L: not a spin-1/2 chain"
+                ))
+            })?;
+            quench::state::product_state(&vec![*site; l])
+        }
+        StateSpec::Stored { .. } => Err(Error::other("internal: stored states are per sector")),
+    }
+}
+
+/// Runs the quench on one file.
+fn run_file(
+    path: &Path,
+    overrides: &Overrides,
+    args: &Args,
+    spec: &StateSpec,
+    grid: TimeGrid,
+    opts: &QuenchOptions,
+) -> Result<FileResult> {
+    let file = EigenFile::open(path, overrides)?;
+    let sectors = file.select(args.sector.as_deref())?;
+    let comps = components(&file, &sectors, spec, args.sector.is_some())?;
+    let total: f64 = comps
+        .iter()
+        .map(|(_, c)| c.iter().map(|x| x.norm_sqr()).sum::<f64>())
+        .sum();
+    let times = grid.points();
+    let mut results = Vec::new();
+    let mut diags = Vec::new();
+    let mut spectra = Vec::new();
+    let mut without = Vec::new();
+    for (s, c) in comps {
+        let weight: f64 = c.iter().map(|x| x.norm_sqr()).sum();
+        if weight <= 1e-14 * total.max(f64::MIN_POSITIVE) {
+            without.push(s.name.clone());
+            continue;
+        }
+        let group = s.group.trim_end_matches('/');
+        let spectrum = file.spectrum(s)?;
+        let vectors = file.vectors(s, &spectrum)?;
+        let op = file.observable(s, &args.observable)?;
+        let obs_path = format!("{group}/observables/{}", args.observable);
+        let sq = quench::quench_sector(&vectors, &spectrum.energies, &op, &c, &times, opts)
+            .map_err(|e| ctx(e, path, &obs_path))?;
+        let captured = sq.report.norm / weight;
+        if captured < 1.0 - 1e-6 {
+            eprintln!(
+                "warning: {}: sector '{}': the stored eigenstates hold only {:.6} of the state's weight (partial eigenbasis); the analysis uses the normalised projection",
+                path.display(),
+                s.name,
+                captured
+            );
+        }
+        diags.push(sq.diag_all);
+        spectra.push(spectrum.energies);
+        results.push(SectorResult {
+            name: s.name.clone(),
+            weight,
+            captured,
+            report: sq.report,
+        });
+    }
+    if results.is_empty() {
+        return Err(Error::file(
+            path,
+            format!(
+                "the state '{}' has no weight in the selected sectors",
+                args.state
+            ),
+        ));
+    }
+    let combined = if results.len() > 1 {
+        let parts: Vec<SectorPart<'_>> = results
+            .iter()
+            .zip(&diags)
+            .zip(&spectra)
+            .map(|((r, d), e)| SectorPart {
+                weight: r.weight,
+                energies: e,
+                diag_all: d,
+                report: &r.report,
+            })
+            .collect();
+        Some(quench::combine(&parts, opts).map_err(|e| ctx(e, path, "/"))?)
+    } else {
+        None
+    };
+    Ok(FileResult {
+        file: path.display().to_string(),
+        observable: args.observable.clone(),
+        state: args.state.clone(),
+        state_spec: spec.clone(),
+        times: grid,
+        options: opts.clone(),
+        sectors: results,
+        sectors_without_weight: without,
+        combined,
+    })
+}
+
+fn opt(x: Option<f64>) -> String {
+    x.map_or("n/a".to_string(), |v| format!("{v:.6}"))
+}
+
+/// Human-readable summary of one file's result.
+fn print_text(r: &FileResult) {
+    println!("{}: quench of '{}' from {}", r.file, r.observable, r.state);
+    for s in &r.sectors {
+        let q = &s.report;
+        println!(
+            "  sector {}: weight {:.6} (on stored eigenstates: {:.6}), {} states",
+            s.name, s.weight, s.captured, q.states
+        );
+        println!(
+            "    E = {:.6} ± {:.6} (energy density {:.4}), β(E) = {}, D_eff = {:.2}",
+            q.energy,
+            q.energy_width,
+            q.energy_density,
+            opt(q.beta),
+            q.d_eff
+        );
+        println!(
+            "    kept {} states with {:.12} of the weight (drop {:.1e}); trace error ≤ {:.2e}",
+            q.kept, q.weight_kept, q.drop_weight, q.trace_error_bound
+        );
+        println!("    diagonal ensemble  {:.6}", q.diagonal_ensemble);
+        match &q.microcanonical {
+            Some(m) => println!(
+                "    microcanonical     {:.6}  (shell E ± {:.4}, {} states)  DE − micro = {}",
+                m.value,
+                m.half_width,
+                m.states,
+                opt(q.diff_diagonal_microcanonical)
+            ),
+            None => println!("    microcanonical     n/a (empty shell)"),
+        }
+        println!(
+            "    canonical          {}  DE − canonical = {}, micro − canonical = {}",
+            opt(q.canonical),
+            opt(q.diff_diagonal_canonical),
+            opt(q.diff_microcanonical_canonical)
+        );
+        println!(
+            "    σ² = {:.4e}, ETH estimate σ²_ETH = {:.4e} (ratio {}), bound ((λmax−λmin)/2)²/D_eff = {:.4e} [{}]",
+            q.sigma2,
+            q.sigma2_eth,
+            opt(q.sigma2_eth_ratio),
+            q.bound.bound,
+            if q.bound.satisfied { "satisfied" } else { "VIOLATED" }
+        );
+        if q.degenerate_pairs > 0 {
+            println!(
+                "    {} degenerate kept pairs: time-independent coherence {:.4e} adds to the long-time mean",
+                q.degenerate_pairs, q.degenerate_coherence
+            );
+        }
+        if let Some(ts) = &q.trace_statistics {
+            println!(
+                "    trace over t ∈ [{:.4}, {:.4}] ({} points): mean {:.6}, variance {:.4e}, mean square deviation from DE {:.4e}",
+                ts.from, ts.to, ts.points, ts.mean, ts.variance, ts.variance_about_diagonal
+            );
+        }
+        print_trace(&q.trace);
+    }
+    if let Some(c) = &r.combined {
+        println!(
+            "  combined over sectors (total weight {:.6}): E = {:.6}, β(E) = {}, diagonal ensemble {:.6}, microcanonical {}, canonical {}",
+            c.weight,
+            c.energy,
+            opt(c.beta),
+            c.diagonal_ensemble,
+            opt(c.microcanonical.map(|m| m.value)),
+            opt(c.canonical)
+        );
+        print_trace(&c.trace);
+    }
+    if !r.sectors_without_weight.is_empty() {
+        println!("  no weight in: {}", r.sectors_without_weight.join(", "));
+    }
+}
+
+/// Up to 21 evenly spaced points of a trace.
+fn print_trace(trace: &[quench::TracePoint]) {
+    let n = trace.len();
+    if n == 0 {
+        return;
+    }
+    let shown = n.min(21);
+    println!(
+        "    {:>12}  {:>12}   ({shown} of {n} points; --json for all)",
+        "t", "<A(t)>"
+    );
+    for k in 0..shown {
+        let i = if shown > 1 {
+            k * (n - 1) / (shown - 1)
+        } else {
+            0
+        };
+        println!("    {:>12.4}  {:>12.6}", trace[i].t, trace[i].value);
+    }
 }

@@ -334,6 +334,13 @@ impl EigenFile {
             None => Ok(None),
         }
     }
+    /// The sector's embedding into the full computational basis: the CSR dataset group
+    /// `embedding` of shape `[full_dim, dim]` whose columns are the sector basis vectors
+    /// (files written by `generate`), so that a full-space state ψ has the sector component
+    /// `c = Pᵀψ`. `Ok(None)` when the sector has no embedding.
+    pub fn embedding(&self, _sector: &Sector) -> Result<Option<crate::data::Csr<f64>>> {
+        Ok(None)
+    }
     /// An initial state by name (`states/<name>`).
     pub fn state(&self, sector: &Sector, name: &str) -> Result<Vector> {
         let Some(info) = sector.state_info.iter().find(|s| s.name == name) else {

@@ -13,7 +13,9 @@
 //! - XXZ `H = J Σ (σˣᵢσˣᵢ₊₁ + σʸᵢσʸᵢ₊₁ + Δ σᶻᵢσᶻᵢ₊₁) + J₂ Σ (σˣᵢσˣᵢ₊₂ + σʸᵢσʸᵢ₊₂ + Δ σᶻᵢσᶻᵢ₊₂)`;
 //! - free spins `H = h Σ σᶻᵢ`.
 //!
-//! [`Reflection::Break`] adds `field · σᶻ₁`.
+//! [`Reflection::Break`] adds `field · σᶻ₁`. A periodic chain adds the wrap-around bonds
+//! only when `L > 2d` for bonds of range `d` (so `L = 2` periodic equals open, and the J₂
+//! wrap-around needs `L ≥ 5`), never counting a bond twice.
 //!
 //! Standard observables (site `i`, default the centre `⌈L/2⌉`):
 //! `sz_site` = σᶻᵢ (diagonal), `sx_site` = σˣᵢ (CSR), `bond_energy` = the energy of bond

@@ -1,10 +1,10 @@
 //! Random-matrix reference eigenbases (GOE, GUE, Poisson), one sector each.
 //!
-//! The Hamiltonian is drawn from [`super::rmt`] and scaled by `1/√N`, so that the
-//! spectrum of the Gaussian ensembles has a width of order 1 (semicircle of radius √(2N)·/√N
-//! for the GOE normalisation of `rmt`). Poisson levels are independent and uniform on
-//! `[0, 1)` (i.e. `rmt::poisson_levels / N`) with a diagonal Hamiltonian, so its
-//! eigenvectors are the identity.
+//! The Hamiltonian is drawn from [`super::rmt`] and scaled by `1/√N`. With the off-diagonal
+//! variance 1/2 of `rmt`, the level density of both Gaussian ensembles then tends to the
+//! semicircle ρ(E) = √(2 − E²)/π on `[−√2, √2]` (Mehta 2004), independent of N. Poisson
+//! levels are independent and uniform on `[0, 1)` (`rmt::poisson_levels / N`) with a
+//! diagonal Hamiltonian, so its eigenvectors are the identity.
 //!
 //! Observables, in the computational basis of the random matrix:
 //! `diag_pm = diag(+1, −1, +1, −1, …)` (diagonal form) and `dense_rand`, a dense real

@@ -1,0 +1,398 @@
+//! From the computational basis to the energy eigenbasis, for the quench analysis.
+//!
+//! With the eigenvectors `V` (columns `vₙ`, in ascending-energy order) read in column blocks
+//! from a [`ColumnSource`]:
+//!
+//! - coefficients `cₙ = ⟨n|ψ⟩ = vₙᴴ ψ` (blocks `V_Bᴴ ψ`);
+//! - diagonal elements `Aₙₙ = Re vₙᴴ (A vₙ)` for all states, in the same pass;
+//! - the matrix `A_KK = V_Kᴴ (A V_K)` over the kept states `K` (a second pass gathers `V_K`).
+//!
+//! `A vₙ` costs a row scaling for a diagonal operator, a sparse product for CSR, a dense
+//! product otherwise; an operator stored in the energy basis is sliced directly.
+
+use crate::data::{c64, ColumnSource, Csr, Matrix, OpData, Operator};
+use crate::error::{Error, Result};
+use faer::linalg::matmul::matmul;
+use faer::{Accum, Mat, MatRef, Par};
+
+/// Bytes of eigenvector block read at once (64 MiB).
+const BLOCK_BYTES: usize = 64 << 20;
+
+fn block_columns(dim: usize) -> usize {
+    (BLOCK_BYTES / (16 * dim.max(1))).max(1)
+}
+
+/// Dimension on which an operator acts: `dim` for computational-basis forms, `n` for the energy basis.
+fn op_shape(op: &Operator) -> (usize, usize) {
+    fn shape<T>(d: &OpData<T>) -> (usize, usize) {
+        match d {
+            OpData::Diagonal(v) => (v.len(), v.len()),
+            OpData::Dense(m) | OpData::EnergyBasis(m) => (m.nrows(), m.ncols()),
+            OpData::Csr(c) => (c.nrows, c.ncols),
+        }
+    }
+    match op {
+        Operator::Real(d) => shape(d),
+        Operator::Complex(d) => shape(d),
+    }
+}
+
+/// Checks that `op` fits eigenvectors of dimension `dim` and `n` states.
+fn check_op(op: &Operator, dim: usize, n: usize) -> Result<()> {
+    let (r, c) = op_shape(op);
+    let want = if matches!(
+        op,
+        Operator::Real(OpData::EnergyBasis(_)) | Operator::Complex(OpData::EnergyBasis(_))
+    ) {
+        n
+    } else {
+        dim
+    };
+    if r != want || c != want {
+        return Err(Error::other(format!(
+            "operator ({} form) is {r}×{c} but the eigenbasis needs {want}×{want}",
+            op.form()
+        )));
+    }
+    if let Operator::Real(OpData::Csr(m)) = op {
+        check_csr(m)?;
+    }
+    if let Operator::Complex(OpData::Csr(m)) = op {
+        check_csr(m)?;
+    }
+    Ok(())
+}
+
+fn check_csr<T>(m: &Csr<T>) -> Result<()> {
+    let nnz = m.data.len();
+    if m.indptr.len() != m.nrows + 1
+        || m.indices.len() != nnz
+        || m.indptr.windows(2).any(|w| w[0] > w[1])
+        || m.indptr.last().is_some_and(|&l| l != nnz)
+        || m.indices.iter().any(|&j| j >= m.ncols)
+    {
+        return Err(Error::other(
+            "CSR operator is inconsistent (indptr/indices/data lengths or column indices out of range)",
+        ));
+    }
+    Ok(())
+}
+
+/// Promotes real operator data to complex.
+fn promote(d: &OpData<f64>) -> OpData<c64> {
+    let z = |x: f64| c64::new(x, 0.0);
+    match d {
+        OpData::Diagonal(v) => OpData::Diagonal(v.iter().map(|&x| z(x)).collect()),
+        OpData::Dense(m) => OpData::Dense(Mat::from_fn(m.nrows(), m.ncols(), |i, j| z(m[(i, j)]))),
+        OpData::EnergyBasis(m) => {
+            OpData::EnergyBasis(Mat::from_fn(m.nrows(), m.ncols(), |i, j| z(m[(i, j)])))
+        }
+        OpData::Csr(c) => OpData::Csr(Csr {
+            nrows: c.nrows,
+            ncols: c.ncols,
+            indptr: c.indptr.clone(),
+            indices: c.indices.clone(),
+            data: c.data.iter().map(|&x| z(x)).collect(),
+        }),
+    }
+}
+
+/// `A · V` for an operator in the computational basis (diagonal, dense or CSR).
+fn apply<T>(op: &OpData<T>, v: MatRef<'_, T>) -> Result<Mat<T>>
+where
+    T: faer::traits::ComplexField + Copy + std::ops::Mul<Output = T> + std::ops::AddAssign,
+{
+    match op {
+        OpData::Diagonal(d) => Ok(Mat::from_fn(v.nrows(), v.ncols(), |i, j| d[i] * v[(i, j)])),
+        OpData::Dense(a) => {
+            let mut out = Mat::<T>::zeros(a.nrows(), v.ncols());
+            matmul(
+                out.as_mut(),
+                Accum::Replace,
+                a.as_ref(),
+                v,
+                T::one_impl(),
+                Par::rayon(0),
+            );
+            Ok(out)
+        }
+        OpData::Csr(c) => {
+            let mut out = Mat::<T>::zeros(c.nrows, v.ncols());
+            for j in 0..v.ncols() {
+                for i in 0..c.nrows {
+                    let mut s = T::zero_impl();
+                    for p in c.indptr[i]..c.indptr[i + 1] {
+                        s += c.data[p] * v[(c.indices[p], j)];
+                    }
+                    out[(i, j)] = s;
+                }
+            }
+            Ok(out)
+        }
+        OpData::EnergyBasis(_) => Err(Error::other(
+            "internal: an energy-basis operator cannot act on computational-basis vectors",
+        )),
+    }
+}
+
+/// Coefficients `cₙ = vₙᴴ ψ` of a state in the stored eigenbasis, and (when `op` is given)
+/// the diagonal elements `Aₙₙ = Re vₙᴴ A vₙ` of all states, in one streamed pass.
+/// `psi` is in the (sector's) computational basis, of length `src.dim()`.
+pub fn coefficients_and_diagonal(
+    src: &dyn ColumnSource,
+    psi: &[c64],
+    op: Option<&Operator>,
+) -> Result<(Vec<c64>, Option<Vec<f64>>)> {
+    let (dim, n) = (src.dim(), src.n_states());
+    if psi.len() != dim {
+        return Err(Error::other(format!(
+            "the state has length {} but the eigenvectors have dimension {dim}",
+            psi.len()
+        )));
+    }
+    if let Some(op) = op {
+        check_op(op, dim, n)?;
+    }
+    let mut coeffs = Vec::with_capacity(n);
+    let mut diag: Option<Vec<f64>> = op.map(|_| Vec::with_capacity(n));
+    // Energy-basis operators: the diagonal is read off directly.
+    let energy_diag: Option<Vec<f64>> = match op {
+        Some(Operator::Real(OpData::EnergyBasis(m))) => Some((0..n).map(|i| m[(i, i)]).collect()),
+        Some(Operator::Complex(OpData::EnergyBasis(m))) => {
+            Some((0..n).map(|i| m[(i, i)].re).collect())
+        }
+        _ => None,
+    };
+    let bc = block_columns(dim);
+    let mut start = 0;
+    while start < n {
+        let end = (start + bc).min(n);
+        let blk = src.read(start..end)?;
+        if blk.nrows() != dim || blk.ncols() != end - start {
+            return Err(Error::other(format!(
+                "eigenvector block {start}..{end} came back {}×{}",
+                blk.nrows(),
+                blk.ncols()
+            )));
+        }
+        match &blk {
+            Matrix::Real(v) => {
+                for j in 0..v.ncols() {
+                    let mut s = c64::new(0.0, 0.0);
+                    for i in 0..dim {
+                        s += psi[i] * v[(i, j)];
+                    }
+                    coeffs.push(s);
+                }
+            }
+            Matrix::Complex(v) => {
+                for j in 0..v.ncols() {
+                    let mut s = c64::new(0.0, 0.0);
+                    for i in 0..dim {
+                        s += v[(i, j)].conj() * psi[i];
+                    }
+                    coeffs.push(s);
+                }
+            }
+        }
+        if let (Some(op), Some(d)) = (op, diag.as_mut()) {
+            if energy_diag.is_none() {
+                d.extend(block_diagonal(op, &blk)?);
+            }
+        }
+        start = end;
+    }
+    if let Some(ed) = energy_diag {
+        diag = Some(ed);
+    }
+    Ok((coeffs, diag))
+}
+
+/// `Re vⱼᴴ A vⱼ` for the columns of one block.
+fn block_diagonal(op: &Operator, blk: &Matrix) -> Result<Vec<f64>> {
+    match (op, blk) {
+        (Operator::Real(d), Matrix::Real(v)) => {
+            let av = apply(d, v.as_ref())?;
+            Ok((0..v.ncols())
+                .map(|j| (0..v.nrows()).map(|i| v[(i, j)] * av[(i, j)]).sum())
+                .collect())
+        }
+        _ => {
+            let v = blk.to_complex();
+            let av = match op {
+                Operator::Real(d) => apply(&promote(d), v.as_ref())?,
+                Operator::Complex(d) => apply(d, v.as_ref())?,
+            };
+            Ok((0..v.ncols())
+                .map(|j| {
+                    (0..v.nrows())
+                        .map(|i| (v[(i, j)].conj() * av[(i, j)]).re)
+                        .sum()
+                })
+                .collect())
+        }
+    }
+}
+
+/// Gathers the eigenvector columns `kept` (strictly ascending) by streaming blocks.
+pub fn gather_columns(src: &dyn ColumnSource, kept: &[usize]) -> Result<Matrix> {
+    let dim = src.dim();
+    let n = src.n_states();
+    if kept.windows(2).any(|w| w[0] >= w[1]) || kept.last().is_some_and(|&k| k >= n) {
+        return Err(Error::other(
+            "kept states must be strictly ascending indices into the eigenbasis",
+        ));
+    }
+    let complex = src.field() == crate::data::Field::Complex;
+    let mut re = Mat::<f64>::zeros(if complex { 0 } else { dim }, kept.len());
+    let mut cx = Mat::<c64>::zeros(if complex { dim } else { 0 }, kept.len());
+    let bc = block_columns(dim);
+    let mut pos = 0; // next entry of `kept` to fill
+    while pos < kept.len() {
+        let start = kept[pos];
+        let end = (start + bc).min(n);
+        let blk = src.read(start..end)?;
+        while pos < kept.len() && kept[pos] < end {
+            let j = kept[pos] - start;
+            match &blk {
+                Matrix::Real(v) if !complex => {
+                    for i in 0..dim {
+                        re[(i, pos)] = v[(i, j)];
+                    }
+                }
+                Matrix::Complex(v) if complex => {
+                    for i in 0..dim {
+                        cx[(i, pos)] = v[(i, j)];
+                    }
+                }
+                _ => {
+                    return Err(Error::other(
+                        "eigenvector block has another element type than announced",
+                    ))
+                }
+            }
+            pos += 1;
+        }
+    }
+    Ok(if complex {
+        Matrix::Complex(cx)
+    } else {
+        Matrix::Real(re)
+    })
+}
+
+/// `A_KK = V_Kᴴ (A V_K)`: the operator over the kept states (strictly ascending indices).
+///
+/// Private stand-in for the projector.
+// TODO: replace with crate::project once merged
+pub fn project_kept(src: &dyn ColumnSource, op: &Operator, kept: &[usize]) -> Result<Matrix> {
+    check_op(op, src.dim(), src.n_states())?;
+    let k = kept.len();
+    match op {
+        Operator::Real(OpData::EnergyBasis(m)) => {
+            return Ok(Matrix::Real(Mat::from_fn(k, k, |a, b| {
+                m[(kept[a], kept[b])]
+            })))
+        }
+        Operator::Complex(OpData::EnergyBasis(m)) => {
+            return Ok(Matrix::Complex(Mat::from_fn(k, k, |a, b| {
+                m[(kept[a], kept[b])]
+            })))
+        }
+        _ => {}
+    }
+    let vk = gather_columns(src, kept)?;
+    match (op, &vk) {
+        (Operator::Real(d), Matrix::Real(v)) => {
+            let av = apply(d, v.as_ref())?;
+            let mut out = Mat::<f64>::zeros(k, k);
+            matmul(
+                out.as_mut(),
+                Accum::Replace,
+                v.transpose(),
+                av.as_ref(),
+                1.0,
+                Par::rayon(0),
+            );
+            Ok(Matrix::Real(out))
+        }
+        _ => {
+            let v = vk.to_complex();
+            let av = match op {
+                Operator::Real(d) => apply(&promote(d), v.as_ref())?,
+                Operator::Complex(d) => apply(d, v.as_ref())?,
+            };
+            let mut out = Mat::<c64>::zeros(k, k);
+            matmul(
+                out.as_mut(),
+                Accum::Replace,
+                v.adjoint(),
+                av.as_ref(),
+                c64::new(1.0, 0.0),
+                Par::rayon(0),
+            );
+            Ok(Matrix::Complex(out))
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn four_forms_agree() {
+        // the same operator in the diagonal/dense/CSR/energy-basis forms gives the same
+        // A_KK (exact identity, linear algebra)
+        let mut rng = crate::model::rmt::rng(11);
+        let h = crate::model::rmt::goe(12, &mut rng);
+        let (_, v) = crate::linalg::eigh_real(h.as_ref()).unwrap();
+        let d: Vec<f64> = (0..12)
+            .map(|i| if i % 3 == 0 { 1.0 } else { -0.5 })
+            .collect();
+        let dense = Mat::from_fn(12, 12, |i, j| if i == j { d[i] } else { 0.0 });
+        let csr = Csr {
+            nrows: 12,
+            ncols: 12,
+            indptr: (0..=12).collect(),
+            indices: (0..12).collect(),
+            data: d.clone(),
+        };
+        let energy = v.transpose() * &dense * &v;
+        let src = Matrix::Real(v.clone());
+        let kept = [1, 4, 5, 11];
+        let forms = [
+            Operator::Real(OpData::Diagonal(d.clone())),
+            Operator::Real(OpData::Dense(dense.clone())),
+            Operator::Real(OpData::Csr(csr)),
+            Operator::Real(OpData::EnergyBasis(energy.clone())),
+        ];
+        for op in &forms {
+            let a = project_kept(&src, op, &kept).unwrap();
+            for (x, &kx) in kept.iter().enumerate() {
+                for (y, &ky) in kept.iter().enumerate() {
+                    assert!((a.get_c(x, y).re - energy[(kx, ky)]).abs() < 1e-12);
+                }
+            }
+            let psi: Vec<c64> = (0..12).map(|i| c64::new(i as f64, 1.0)).collect();
+            let (_, diag) = coefficients_and_diagonal(&src, &psi, Some(op)).unwrap();
+            let diag = diag.unwrap();
+            for i in 0..12 {
+                assert!((diag[i] - energy[(i, i)]).abs() < 1e-12);
+            }
+        }
+        // complex eigenvectors with a real operator take the promoted path
+        let srcc = Matrix::Complex(Matrix::Real(v).to_complex());
+        let a = project_kept(&srcc, &forms[2], &kept).unwrap();
+        assert!((a.get_c(1, 2).re - energy[(4, 5)]).abs() < 1e-12);
+    }
+
+    #[test]
+    fn shape_mismatch_is_an_error() {
+        // clear error instead of a panic (common practice, no source)
+        let src = Matrix::Real(Mat::identity(4, 4));
+        let op = Operator::Real(OpData::Diagonal(vec![1.0; 5]));
+        assert!(project_kept(&src, &op, &[0, 1]).is_err());
+        assert!(coefficients_and_diagonal(&src, &[c64::new(1.0, 0.0); 3], None).is_err());
+    }
+}
