@@ -187,6 +187,7 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Repor
                     )
                 })
                 .unwrap_or((nan, nan, nan, nan, nan, nan));
+            let (r, r_e) = if o.low_omega_vanishes || o.diagonal_vanishes { (nan, nan) } else { (r, r_e) };
             let (amin, amax) = o
                 .points
                 .iter()

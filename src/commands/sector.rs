@@ -65,6 +65,8 @@ pub struct ObservableAnalysis {
     pub bootstrap: BootstrapErrors,
     /// True when every diagonal element vanishes (|Aₙₙ| < 1e-12 max|A|): typically a symmetry forbids it.
     pub diagonal_vanishes: bool,
+    /// True when the low-ω off-diagonal elements vanish (|Aₙₘ|² at rounding level against Aₙₙ²).
+    pub low_omega_vanishes: bool,
     /// `(Eₙ, Aₙₙ)` of every state (for figures; not serialised).
     #[serde(skip)]
     pub points: Vec<(f64, f64)>,
@@ -162,8 +164,22 @@ pub fn analyse_sector(
         let block = default_block_length(diffs.len());
         let (_, e_abs) = block_bootstrap(&diffs, mean_abs, block, RESAMPLES, DEFAULT_SEED);
         let (_, e_var) = block_bootstrap(&diffs, half_mean_square, block, RESAMPLES, DEFAULT_SEED);
-        let scale = d.iter().fold(0.0f64, |m, x| m.max(x.abs()));
-        let vanishes = d.iter().all(|x| x.abs() <= 1e-12 * scale.max(1.0));
+        // Vanishing by symmetry: every |Aₙₙ| is at rounding level compared with the typical
+        // off-diagonal element (or with 1 when there is none).
+        let diag_max = d.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        let off_scale = offdiagonal.as_ref().map_or(0.0, |o| o.low_omega_variance.max(0.0).sqrt());
+        let reference = if off_scale > 0.0 { off_scale } else { 1.0 };
+        let vanishes = diag_max <= 1e-10 * reference;
+        let low_omega_vanishes = offdiagonal
+            .as_ref()
+            .is_some_and(|o| o.low_omega_variance <= 1e-20 * diag_max.max(1e-300).powi(2));
+        if low_omega_vanishes {
+            notes[k].push(
+                "the low-frequency off-diagonal elements vanish (a selection rule: an unresolved symmetry \
+                 or a conserved quantity); the diagonal/off-diagonal ratio is undefined"
+                    .to_string(),
+            );
+        }
         if vanishes {
             notes[k].push(
                 "every diagonal element vanishes: a symmetry of the sector forbids a non-zero ⟨A⟩ \
@@ -183,6 +199,7 @@ pub fn analyse_sector(
                 seed: DEFAULT_SEED,
             },
             diagonal_vanishes: vanishes,
+            low_omega_vanishes,
             points: spectrum.energies.iter().copied().zip(d.iter().copied()).collect(),
             notes: std::mem::take(&mut notes[k]),
         });
