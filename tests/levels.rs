@@ -73,22 +73,35 @@ fn mean_r_3x3(samples: usize, complex: bool) -> (f64, f64) {
 fn goe_3x3_mean_ratio_is_the_surmise_value() {
     let (m, se) = mean_r_3x3(20000, false);
     let want = 4.0 - 2.0 * 3f64.sqrt(); // Atas et al., PRL 110, 084101 (2013): exact for 3×3 GOE
-    assert!((m - want).abs() < 3.0 * se, "mean r {m} ± {se}, want {want}");
+    assert!(
+        (m - want).abs() < 3.0 * se,
+        "mean r {m} ± {se}, want {want}"
+    );
 }
 
 #[test]
 fn gue_3x3_mean_ratio_is_the_surmise_value() {
     let (m, se) = mean_r_3x3(20000, true);
     let want = 2.0 * 3f64.sqrt() / std::f64::consts::PI - 0.5; // Atas et al. 2013: exact for 3×3 GUE
-    assert!((m - want).abs() < 3.0 * se, "mean r {m} ± {se}, want {want}");
+    assert!(
+        (m - want).abs() < 3.0 * se,
+        "mean r {m} ± {se}, want {want}"
+    );
 }
 
 #[test]
 fn large_goe_mean_ratio() {
     let r = goe_2000();
-    eprintln!("GOE 2000: mean r {} ± {} (naive {})", r.mean_r, r.mean_r_stderr, r.mean_r_stderr_naive);
+    eprintln!(
+        "GOE 2000: mean r {} ± {} (naive {})",
+        r.mean_r, r.mean_r_stderr, r.mean_r_stderr_naive
+    );
     // Atas et al. 2013: <r̃>_GOE = 0.5307(1) for large matrices (from memory)
-    assert!((r.mean_r - 0.5307).abs() < 3.0 * r.mean_r_stderr, "{}", r.mean_r);
+    assert!(
+        (r.mean_r - 0.5307).abs() < 3.0 * r.mean_r_stderr,
+        "{}",
+        r.mean_r
+    );
     assert_eq!(r.states, 1000); // DESIGN.md window semantics: 500..1500
     assert_eq!(r.ratio_class.nearest, Ensemble::Goe);
     assert!(!r.ratio_class.intermediate);
@@ -103,9 +116,16 @@ fn large_goe_mean_ratio() {
 #[test]
 fn large_gue_mean_ratio() {
     let r = gue_2000();
-    eprintln!("GUE 2000: mean r {} ± {}; KS P {} GOE {} GUE {}", r.mean_r, r.mean_r_stderr, r.ks_poisson, r.ks_goe, r.ks_gue);
+    eprintln!(
+        "GUE 2000: mean r {} ± {}; KS P {} GOE {} GUE {}",
+        r.mean_r, r.mean_r_stderr, r.ks_poisson, r.ks_goe, r.ks_gue
+    );
     // Atas et al. 2013: <r̃>_GUE = 0.5996(1) for large matrices (from memory)
-    assert!((r.mean_r - 0.5996).abs() < 3.0 * r.mean_r_stderr, "{}", r.mean_r);
+    assert!(
+        (r.mean_r - 0.5996).abs() < 3.0 * r.mean_r_stderr,
+        "{}",
+        r.mean_r
+    );
     assert_eq!(r.ratio_class.nearest, Ensemble::Gue);
     // Mehta (2004): GUE Wigner surmise fits GUE spacings better than the GOE one
     assert!(r.ks_gue < r.ks_goe, "{} vs {}", r.ks_gue, r.ks_goe);
@@ -118,28 +138,48 @@ fn poisson_mean_ratio() {
     eprintln!("Poisson 20000: mean r {} ± {}", r.mean_r, r.mean_r_stderr);
     // Atas et al. 2013; Oganesyan & Huse, PRB 75, 155111 (2007): 2 ln 2 − 1
     let want = 2.0 * std::f64::consts::LN_2 - 1.0;
-    assert!((r.mean_r - want).abs() < 3.0 * r.mean_r_stderr, "{}", r.mean_r);
+    assert!(
+        (r.mean_r - want).abs() < 3.0 * r.mean_r_stderr,
+        "{}",
+        r.mean_r
+    );
     assert_eq!(r.ratio_class.nearest, Ensemble::Poisson);
 }
 
 #[test]
 fn unfolded_goe_spacings_are_wigner_not_poisson() {
     let r = goe_2000();
-    eprintln!("GOE 2000: KS P {} GOE {} GUE {}", r.ks_poisson, r.ks_goe, r.ks_gue);
+    eprintln!(
+        "GOE 2000: KS P {} GOE {} GUE {}",
+        r.ks_poisson, r.ks_goe, r.ks_gue
+    );
     // Mehta (2004): GOE spacings follow the Wigner surmise (it differs from the exact
     // large-N law by ~1 % at most); KS noise for 1000 spacings is ~1.4/√1000 ≈ 0.045
     assert!(r.ks_goe < 0.05, "KS to GOE {}", r.ks_goe);
-    assert!(r.ks_goe < r.ks_poisson / 3.0, "{} vs {}", r.ks_goe, r.ks_poisson);
+    assert!(
+        r.ks_goe < r.ks_poisson / 3.0,
+        "{} vs {}",
+        r.ks_goe,
+        r.ks_poisson
+    );
     assert_eq!(r.nearest_ensemble, Ensemble::Goe);
 }
 
 #[test]
 fn unfolded_poisson_spacings_are_exponential() {
     let r = poisson_20000();
-    eprintln!("Poisson: KS P {} GOE {} GUE {}", r.ks_poisson, r.ks_goe, r.ks_gue);
+    eprintln!(
+        "Poisson: KS P {} GOE {} GUE {}",
+        r.ks_poisson, r.ks_goe, r.ks_gue
+    );
     // Mehta (2004): uncorrelated levels have P(s) = e^(−s); KS noise for 10⁴ spacings ≈ 0.014
     assert!(r.ks_poisson < 0.02, "KS to Poisson {}", r.ks_poisson);
-    assert!(r.ks_poisson < r.ks_goe / 3.0, "{} vs {}", r.ks_poisson, r.ks_goe);
+    assert!(
+        r.ks_poisson < r.ks_goe / 3.0,
+        "{} vs {}",
+        r.ks_poisson,
+        r.ks_goe
+    );
     assert_eq!(r.nearest_ensemble, Ensemble::Poisson);
 }
 
@@ -150,7 +190,11 @@ fn form_factor_plateau_is_one() {
     for (name, r) in [("GOE", goe_2000()), ("Poisson", poisson_20000())] {
         let f = &r.form_factor;
         eprintln!("{name}: plateau {} onset {:?}", f.plateau, f.plateau_onset);
-        assert!((f.plateau - 1.0).abs() < 0.1, "{name}: plateau {}", f.plateau);
+        assert!(
+            (f.plateau - 1.0).abs() < 0.1,
+            "{name}: plateau {}",
+            f.plateau
+        );
     }
     // Mehta (2004), from memory: GOE K(τ) = 2τ − τ ln(1 + 2τ) reaches 0.8 at τ ≈ 0.73;
     // the measured onset must lie on the ramp's end, not at early times
@@ -184,7 +228,10 @@ fn goe_number_variance_is_logarithmic() {
     let p = r.number_variance.iter().find(|p| p.l == 4.0).unwrap();
     let s2 = p.sigma2.unwrap();
     eprintln!("GOE Σ²(4) = {s2}, asymptote {}", p.goe_asymptote);
-    assert!((s2 - p.goe_asymptote).abs() < 0.35 * p.goe_asymptote, "{s2}");
+    assert!(
+        (s2 - p.goe_asymptote).abs() < 0.35 * p.goe_asymptote,
+        "{s2}"
+    );
 }
 
 #[test]
@@ -201,7 +248,11 @@ fn exact_degeneracies_are_counted_not_fatal() {
     assert_eq!(r.skipped_ratios, 300);
     assert_eq!(r.ratios, 598);
     assert_eq!(r.mean_r, 0.0);
-    assert!(r.warnings.iter().any(|w| w.contains("degenerate")), "{:?}", r.warnings);
+    assert!(
+        r.warnings.iter().any(|w| w.contains("degenerate")),
+        "{:?}",
+        r.warnings
+    );
     assert!(r.warnings.iter().any(|w| w.contains("skipped")));
 }
 
@@ -234,7 +285,9 @@ fn too_few_levels_warns_with_the_threshold() {
     let r = analyze(&e, &default_window(), &LevelOptions::default()).unwrap();
     assert_eq!(r.states, 60);
     assert!(
-        r.warnings.iter().any(|w| w.contains("only 60 levels") && w.contains("100")),
+        r.warnings
+            .iter()
+            .any(|w| w.contains("only 60 levels") && w.contains("100")),
         "{:?}",
         r.warnings
     );
@@ -247,7 +300,10 @@ fn bad_spectra_are_errors_not_panics() {
     assert!(analyze(&[0.0, f64::NAN, 1.0, 2.0, 3.0], &w, &o).is_err());
     assert!(analyze(&[], &w, &o).is_err());
     assert!(analyze(&[1.0; 50], &w, &o).is_err());
-    let e = WindowSpec::EnergyDensity(Window { lo: 0.5, hi: 0.5000001 });
+    let e = WindowSpec::EnergyDensity(Window {
+        lo: 0.5,
+        hi: 0.5000001,
+    });
     assert!(analyze(&goe_levels(50, 1), &e, &o).is_err());
     // unsorted input is sorted with a warning, and gives the same mean ratio
     let mut x = goe_levels(200, 2);
@@ -274,6 +330,9 @@ fn ratio_histogram_follows_the_goe_surmise() {
         .iter()
         .map(|b| (b.density - b.poisson).abs() * (b.hi - b.lo))
         .sum::<f64>();
-    assert!(dev < dev_poisson / 2.0, "L1 GOE {dev}, Poisson {dev_poisson}");
+    assert!(
+        dev < dev_poisson / 2.0,
+        "L1 GOE {dev}, Poisson {dev_poisson}"
+    );
     let _ = surmise::MEAN_R_GOE;
 }
