@@ -459,3 +459,55 @@ fn ratio_histogram_follows_the_goe_surmise() {
     );
     let _ = surmise::MEAN_R_GOE;
 }
+
+#[test]
+fn json_has_the_stable_keys_and_text_states_references() {
+    use eigentherm::commands::levels::{render_text, LevelsOutput, SectorLevels};
+    // DESIGN.md stable keys (common practice, no source)
+    let r = analyze(
+        &goe_levels(400, 8),
+        &default_window(),
+        &LevelOptions::default(),
+    )
+    .unwrap();
+    let out = LevelsOutput {
+        options: LevelOptions::default(),
+        sectors: vec![SectorLevels {
+            file: "a.h5".into(),
+            name: "even".into(),
+            report: r,
+        }],
+    };
+    let v = serde_json::to_value(&out).unwrap();
+    let s = &v["sectors"][0];
+    for key in [
+        "file",
+        "name",
+        "states",
+        "window",
+        "mean_r",
+        "mean_r_stderr",
+        "nearest_ensemble",
+        "degenerate_pairs",
+        "ks_poisson",
+        "ks_goe",
+        "ks_gue",
+    ] {
+        assert!(!s[key].is_null(), "missing key {key}");
+    }
+    assert_eq!(s["states"], 200);
+    assert_eq!(s["window"], "0.25:0.75");
+    assert!(["poisson", "goe", "gue"].contains(&s["nearest_ensemble"].as_str().unwrap()));
+    let text = render_text(&out.sectors);
+    for want in [
+        "0.3863",
+        "0.5307",
+        "0.5996",
+        "verdict:",
+        "Finite size",
+        "0.4585",
+        "0.5652",
+    ] {
+        assert!(text.contains(want), "text lacks {want}:\n{text}");
+    }
+}
