@@ -357,7 +357,7 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
     });
     let mid1 = 0.5 * (surmise::MEAN_R_POISSON + surmise::MEAN_R_GOE);
     let mid2 = 0.5 * (surmise::MEAN_R_GOE + surmise::MEAN_R_GUE);
-    let ratio_nearest = if !(mean_r >= mid1) {
+    let ratio_nearest = if mean_r.is_nan() || mean_r < mid1 {
         Ensemble::Poisson
     } else if mean_r < mid2 {
         Ensemble::Goe
@@ -376,7 +376,7 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
     let (unfolded, unfolding) = unfold::polynomial(e, opts.unfold_degree)?;
     let raw_s: Vec<f64> = unfolded.windows(2).map(|w| w[1] - w[0]).collect();
     let mean_s = raw_s.iter().sum::<f64>() / raw_s.len() as f64;
-    if !(mean_s > 0.0) {
+    if mean_s.is_nan() || mean_s <= 0.0 {
         return Err(Error::other(
             "unfolding failed: the mean unfolded spacing is not positive",
         ));
