@@ -822,7 +822,7 @@ fn canonical_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criteri
         };
     }
     let head = format!(
-        "|A - A_can| / scale = {:.3e} / {} = {:.3}",
+        "|A - A_can| / scale = {:.3e} / {:.3e} = {:.3}",
         c.deviation.abs(),
         c.scale,
         rel
