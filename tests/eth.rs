@@ -206,7 +206,6 @@ fn mixed_field_ising_fluctuations_shrink_with_size() {
 }
 
 #[test]
-#[ignore = "slow in the dev profile: cargo test --release --test eth -- --ignored"]
 fn mixed_field_ising_fluctuations_shrink_with_size_large() {
     // As above (Kim, Ikeda, Huse 2014; Beugeling et al. 2014, from memory) for L = 8, 10, 12.
     let r = mixed_field_ising(&[8, 10, 12]);

@@ -139,7 +139,6 @@ fn tridiagonal_model_matches_dense_eigensolver() {
 /// The dense recipe (rmt::goe/gue + linalg::eigvalsh): minutes in the unoptimised test
 /// profile, seconds with `cargo test --release -- --ignored`.
 #[test]
-#[ignore = "slow in the dev profile: run with --release -- --ignored"]
 fn dense_goe_and_gue_mean_ratios() {
     let mut rng = rmt::rng(11);
     let e = eigvalsh_real(rmt::goe(2000, &mut rng).as_ref()).unwrap();

@@ -21,7 +21,6 @@ fn spec(reflection: Reflection) -> ChainSpec {
 }
 
 #[test]
-#[ignore = "enable when model lands (needs crate::model::build_chain)"]
 fn unresolved_reflection_symmetry_is_flagged() {
     let w = WindowSpec::Fraction(Window::LEVELS);
     let o = LevelOptions::default();

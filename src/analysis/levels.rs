@@ -26,9 +26,10 @@
 //! 4. **Diagnostics.** Degenerate pairs: consecutive levels with |ΔE| below
 //!    `degeneracy_tol` × mean spacing of the window (default 1e−10). Warnings when a
 //!    spectrum looks like a superposition of unresolved symmetry sectors: many
-//!    degeneracies (more than 1 % of the pairs), or a mean r̃ significantly between
-//!    Poisson and GOE together with no level repulsion (the density of unfolded spacings
-//!    below 0.25 exceeds 0.4, against 0.19 for the GOE surmise and 0.88 for Poisson);
+//!    degeneracies (more than 1 % of the pairs), or no level repulsion (the density of
+//!    unfolded spacings below 0.25 exceeds 0.4, against 0.19 for the GOE surmise and 0.88
+//!    for Poisson) together with a mean r̃ significantly between Poisson and GOE, or
+//!    significantly below GOE with that density still clearly under Poisson's (< 0.8);
 //!    and when the window holds fewer than `min_levels` levels (default 100).
 //!
 //! Every verdict concerns one finite spectrum; it suggests, it does not prove.
@@ -56,6 +57,11 @@ pub const DEGENERATE_FRACTION: f64 = 0.01;
 /// Systematic margin on ⟨r̃⟩ (besides 3 standard errors) before a value counts as
 /// significantly below the GOE reference.
 pub const RATIO_MARGIN: f64 = 0.01;
+
+/// Density of unfolded spacings below [`SMALL_SPACING`] under which a spectrum without level
+/// repulsion is still clearly not Poisson (0.88): with ⟨r̃⟩ below GOE, the mark of a few
+/// superposed chaotic spectra rather than of an integrable one.
+pub const POISSON_LIKE_DENSITY: f64 = 0.8;
 
 /// Options of the level-statistics analysis.
 #[derive(Debug, Clone, Serialize)]
@@ -435,9 +441,13 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
         ));
     }
     let no_repulsion = small_spacing_density > NO_REPULSION_DENSITY;
-    if intermediate && no_repulsion {
+    // A superposition of a few independent chaotic spectra: ⟨r̃⟩ significantly below GOE and
+    // small spacings more frequent than for GOE, yet clearly less frequent than for Poisson.
+    let below_goe = mean_r < surmise::MEAN_R_GOE - se3 - RATIO_MARGIN;
+    let partial_repulsion = no_repulsion && small_spacing_density < POISSON_LIKE_DENSITY;
+    if (intermediate && no_repulsion) || (below_goe && partial_repulsion) {
         warnings.push(format!(
-            "possible superposition of unresolved symmetry sectors: mean r = {mean_r:.4} lies between Poisson and GOE and the spacing histogram shows no level repulsion (density of spacings below {SMALL_SPACING} is {small_spacing_density:.2} > {NO_REPULSION_DENSITY}; GOE 0.19); resolve the symmetries (parity, momentum, magnetisation) before judging chaos"
+            "possible superposition of unresolved symmetry sectors: mean r = {mean_r:.4} lies below GOE and the spacing histogram shows no level repulsion (density of spacings below {SMALL_SPACING} is {small_spacing_density:.2} > {NO_REPULSION_DENSITY}; GOE 0.19, Poisson 0.88); resolve the symmetries (parity, momentum, magnetisation) before judging chaos"
         ));
     } else if intermediate {
         warnings.push(format!(

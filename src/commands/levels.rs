@@ -8,7 +8,6 @@
 use crate::analysis::levels::{self, LevelOptions, LevelReport};
 use crate::commands::common::{InputArgs, SelectArgs};
 use crate::error::{Error, Result};
-use crate::input::{EigenFile, Overrides};
 use crate::window::Window;
 use serde::Serialize;
 use std::fmt::Write as _;
@@ -93,12 +92,10 @@ impl Args {
 pub fn run(args: &Args) -> Result<()> {
     let opts = args.options()?;
     let window = args.select.window_spec(Window::LEVELS)?;
-    // TODO: build the overrides from `args.input.paths` once `input::Overrides` has a
-    // constructor from `PathArgs` (input branch).
-    let overrides = Overrides::default();
     let mut sectors = Vec::new();
-    for path in &args.input.files {
-        let file = EigenFile::open(path, &overrides)?;
+    for file in args.input.open()? {
+        let path = file.path().to_path_buf();
+        let path = &path;
         for sector in file.select(args.select.sector.as_deref())? {
             let spectrum = file.spectrum(sector)?;
             let dataset = format!("{}/energies", sector.group.trim_end_matches('/'));
