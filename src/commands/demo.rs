@@ -29,7 +29,7 @@ pub struct Args {
         long,
         value_name = "L,L,...",
         value_delimiter = ',',
-        default_value = "8,10,12"
+        default_value = "9,11,13"
     )]
     pub sizes: Vec<usize>,
 }
