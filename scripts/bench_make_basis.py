@@ -6,7 +6,8 @@ The file follows eigentherm's input layout (README / DESIGN.md), in the root gro
   energies            [n] float64, ascending
   eigenvectors        [dim, n] float64, column j is eigenvector j (default), or
                       [n, dim] with attribute layout="rows" (--layout rows)
-  observables/diag_pm [dim]        diagonal operator, entries (-1)^(i mod 2)
+  observables/diag_pm [dim]        diagonal operator, random entries +1 or -1
+                                   (seed fixed)
   observables/sx_like CSR group    (1/L) sum_k X_k, X_k flips bit k of the basis
                                    index (the transverse magnetisation of L
                                    spins when dim = 2^L); attribute shape
@@ -142,9 +143,8 @@ def main():
         f.create_dataset("energies", data=energies)
         write_eigenvectors(f, dim, args.layout, args.block)
         obs = f.create_group("observables")
-        obs.create_dataset(
-            "diag_pm", data=np.where(np.arange(dim) % 2 == 0, 1.0, -1.0)
-        )
+        signs = np.random.default_rng([args.seed, 1]).integers(0, 2, dim)
+        obs.create_dataset("diag_pm", data=1.0 - 2.0 * signs)
         csr = sx_like(dim)
         g = obs.create_group("sx_like")
         g.create_dataset("data", data=csr.data)
