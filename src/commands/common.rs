@@ -70,3 +70,45 @@ pub struct InputArgs {
     #[command(flatten)]
     pub paths: PathArgs,
 }
+
+impl PathArgs {
+    /// The dataset path overrides for [`crate::input::EigenFile::open`]
+    /// (`--observable-path` values are split at the first `=` into NAME and PATH).
+    pub fn overrides(&self) -> Result<crate::input::Overrides> {
+        let layout = match &self.layout {
+            Some(l) => Some(crate::input::Layout::parse(l)?),
+            None => None,
+        };
+        let observables = self
+            .observable_paths
+            .iter()
+            .map(|s| match s.split_once('=') {
+                Some((n, p)) if !n.is_empty() && !p.is_empty() => {
+                    Ok((n.to_string(), p.to_string()))
+                }
+                _ => Err(crate::Error::usage(format!(
+                    "--observable-path '{s}' is not NAME=PATH"
+                ))),
+            })
+            .collect::<Result<Vec<_>>>()?;
+        Ok(crate::input::Overrides {
+            energies: self.energies_path.clone(),
+            eigenvectors: self.eigenvectors_path.clone(),
+            layout,
+            observables,
+            hamiltonian: self.hamiltonian_path.clone(),
+        })
+    }
+}
+
+impl InputArgs {
+    /// Opens every input file (read-only) with the path overrides; the first bad
+    /// file ends with its error.
+    pub fn open(&self) -> Result<Vec<crate::input::EigenFile>> {
+        let ov = self.paths.overrides()?;
+        self.files
+            .iter()
+            .map(|f| crate::input::EigenFile::open(f, &ov))
+            .collect()
+    }
+}

@@ -1,13 +1,77 @@
 //! Reading eigenbasis files: sector discovery, spectra, eigenvector blocks,
 //! operators, states; validation with one-line errors.
 //!
-//! API CONTRACT (bodies to be implemented): other stages rely on these signatures.
+//! # File layout
+//!
+//! Files are HDF5 and are opened read-only; nothing is ever written into them.
+//!
+//! A **sector** is any group (the root group included) holding a dataset named
+//! `energies`. Sectors are found by a depth-first walk over all groups, member
+//! names sorted, so the order is stable (`/`, `/L10`, `/L10/even`, `/L10/odd`,
+//! `/L12`, ...). A sector's name is its group path without the leading `/`
+//! (`even`, `L12/odd`), or `/` for the root group. Inside a sector group:
+//!
+//! | member | shape, element type | meaning |
+//! |---|---|---|
+//! | `energies` | `[n]`, float32 or float64 | eigenvalues `E_j`; ascending, or in any order (then they are sorted, the permutation is kept and a warning is printed) |
+//! | `eigenvectors` | `[dim, n]`, real or complex | column `j` is the eigenvector of `energies[j]`; with attribute `layout = "rows"` the shape is `[n, dim]` and row `j` is the eigenvector; `n < dim` (a partial eigenbasis) is allowed, `n > dim` is an error |
+//! | `observables/<name>` | `[dim]` | operator diagonal in the computational basis, `A = diag(a)` |
+//! | `observables/<name>` | `[dim, dim]` | dense operator in the computational basis (must be Hermitian) |
+//! | `observables/<name>/` | group `{data, indices, indptr}`, attribute `shape = [dim, dim]` | sparse operator in the SciPy CSR convention: row `i` holds `data[indptr[i]..indptr[i+1]]` in columns `indices[...]`; duplicate entries add up |
+//! | `observables/<name>` | `[n, n]`, attribute `basis = "energy"` | matrix elements `⟨E_j|A|E_k⟩` already in the eigenbasis, rows and columns in the order of `energies` in the file |
+//! | `hamiltonian` | `[dim]`, `[dim, dim]` or CSR group | optional; used to check residuals `‖H v_j − E_j v_j‖` |
+//! | `states/<name>` | `[dim]`, real or complex | optional initial states for quenches |
+//! | attribute `size` | any integer type, or a float with an integral value | number of sites (scaling tables) |
+//! | attribute `label` | string | legend label |
+//!
+//! Real data are float32 or float64 (float32 is promoted to float64 on reading).
+//! Complex data are the HDF5 compound `{r, i}` of two float32 or two float64 (the
+//! convention of h5py). Integers, strings and other types are rejected with an
+//! error saying what was found. NaN and Inf are rejected everywhere. Dense, CSR
+//! and energy-basis operators must be Hermitian:
+//! `max |A_ij − conj(A_ji)| ≤ 10⁻¹⁰ · max |A_ij|`.
+//!
+//! Files that follow another layout can be read by giving dataset paths
+//! ([`Overrides`], the `--energies-path`, `--eigenvectors-path`, `--layout`,
+//! `--observable-path NAME=PATH` and `--hamiltonian-path` options). Absolute paths
+//! (`/results/evals`) are used as given; relative paths are taken inside each
+//! sector group. A given energies path defines a single sector: the group
+//! holding that dataset.
+//!
+//! # Reading
+//!
+//! Eigenvectors are never read whole: a [`VectorReader`] reads the columns of a
+//! range of states (ascending energy) by HDF5 hyperslab selection, mapping through
+//! the sorting permutation when the file was not sorted and reading contiguous
+//! runs of the file. Where the dataset is chunked, [`VectorReader::chunk_states`]
+//! gives the chunk extent along the state axis so that callers can choose
+//! chunk-aligned blocks ([`VectorReader::aligned_block`]).
+//!
+//! # Checks
+//!
+//! Metadata (shapes, element types, attributes) is checked when a file is opened;
+//! values (NaN/Inf, Hermiticity, CSR indices) when they are read. The numerical
+//! checks of an eigenbasis (orthonormality, residuals) are in [`validate`]; the
+//! summary printed by `eigentherm inspect` is built by [`inspect`].
+//!
+//! All errors are one line naming the file, the dataset and the problem.
 
-use crate::data::{ColumnSource, Field, Matrix, Operator, OperatorForm, Spectrum, Vector};
+mod discover;
+mod h5;
+pub mod inspect;
+mod operators;
+pub mod validate;
+mod vectors;
+
+pub use h5::Element;
+pub use vectors::VectorReader;
+
+use crate::data::{Field, Operator, OperatorForm, Spectrum, Vector};
 use crate::error::{Error, Result};
 use serde::Serialize;
-use std::ops::Range;
+use std::collections::HashSet;
 use std::path::{Path, PathBuf};
+use std::sync::Mutex;
 
 /// Eigenvector storage layout.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -17,6 +81,28 @@ pub enum Layout {
     Columns,
     /// `[n, dim]`: row j is the eigenvector (attribute `layout = "rows"`).
     Rows,
+}
+
+impl Layout {
+    /// Parses `columns` or `rows`.
+    pub fn parse(s: &str) -> Result<Layout> {
+        match s {
+            "columns" => Ok(Layout::Columns),
+            "rows" => Ok(Layout::Rows),
+            other => Err(Error::usage(format!(
+                "layout '{other}' is neither 'columns' nor 'rows'"
+            ))),
+        }
+    }
+}
+
+impl std::fmt::Display for Layout {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            Layout::Columns => "columns [dim, n]",
+            Layout::Rows => "rows [n, dim]",
+        })
+    }
 }
 
 /// What the file says about one observable, without reading it.
@@ -29,6 +115,23 @@ pub struct ObservableInfo {
     /// Element type.
     pub field: Field,
     /// Full HDF5 path of the dataset or CSR group.
+    pub path: String,
+    /// Element type as stored (of `data` for a CSR group).
+    pub element: Element,
+    /// Shape (`[dim]`, `[dim, dim]`, `[n, n]`, or the `shape` attribute of a CSR group).
+    pub shape: Vec<usize>,
+}
+
+/// What the file says about one initial state, without reading it.
+#[derive(Debug, Clone, Serialize)]
+pub struct StateInfo {
+    /// Name under `states/`.
+    pub name: String,
+    /// Real or complex.
+    pub field: Field,
+    /// Element type as stored.
+    pub element: Element,
+    /// Full HDF5 path.
     pub path: String,
 }
 
@@ -58,6 +161,22 @@ pub struct Sector {
     pub size: Option<usize>,
     /// Attribute `label`, when present.
     pub label: Option<String>,
+    /// Full HDF5 path of the energies.
+    pub energies_path: String,
+    /// Element type of the energies as stored.
+    pub energies_element: Element,
+    /// Full HDF5 path of the eigenvectors, when stored.
+    pub eigenvectors_path: Option<String>,
+    /// Element type of the eigenvectors as stored.
+    pub element: Option<Element>,
+    /// Chunk shape of the eigenvector dataset (`None`: contiguous storage).
+    pub chunk: Option<Vec<usize>>,
+    /// Filters (compression) of the eigenvector dataset.
+    pub filters: Vec<String>,
+    /// The stored Hamiltonian (form, type, path), when present.
+    pub hamiltonian: Option<ObservableInfo>,
+    /// The initial states (type and path).
+    pub state_info: Vec<StateInfo>,
 }
 
 /// Dataset path overrides for files that follow another layout (from the command line).
@@ -80,12 +199,40 @@ pub struct Overrides {
 pub struct EigenFile {
     path: PathBuf,
     sectors: Vec<Sector>,
+    h5: hdf5::File,
+    /// Sectors whose "unsorted" warning was already printed.
+    warned: Mutex<HashSet<String>>,
+}
+
+/// Opens `path` read-only with HDF5's own error printing silenced.
+fn open_h5(path: &Path) -> Result<hdf5::File> {
+    hdf5::silence_errors(true);
+    match std::fs::metadata(path) {
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            return Err(Error::file(path, "file not found"))
+        }
+        Err(e) => return Err(Error::file(path, format!("cannot read: {e}"))),
+        Ok(m) if m.is_dir() => return Err(Error::file(path, "is a directory, not an HDF5 file")),
+        Ok(_) => {}
+    }
+    if let Err(e) = std::fs::File::open(path) {
+        return Err(Error::file(path, format!("cannot read: {e}")));
+    }
+    hdf5::File::open(path)
+        .map_err(|_| Error::file(path, "not an HDF5 file (the HDF5 library cannot open it)"))
 }
 
 impl EigenFile {
     /// Opens `path` read-only and discovers its sectors.
-    pub fn open(path: &Path, _overrides: &Overrides) -> Result<EigenFile> {
-        Err(Error::file(path, "reader not implemented yet"))
+    pub fn open(path: &Path, overrides: &Overrides) -> Result<EigenFile> {
+        let h5 = open_h5(path)?;
+        let sectors = discover::discover(path, &h5, overrides)?;
+        Ok(EigenFile {
+            path: path.to_path_buf(),
+            sectors,
+            h5,
+            warned: Mutex::new(HashSet::new()),
+        })
     }
     /// The file's path.
     pub fn path(&self) -> &Path {
@@ -96,51 +243,111 @@ impl EigenFile {
         &self.sectors
     }
     /// The sector named `name`, or all sectors when `None`; an unknown name is an error listing the known ones.
-    pub fn select(&self, _name: Option<&str>) -> Result<Vec<&Sector>> {
-        Err(Error::file(&self.path, "reader not implemented yet"))
+    ///
+    /// A leading `/` is ignored (`/even` = `even`); `/` or an empty name is the root group.
+    pub fn select(&self, name: Option<&str>) -> Result<Vec<&Sector>> {
+        let Some(name) = name else {
+            return Ok(self.sectors.iter().collect());
+        };
+        let want = discover::sector_name(name.trim_end_matches('/'));
+        match self.sectors.iter().find(|s| s.name == want) {
+            Some(s) => Ok(vec![s]),
+            None => Err(Error::file(
+                &self.path,
+                format!(
+                    "no sector named '{name}'; sectors: {}",
+                    self.sectors
+                        .iter()
+                        .map(|s| s.name.as_str())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            )),
+        }
     }
     /// The ascending spectrum of a sector (warns on stderr when the file was not sorted).
-    pub fn spectrum(&self, _sector: &Sector) -> Result<Spectrum> {
-        Err(Error::file(&self.path, "reader not implemented yet"))
+    pub fn spectrum(&self, sector: &Sector) -> Result<Spectrum> {
+        let s = self.spectrum_quiet(sector)?;
+        if !s.was_sorted() {
+            let first = self
+                .warned
+                .lock()
+                .map(|mut w| w.insert(sector.name.clone()))
+                .unwrap_or(true);
+            if first {
+                crate::progress::warn(&format!(
+                    "{}: {}: energies are not in ascending order; sorted them (eigenvectors and energy-basis observables follow the same permutation)",
+                    self.path.display(),
+                    sector.energies_path
+                ));
+            }
+        }
+        Ok(s)
+    }
+    /// The ascending spectrum of a sector, without the warning about sorting.
+    pub fn spectrum_quiet(&self, sector: &Sector) -> Result<Spectrum> {
+        let p = &sector.energies_path;
+        let ds = self
+            .h5
+            .dataset(p)
+            .map_err(|e| h5::h5err(&self.path, p, "cannot open dataset", e))?;
+        let raw = h5::read_real(&self.path, p, &ds)?;
+        Ok(Spectrum::from_unsorted(raw))
     }
     /// A reader of eigenvector columns in ascending-energy order, reading hyperslabs on demand.
-    pub fn vectors(&self, _sector: &Sector, _spectrum: &Spectrum) -> Result<VectorReader> {
-        Err(Error::file(&self.path, "reader not implemented yet"))
+    pub fn vectors(&self, sector: &Sector, spectrum: &Spectrum) -> Result<VectorReader> {
+        VectorReader::new(&self.path, &self.h5, sector, spectrum)
     }
     /// An observable by name (energy-basis operators come back in ascending-energy order);
     /// an unknown name is an error listing the known ones.
-    pub fn observable(&self, _sector: &Sector, _name: &str) -> Result<Operator> {
-        Err(Error::file(&self.path, "reader not implemented yet"))
+    pub fn observable(&self, sector: &Sector, name: &str) -> Result<Operator> {
+        let Some(info) = sector.observables.iter().find(|o| o.name == name) else {
+            let known: Vec<&str> = sector.observables.iter().map(|o| o.name.as_str()).collect();
+            let where_ = discover::join(&sector.group, "observables");
+            return Err(Error::dataset(
+                &self.path,
+                where_,
+                if known.is_empty() {
+                    format!("no observable named '{name}': the sector has no observables")
+                } else {
+                    format!(
+                        "no observable named '{name}'; observables: {}",
+                        known.join(", ")
+                    )
+                },
+            ));
+        };
+        let order = if info.form == OperatorForm::EnergyBasis {
+            Some(self.spectrum_quiet(sector)?.order)
+        } else {
+            None
+        };
+        operators::read_operator(&self.path, &self.h5, info, order.as_deref())
     }
     /// The stored Hamiltonian, if any.
-    pub fn hamiltonian(&self, _sector: &Sector) -> Result<Option<Operator>> {
-        Err(Error::file(&self.path, "reader not implemented yet"))
+    pub fn hamiltonian(&self, sector: &Sector) -> Result<Option<Operator>> {
+        match &sector.hamiltonian {
+            Some(info) => operators::read_operator(&self.path, &self.h5, info, None).map(Some),
+            None => Ok(None),
+        }
     }
     /// An initial state by name (`states/<name>`).
-    pub fn state(&self, _sector: &Sector, _name: &str) -> Result<Vector> {
-        Err(Error::file(&self.path, "reader not implemented yet"))
-    }
-}
-
-/// Reads eigenvector columns of one sector from the file, by HDF5 hyperslab.
-#[derive(Debug)]
-pub struct VectorReader {
-    dim: usize,
-    n: usize,
-    field: Field,
-}
-
-impl ColumnSource for VectorReader {
-    fn dim(&self) -> usize {
-        self.dim
-    }
-    fn n_states(&self) -> usize {
-        self.n
-    }
-    fn field(&self) -> Field {
-        self.field
-    }
-    fn read(&self, _range: Range<usize>) -> Result<Matrix> {
-        Err(Error::other("reader not implemented yet"))
+    pub fn state(&self, sector: &Sector, name: &str) -> Result<Vector> {
+        let Some(info) = sector.state_info.iter().find(|s| s.name == name) else {
+            let where_ = discover::join(&sector.group, "states");
+            return Err(Error::dataset(
+                &self.path,
+                where_,
+                if sector.states.is_empty() {
+                    format!("no state named '{name}': the sector has no states")
+                } else {
+                    format!(
+                        "no state named '{name}'; states: {}",
+                        sector.states.join(", ")
+                    )
+                },
+            ));
+        };
+        operators::read_vector(&self.path, &self.h5, &info.path, info.element)
     }
 }

@@ -1,15 +1,43 @@
 //! Reference eigenbases of models of known character, and the writer of our layout.
 //!
 //! API CONTRACT: other stages rely on [`SectorData`] and [`write_file`].
+//!
+//! - [`basis`]: the computational basis of a spin-1/2 chain (bit `i` of a basis index is
+//!   site `i + 1`, bit 1 = spin up = σᶻ eigenvalue +1), the reflection `i → L+1−i`, and the
+//!   reduced bases of its two parity sectors with their embedding matrices `P`;
+//! - [`chain`]: Hamiltonians, standard observables and initial states of spin chains, built
+//!   sparse and diagonalised sector by sector ([`build_chain`]);
+//! - [`rmt`] and [`random`]: random-matrix ensembles (GOE, GUE, Poisson) as one sector each;
+//! - [`writer`]: [`write_file`], the HDF5 writer of the layout described in DESIGN.md.
 
+pub mod basis;
+pub mod chain;
+pub mod random;
 pub mod rmt;
+pub mod writer;
 
-use crate::data::{Matrix, Observable, Operator, Vector};
-use crate::error::{Error, Result};
-use std::path::Path;
+pub use chain::build_chain;
+pub use random::{build_random, RandomEnsemble, RandomSpec};
+pub use writer::write_file;
+
+use crate::data::{Csr, Matrix, Observable, Operator, Vector};
+
+/// A numeric or text attribute value (written with its own HDF5 type).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub enum AttrValue {
+    /// 64-bit integer attribute.
+    Int(i64),
+    /// 64-bit float attribute.
+    Float(f64),
+    /// Variable-length UTF-8 string attribute.
+    Text(String),
+}
 
 /// Everything written into one sector group of our layout.
-#[derive(Debug, Clone)]
+///
+/// Build it with `SectorData { group, energies, ..Default::default() }` so that fields
+/// added later do not break callers.
+#[derive(Debug, Clone, Default)]
 pub struct SectorData {
     /// Group path inside the file: `""` or `"/"` for the root, `"even"`, `"L12/odd"`, ...
     pub group: String,
@@ -29,11 +57,16 @@ pub struct SectorData {
     pub label: Option<String>,
     /// Further string attributes (model name, parameters, ...).
     pub attributes: Vec<(String, String)>,
-}
-
-/// Writes `sectors` to a new HDF5 file at `path` (temporary name, then rename).
-pub fn write_file(path: &Path, _sectors: &[SectorData]) -> Result<()> {
-    Err(Error::file(path, "writer not implemented yet"))
+    /// Further typed attributes of the sector group (`full_dim`, couplings, ...).
+    pub typed_attributes: Vec<(String, AttrValue)>,
+    /// Embedding `P` of the sector into the full computational basis, shape `[full_dim, dim]`:
+    /// its columns are the sector basis vectors, so a full-space state ψ has sector
+    /// component `c = Pᵀψ` and a sector vector `c` is the full-space state `P c`.
+    /// Written as the CSR group `embedding`.
+    pub embedding: Option<Csr<f64>>,
+    /// Attributes `note` on datasets of the sector, as (path relative to the sector group,
+    /// e.g. `observables/sz_site`, note text).
+    pub notes: Vec<(String, String)>,
 }
 
 /// Spin-1/2 chain Hamiltonians (σ are Pauli matrices, sites 1..=L).
@@ -85,13 +118,4 @@ pub struct ChainSpec {
     pub reflection: Reflection,
     /// Site (1-based) of the local observables σᶻ, σˣ and of the bond term (bond site, site+1); default: centre.
     pub site: Option<usize>,
-}
-
-/// Builds the chain's Hamiltonian in each sector, diagonalises it, and returns the
-/// sectors with energies, eigenvectors, Hamiltonian and the standard observables.
-pub fn build_chain(spec: &ChainSpec) -> Result<Vec<SectorData>> {
-    Err(Error::other(format!(
-        "chain builder not implemented yet ({} sites)",
-        spec.sites
-    )))
 }

@@ -1,0 +1,580 @@
+//! Sector discovery: a recursive, depth-first walk (names sorted) over the groups
+//! of a file; every group holding a dataset `energies` is a sector. Only metadata
+//! (shapes, element types, attributes) is read here, and every shape is checked
+//! against the number of energies `n` and the dimension `dim` so that problems
+//! surface when the file is opened, not in the middle of an analysis.
+
+use super::h5::{self, attr_count, attr_counts, attr_string, format_shape, Element};
+use super::{Layout, ObservableInfo, Overrides, Sector, StateInfo};
+use crate::data::{Field, OperatorForm};
+use crate::error::{Error, Result};
+use hdf5::LocationType;
+use std::path::Path;
+
+/// Deepest group nesting followed (guards against cycles through soft links).
+const MAX_DEPTH: usize = 32;
+
+/// Joins a group path and a member name (`"/" + "a"` → `"/a"`, `"/a" + "b"` → `"/a/b"`).
+pub fn join(group: &str, name: &str) -> String {
+    if group == "/" || group.is_empty() {
+        format!("/{name}")
+    } else {
+        format!("{group}/{name}")
+    }
+}
+
+/// Resolves an override path: absolute paths are used as given, relative ones are
+/// taken inside `group`.
+pub fn resolve(group: &str, path: &str) -> String {
+    if path.starts_with('/') {
+        path.to_string()
+    } else {
+        join(group, path)
+    }
+}
+
+/// The type of the object at `path`, or `None` when nothing (readable) is there.
+pub fn kind(f: &hdf5::File, path: &str) -> Option<LocationType> {
+    if path == "/" {
+        return Some(LocationType::Group);
+    }
+    // Check every link along the path first: opening through a missing group is an
+    // HDF5 error we do not want to provoke.
+    let mut at = String::new();
+    for part in path.trim_start_matches('/').split('/') {
+        let parent = if at.is_empty() {
+            "/".to_string()
+        } else {
+            at.clone()
+        };
+        let g = f.group(&parent).ok()?;
+        if !g.link_exists(part) {
+            return None;
+        }
+        at = join(&parent, part);
+    }
+    f.loc_type_by_name(path).ok()
+}
+
+/// Sector name of a group path: without the leading `/`, or `"/"` for the root.
+pub fn sector_name(group: &str) -> String {
+    let t = group.trim_start_matches('/');
+    if t.is_empty() {
+        "/".to_string()
+    } else {
+        t.to_string()
+    }
+}
+
+/// All sectors of `f`, in depth-first order with sorted names.
+pub fn discover(file: &Path, f: &hdf5::File, ov: &Overrides) -> Result<Vec<Sector>> {
+    if let Some(e) = &ov.energies {
+        let epath = resolve("/", e);
+        if kind(f, &epath) != Some(LocationType::Dataset) {
+            return Err(Error::dataset(
+                file,
+                &epath,
+                "missing dataset (given as the energies path)",
+            ));
+        }
+        let group = match epath.rfind('/') {
+            Some(0) | None => "/".to_string(),
+            Some(k) => epath[..k].to_string(),
+        };
+        return Ok(vec![describe(file, f, &group, &epath, ov)?]);
+    }
+    let mut groups = Vec::new();
+    walk(file, f, "/", 0, &mut groups)?;
+    if groups.is_empty() {
+        return Err(Error::file(
+            file,
+            "no sector found: no group holds a dataset named 'energies' (use --energies-path for another layout)",
+        ));
+    }
+    groups
+        .iter()
+        .map(|g| describe(file, f, g, &join(g, "energies"), ov))
+        .collect()
+}
+
+/// Names inside a sector group that are never searched for further sectors.
+const SECTOR_MEMBERS: [&str; 5] = [
+    "energies",
+    "eigenvectors",
+    "observables",
+    "states",
+    "hamiltonian",
+];
+
+fn walk(
+    file: &Path,
+    f: &hdf5::File,
+    group: &str,
+    depth: usize,
+    out: &mut Vec<String>,
+) -> Result<()> {
+    if depth > MAX_DEPTH {
+        return Ok(());
+    }
+    let g = f
+        .group(group)
+        .map_err(|e| h5::h5err(file, group, "cannot open group", e))?;
+    let is_sector = g.link_exists("energies")
+        && f.loc_type_by_name(&join(group, "energies")).ok() == Some(LocationType::Dataset);
+    if is_sector {
+        out.push(group.to_string());
+    }
+    let mut names = g
+        .member_names()
+        .map_err(|e| h5::h5err(file, group, "cannot list members", e))?;
+    names.sort();
+    for name in names {
+        if is_sector && SECTOR_MEMBERS.contains(&name.as_str()) {
+            continue;
+        }
+        let child = join(group, &name);
+        // Unreadable links (dangling soft or external links) are skipped.
+        if f.loc_type_by_name(&child).ok() == Some(LocationType::Group) {
+            walk(file, f, &child, depth + 1, out)?;
+        }
+    }
+    Ok(())
+}
+
+fn open_ds(file: &Path, f: &hdf5::File, path: &str) -> Result<hdf5::Dataset> {
+    match kind(f, path) {
+        Some(LocationType::Dataset) => f
+            .dataset(path)
+            .map_err(|e| h5::h5err(file, path, "cannot open dataset", e)),
+        Some(_) => Err(Error::dataset(
+            file,
+            path,
+            "expected a dataset, found a group",
+        )),
+        None => Err(Error::dataset(file, path, "missing dataset")),
+    }
+}
+
+/// Reads the metadata of the sector whose group is `group` and whose energies are at `epath`.
+fn describe(
+    file: &Path,
+    f: &hdf5::File,
+    group: &str,
+    epath: &str,
+    ov: &Overrides,
+) -> Result<Sector> {
+    // Energies: 1-D, real, non-empty.
+    let eds = open_ds(file, f, epath)?;
+    let eshape = eds.shape();
+    if eshape.len() != 1 {
+        return Err(Error::dataset(
+            file,
+            epath,
+            format!(
+                "expected a 1-D dataset, found shape {}",
+                format_shape(&eshape)
+            ),
+        ));
+    }
+    let eel = h5::element(file, epath, &eds)?;
+    if eel.field() == Field::Complex {
+        return Err(Error::dataset(
+            file,
+            epath,
+            format!("energies must be real, found {eel}"),
+        ));
+    }
+    let n = eshape[0];
+    if n == 0 {
+        return Err(Error::dataset(file, epath, "no energies (empty dataset)"));
+    }
+
+    // Eigenvectors.
+    let vpath = match &ov.eigenvectors {
+        Some(p) => Some(resolve(group, p)),
+        None => {
+            let p = join(group, "eigenvectors");
+            kind(f, &p).map(|_| p)
+        }
+    };
+    let mut dim = None;
+    let mut element = None;
+    let mut layout = ov.layout.unwrap_or(Layout::Columns);
+    let mut chunk = None;
+    let mut filters = Vec::new();
+    if let Some(vp) = &vpath {
+        let ds = open_ds(file, f, vp)?;
+        let el = h5::element(file, vp, &ds)?;
+        if let Some(l) = attr_string(file, vp, &ds, "layout")? {
+            layout = match l.as_str() {
+                "rows" => Layout::Rows,
+                "columns" => Layout::Columns,
+                other => {
+                    return Err(Error::dataset(
+                        file,
+                        vp,
+                        format!(
+                            "attribute layout = \"{other}\" is neither \"rows\" nor \"columns\""
+                        ),
+                    ))
+                }
+            };
+        }
+        let shape = ds.shape();
+        if shape.len() != 2 {
+            return Err(Error::dataset(
+                file,
+                vp,
+                format!(
+                    "expected a 2-D dataset, found shape {}",
+                    format_shape(&shape)
+                ),
+            ));
+        }
+        let (d, nv) = match layout {
+            Layout::Columns => (shape[0], shape[1]),
+            Layout::Rows => (shape[1], shape[0]),
+        };
+        if nv != n {
+            let hint = if shape[0] == n && layout == Layout::Columns {
+                " (stored as rows? set attribute layout = \"rows\" or pass --layout rows)"
+            } else if shape[1] == n && layout == Layout::Rows {
+                " (stored as columns? remove attribute layout = \"rows\" or pass --layout columns)"
+            } else {
+                ""
+            };
+            let axes = match layout {
+                Layout::Columns => "[dim, n]",
+                Layout::Rows => "[n, dim]",
+            };
+            return Err(Error::dataset(
+                file,
+                vp,
+                format!(
+                    "shape {} does not match {n} energies (layout {axes}){hint}",
+                    format_shape(&shape)
+                ),
+            ));
+        }
+        if n > d {
+            return Err(Error::dataset(
+                file,
+                vp,
+                format!("{n} eigenvectors cannot be orthonormal in dimension {d}"),
+            ));
+        }
+        dim = Some(d);
+        element = Some(el);
+        chunk = ds.chunk();
+        filters = ds.filters().iter().map(filter_name).collect();
+    }
+
+    // Observables.
+    let mut observables = Vec::new();
+    let opath = join(group, "observables");
+    match kind(f, &opath) {
+        Some(LocationType::Group) => {
+            let g = f
+                .group(&opath)
+                .map_err(|e| h5::h5err(file, &opath, "cannot open group", e))?;
+            let mut names = g
+                .member_names()
+                .map_err(|e| h5::h5err(file, &opath, "cannot list members", e))?;
+            names.sort();
+            for name in names {
+                let p = join(&opath, &name);
+                observables.push(probe_operator(file, f, &name, &p, dim, n, true)?);
+            }
+        }
+        Some(_) => {
+            return Err(Error::dataset(
+                file,
+                &opath,
+                "expected a group of observables, found a dataset",
+            ))
+        }
+        None => {}
+    }
+    for (name, p) in &ov.observables {
+        let p = resolve(group, p);
+        if kind(f, &p).is_none() {
+            return Err(Error::dataset(
+                file,
+                &p,
+                format!("missing dataset (observable '{name}')"),
+            ));
+        }
+        observables.retain(|o: &ObservableInfo| &o.name != name);
+        observables.push(probe_operator(file, f, name, &p, dim, n, true)?);
+    }
+
+    // Hamiltonian.
+    let hpath = match &ov.hamiltonian {
+        Some(p) => {
+            let p = resolve(group, p);
+            if kind(f, &p).is_none() {
+                return Err(Error::dataset(
+                    file,
+                    &p,
+                    "missing dataset (given as the hamiltonian path)",
+                ));
+            }
+            Some(p)
+        }
+        None => {
+            let p = join(group, "hamiltonian");
+            kind(f, &p).map(|_| p)
+        }
+    };
+    let hamiltonian = match &hpath {
+        Some(p) => Some(probe_operator(file, f, "hamiltonian", p, dim, n, false)?),
+        None => None,
+    };
+
+    // States.
+    let mut state_info = Vec::new();
+    let spath = join(group, "states");
+    if kind(f, &spath) == Some(LocationType::Group) {
+        let g = f
+            .group(&spath)
+            .map_err(|e| h5::h5err(file, &spath, "cannot open group", e))?;
+        let mut names = g
+            .member_names()
+            .map_err(|e| h5::h5err(file, &spath, "cannot list members", e))?;
+        names.sort();
+        for name in names {
+            let p = join(&spath, &name);
+            let ds = open_ds(file, f, &p)?;
+            let el = h5::element(file, &p, &ds)?;
+            let shape = ds.shape();
+            let ok = shape.len() == 1 && dim.is_none_or(|d| shape[0] == d);
+            if !ok {
+                return Err(Error::dataset(
+                    file,
+                    &p,
+                    format!(
+                        "shape {} is not [dim]{}",
+                        format_shape(&shape),
+                        dim.map(|d| format!(" = [{d}]")).unwrap_or_default()
+                    ),
+                ));
+            }
+            state_info.push(StateInfo {
+                name,
+                field: el.field(),
+                element: el,
+                path: p,
+            });
+        }
+    }
+
+    let gobj = f
+        .group(group)
+        .map_err(|e| h5::h5err(file, group, "cannot open group", e))?;
+    let size = attr_count(file, group, &gobj, "size")?;
+    let label = attr_string(file, group, &gobj, "label")?;
+
+    Ok(Sector {
+        name: sector_name(group),
+        group: group.to_string(),
+        n_states: n,
+        dim,
+        field: element.map(Element::field),
+        layout,
+        states: state_info.iter().map(|s| s.name.clone()).collect(),
+        has_hamiltonian: hamiltonian.is_some(),
+        observables,
+        size,
+        label,
+        energies_path: epath.to_string(),
+        energies_element: eel,
+        eigenvectors_path: vpath,
+        element,
+        chunk,
+        filters,
+        hamiltonian,
+        state_info,
+    })
+}
+
+fn filter_name(f: &hdf5::filters::Filter) -> String {
+    use hdf5::filters::Filter;
+    match f {
+        Filter::Deflate(l) => format!("gzip (level {l})"),
+        Filter::Shuffle => "shuffle".into(),
+        Filter::Fletcher32 => "fletcher32".into(),
+        Filter::SZip(..) => "szip".into(),
+        Filter::NBit => "nbit".into(),
+        Filter::ScaleOffset(_) => "scale-offset".into(),
+        Filter::User(id, _) => format!("filter {id}"),
+    }
+}
+
+/// Determines the storage form, element type and shape of the operator at `path`
+/// and checks the shape against `dim` (computational basis) or `n` (energy basis).
+fn probe_operator(
+    file: &Path,
+    f: &hdf5::File,
+    name: &str,
+    path: &str,
+    dim: Option<usize>,
+    n: usize,
+    energy_basis_allowed: bool,
+) -> Result<ObservableInfo> {
+    let want =
+        |rows: usize, cols: usize, expect: Option<(usize, usize)>, what: &str| -> Result<()> {
+            match expect {
+                Some((r, c)) if (r, c) != (rows, cols) => Err(Error::dataset(
+                    file,
+                    path,
+                    format!("shape [{rows}, {cols}] does not match {what} [{r}, {c}]"),
+                )),
+                _ => Ok(()),
+            }
+        };
+    match kind(f, path) {
+        Some(LocationType::Dataset) => {
+            let ds = open_ds(file, f, path)?;
+            let el = h5::element(file, path, &ds)?;
+            let shape = ds.shape();
+            let basis = attr_string(file, path, &ds, "basis")?;
+            let form = match (shape.len(), basis.as_deref()) {
+                (1, None | Some("computational")) => {
+                    if let Some(d) = dim {
+                        if shape[0] != d {
+                            return Err(Error::dataset(
+                                file,
+                                path,
+                                format!("shape [{}] does not match the dimension {d} of the eigenvectors", shape[0]),
+                            ));
+                        }
+                    }
+                    OperatorForm::Diagonal
+                }
+                (2, None | Some("computational")) => {
+                    want(shape[0], shape[1], dim.map(|d| (d, d)), "the eigenvector dimension")?;
+                    if shape[0] != shape[1] {
+                        return Err(Error::dataset(
+                            file,
+                            path,
+                            format!("shape {} is not square", format_shape(&shape)),
+                        ));
+                    }
+                    OperatorForm::Dense
+                }
+                (2, Some("energy")) if energy_basis_allowed => {
+                    want(shape[0], shape[1], Some((n, n)), "the number of energies")?;
+                    OperatorForm::EnergyBasis
+                }
+                (_, Some(b)) if b != "energy" && b != "computational" => {
+                    return Err(Error::dataset(
+                        file,
+                        path,
+                        format!("attribute basis = \"{b}\" is neither \"energy\" nor \"computational\""),
+                    ))
+                }
+                _ => {
+                    return Err(Error::dataset(
+                        file,
+                        path,
+                        format!(
+                            "shape {} is not an operator: expected [dim] (diagonal), [dim, dim] (dense){}",
+                            format_shape(&shape),
+                            if energy_basis_allowed { " or [n, n] with basis = \"energy\"" } else { "" }
+                        ),
+                    ))
+                }
+            };
+            Ok(ObservableInfo {
+                name: name.to_string(),
+                form,
+                field: el.field(),
+                path: path.to_string(),
+                element: el,
+                shape,
+            })
+        }
+        Some(LocationType::Group) => {
+            let g = f
+                .group(path)
+                .map_err(|e| h5::h5err(file, path, "cannot open group", e))?;
+            for part in ["data", "indices", "indptr"] {
+                if kind(f, &join(path, part)) != Some(LocationType::Dataset) {
+                    return Err(Error::dataset(
+                        file,
+                        join(path, part),
+                        "missing dataset (a CSR group needs data, indices, indptr and attribute shape)",
+                    ));
+                }
+            }
+            let shape = attr_counts(file, path, &g, "shape")?.ok_or_else(|| {
+                Error::dataset(
+                    file,
+                    path,
+                    "CSR group without attribute shape = [rows, cols]",
+                )
+            })?;
+            if shape.len() != 2 {
+                return Err(Error::dataset(
+                    file,
+                    path,
+                    format!("attribute shape has {} entries, expected 2", shape.len()),
+                ));
+            }
+            want(
+                shape[0],
+                shape[1],
+                dim.map(|d| (d, d)),
+                "the eigenvector dimension",
+            )?;
+            if shape[0] != shape[1] {
+                return Err(Error::dataset(
+                    file,
+                    path,
+                    format!("shape {} is not square", format_shape(&shape)),
+                ));
+            }
+            let dpath = join(path, "data");
+            let data = open_ds(file, f, &dpath)?;
+            let el = h5::element(file, &dpath, &data)?;
+            let nnz = data.size();
+            let ipath = join(path, "indices");
+            let idx = open_ds(file, f, &ipath)?;
+            h5::require_integer(file, &ipath, &idx)?;
+            if idx.size() != nnz || idx.ndim() != 1 {
+                return Err(Error::dataset(
+                    file,
+                    &ipath,
+                    format!(
+                        "shape {} does not match {nnz} values in data",
+                        format_shape(&idx.shape())
+                    ),
+                ));
+            }
+            let ppath = join(path, "indptr");
+            let ptr = open_ds(file, f, &ppath)?;
+            h5::require_integer(file, &ppath, &ptr)?;
+            if ptr.size() != shape[0] + 1 || ptr.ndim() != 1 {
+                return Err(Error::dataset(
+                    file,
+                    &ppath,
+                    format!(
+                        "shape {} does not match {} rows (expected [{}])",
+                        format_shape(&ptr.shape()),
+                        shape[0],
+                        shape[0] + 1
+                    ),
+                ));
+            }
+            Ok(ObservableInfo {
+                name: name.to_string(),
+                form: OperatorForm::Csr,
+                field: el.field(),
+                path: path.to_string(),
+                element: el,
+                shape,
+            })
+        }
+        _ => Err(Error::dataset(file, path, "missing dataset")),
+    }
+}

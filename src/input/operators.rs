@@ -1,0 +1,323 @@
+//! Reading operators (diagonal, dense, CSR, energy basis) and state vectors, with
+//! value checks: NaN/Inf, CSR index structure, and Hermiticity
+//! `max |A_ij − conj(A_ji)| ≤ HERMITIAN_TOL · max |A_ij|` (a diagonal operator is
+//! Hermitian when its entries are real).
+
+use super::discover::join;
+use super::h5::{self, Element};
+use super::ObservableInfo;
+use crate::data::{c64, Csr, Field, OpData, Operator, OperatorForm, Vector};
+use crate::error::{Error, Result};
+use faer::Mat;
+use std::collections::HashMap;
+use std::path::Path;
+
+/// Relative tolerance of the Hermiticity check (relative to the largest |entry|).
+pub const HERMITIAN_TOL: f64 = 1e-10;
+
+/// Scalars an operator can hold: `f64` or [`c64`].
+trait Scalar: Copy + hdf5::H5Type + std::fmt::Display + 'static {
+    fn conj(self) -> Self;
+    fn abs(self) -> f64;
+    fn sub(self, o: Self) -> Self;
+    fn add(self, o: Self) -> Self;
+    fn zero() -> Self;
+    fn imag_abs(self) -> f64;
+}
+
+impl Scalar for f64 {
+    fn conj(self) -> Self {
+        self
+    }
+    fn abs(self) -> f64 {
+        f64::abs(self)
+    }
+    fn sub(self, o: Self) -> Self {
+        self - o
+    }
+    fn add(self, o: Self) -> Self {
+        self + o
+    }
+    fn zero() -> Self {
+        0.0
+    }
+    fn imag_abs(self) -> f64 {
+        0.0
+    }
+}
+
+impl Scalar for c64 {
+    fn conj(self) -> Self {
+        c64::new(self.re, -self.im)
+    }
+    fn abs(self) -> f64 {
+        self.norm()
+    }
+    fn sub(self, o: Self) -> Self {
+        self - o
+    }
+    fn add(self, o: Self) -> Self {
+        self + o
+    }
+    fn zero() -> Self {
+        c64::new(0.0, 0.0)
+    }
+    fn imag_abs(self) -> f64 {
+        self.im.abs()
+    }
+}
+
+fn open(file: &Path, f: &hdf5::File, path: &str) -> Result<hdf5::Dataset> {
+    f.dataset(path)
+        .map_err(|e| h5::h5err(file, path, "cannot open dataset", e))
+}
+
+/// Reads a 1-D dataset (state or diagonal) as a real or complex vector.
+pub fn read_vector(file: &Path, f: &hdf5::File, path: &str, el: Element) -> Result<Vector> {
+    let ds = open(file, f, path)?;
+    match el.field() {
+        Field::Real => Ok(Vector::Real(h5::read_real(file, path, &ds)?)),
+        Field::Complex => Ok(Vector::Complex(h5::read_complex(file, path, &ds)?)),
+    }
+}
+
+/// Reads the operator described by `info`. For an energy-basis operator, `order`
+/// (the sorting permutation of the energies) reorders rows and columns into
+/// ascending-energy order: `A'[a, b] = A[order[a], order[b]]`.
+pub fn read_operator(
+    file: &Path,
+    f: &hdf5::File,
+    info: &ObservableInfo,
+    order: Option<&[usize]>,
+) -> Result<Operator> {
+    match info.field {
+        Field::Real => read_typed::<f64>(file, f, info, order, |ds| {
+            h5::read_real(file, &info.path, ds)
+        })
+        .map(Operator::Real),
+        Field::Complex => read_typed::<c64>(file, f, info, order, |ds| {
+            h5::read_complex(file, &info.path, ds)
+        })
+        .map(Operator::Complex),
+    }
+}
+
+fn read_typed<T: Scalar>(
+    file: &Path,
+    f: &hdf5::File,
+    info: &ObservableInfo,
+    order: Option<&[usize]>,
+    read: impl Fn(&hdf5::Dataset) -> Result<Vec<T>>,
+) -> Result<OpData<T>> {
+    let path = info.path.as_str();
+    match info.form {
+        OperatorForm::Diagonal => {
+            let v = read(&open(file, f, path)?)?;
+            if let Some((i, x)) = v.iter().enumerate().find(|(_, x)| x.imag_abs() > 0.0) {
+                let max = v.iter().map(|x| x.abs()).fold(0.0, f64::max);
+                if x.imag_abs() > HERMITIAN_TOL * max.max(f64::MIN_POSITIVE) {
+                    return Err(Error::dataset(
+                        file,
+                        path,
+                        format!("not Hermitian: diagonal entry {i} = {x} is not real"),
+                    ));
+                }
+            }
+            Ok(OpData::Diagonal(v))
+        }
+        OperatorForm::Dense | OperatorForm::EnergyBasis => {
+            let v = read(&open(file, f, path)?)?;
+            let (r, c) = (info.shape[0], info.shape[1]);
+            let m = match order {
+                Some(o) if info.form == OperatorForm::EnergyBasis => {
+                    Mat::from_fn(r, c, |a, b| v[o[a] * c + o[b]])
+                }
+                _ => Mat::from_fn(r, c, |i, j| v[i * c + j]),
+            };
+            check_hermitian_dense(file, path, &m)?;
+            if info.form == OperatorForm::Dense {
+                Ok(OpData::Dense(m))
+            } else {
+                Ok(OpData::EnergyBasis(m))
+            }
+        }
+        OperatorForm::Csr => {
+            let dpath = join(path, "data");
+            let data = read(&open(file, f, &dpath)?)?;
+            let ipath = join(path, "indices");
+            let indices = h5::read_indices(file, &ipath, &open(file, f, &ipath)?)?;
+            let ppath = join(path, "indptr");
+            let indptr = h5::read_indices(file, &ppath, &open(file, f, &ppath)?)?;
+            let csr = Csr {
+                nrows: info.shape[0],
+                ncols: info.shape[1],
+                indptr,
+                indices,
+                data,
+            };
+            check_csr(file, path, &csr)?;
+            check_hermitian_csr(file, path, &csr)?;
+            Ok(OpData::Csr(csr))
+        }
+    }
+}
+
+fn check_hermitian_dense<T: Scalar>(file: &Path, path: &str, m: &Mat<T>) -> Result<()> {
+    let n = m.nrows();
+    let mut max = 0.0f64;
+    for j in 0..m.ncols() {
+        for i in 0..n {
+            max = max.max(m[(i, j)].abs());
+        }
+    }
+    let tol = HERMITIAN_TOL * max;
+    let mut worst = (0.0f64, 0, 0);
+    for j in 0..n {
+        for i in j..n {
+            let d = m[(i, j)].sub(m[(j, i)].conj()).abs();
+            if d > worst.0 {
+                worst = (d, i, j);
+            }
+        }
+    }
+    if worst.0 > tol {
+        return Err(not_hermitian(file, path, worst, max));
+    }
+    Ok(())
+}
+
+fn not_hermitian(file: &Path, path: &str, worst: (f64, usize, usize), max: f64) -> Error {
+    let (d, i, j) = worst;
+    Error::dataset(
+        file,
+        path,
+        format!(
+            "not Hermitian: |A[{i}, {j}] - conj(A[{j}, {i}])| = {d:.3e} exceeds {HERMITIAN_TOL:e} x max|A| = {:.3e}",
+            HERMITIAN_TOL * max
+        ),
+    )
+}
+
+/// Checks the CSR structure: `indptr[0] = 0`, non-decreasing, `indptr[nrows] = nnz`,
+/// column indices `< ncols`.
+fn check_csr<T>(file: &Path, path: &str, a: &Csr<T>) -> Result<()> {
+    let nnz = a.data.len();
+    let p = &a.indptr;
+    let bad = |what: String| Error::dataset(file, join(path, "indptr"), what);
+    if p.first() != Some(&0) {
+        return Err(bad(format!(
+            "must start at 0, starts at {}",
+            p.first().copied().unwrap_or(0)
+        )));
+    }
+    if let Some(i) = (0..p.len().saturating_sub(1)).find(|&i| p[i + 1] < p[i]) {
+        return Err(bad(format!(
+            "decreases at row {i} ({} > {}); row pointers must be non-decreasing",
+            p[i],
+            p[i + 1]
+        )));
+    }
+    if p.last() != Some(&nnz) {
+        return Err(bad(format!(
+            "ends at {}, but data holds {nnz} values",
+            p.last().copied().unwrap_or(0)
+        )));
+    }
+    if let Some((k, &c)) = a.indices.iter().enumerate().find(|(_, &c)| c >= a.ncols) {
+        return Err(Error::dataset(
+            file,
+            join(path, "indices"),
+            format!(
+                "column index {c} at position {k} is out of range (the matrix has {} columns)",
+                a.ncols
+            ),
+        ));
+    }
+    Ok(())
+}
+
+fn check_hermitian_csr<T: Scalar>(file: &Path, path: &str, a: &Csr<T>) -> Result<()> {
+    // Sum duplicates (allowed by the SciPy convention) into a map of entries.
+    let mut map: HashMap<(usize, usize), T> = HashMap::with_capacity(a.data.len());
+    for i in 0..a.nrows {
+        for k in a.indptr[i]..a.indptr[i + 1] {
+            let e = map.entry((i, a.indices[k])).or_insert_with(T::zero);
+            *e = e.add(a.data[k]);
+        }
+    }
+    let max = map.values().map(|x| x.abs()).fold(0.0, f64::max);
+    let mut worst = (0.0f64, 0, 0);
+    for (&(i, j), &v) in &map {
+        let t = map.get(&(j, i)).copied().unwrap_or_else(T::zero);
+        let d = v.sub(t.conj()).abs();
+        if d > worst.0 || (d == worst.0 && d > 0.0 && (i, j) < (worst.1, worst.2)) {
+            worst = (d, i, j);
+        }
+    }
+    if worst.0 > HERMITIAN_TOL * max {
+        return Err(not_hermitian(file, path, worst, max));
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn csr(indptr: Vec<usize>, indices: Vec<usize>, data: Vec<f64>) -> Csr<f64> {
+        Csr {
+            nrows: indptr.len() - 1,
+            ncols: indptr.len() - 1,
+            indptr,
+            indices,
+            data,
+        }
+    }
+
+    #[test]
+    fn csr_structure_errors_name_the_dataset_and_problem() {
+        // SciPy CSR convention (scipy.sparse.csr_matrix documentation)
+        let f = Path::new("x.h5");
+        let ok = csr(vec![0, 1, 2], vec![1, 0], vec![2.0, 2.0]);
+        assert!(check_csr(f, "/op", &ok).is_ok());
+        assert!(check_hermitian_csr(f, "/op", &ok).is_ok());
+        let dec = csr(vec![0, 2, 1], vec![1, 0], vec![2.0, 2.0]);
+        let e = check_csr(f, "/op", &dec).unwrap_err().to_string();
+        assert!(e.contains("/op/indptr: decreases at row 1"), "{e}");
+        let short = csr(vec![0, 1, 1], vec![1, 0], vec![2.0, 2.0]);
+        let e = check_csr(f, "/op", &short).unwrap_err().to_string();
+        assert!(e.contains("ends at 1, but data holds 2 values"), "{e}");
+    }
+
+    #[test]
+    fn hermiticity_uses_a_relative_tolerance_and_sums_duplicates() {
+        // definition A = Aᴴ; duplicates add up in the SciPy convention
+        let f = Path::new("x.h5");
+        // (0,1) stored twice as 1.0 + 1.0 = 2.0 against (1,0) = 2.0: Hermitian
+        let dup = csr(vec![0, 2, 3], vec![1, 1, 0], vec![1.0, 1.0, 2.0]);
+        assert!(check_hermitian_csr(f, "/op", &dup).is_ok());
+        // missing transpose entry
+        let lone = csr(vec![0, 1, 1], vec![1], vec![1.0]);
+        let e = check_hermitian_csr(f, "/op", &lone)
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("not Hermitian"), "{e}");
+        // a deviation of 1e-12 relative to entries of 1e3 passes (tol 1e-10 relative)
+        let m = Mat::from_fn(2, 2, |i, j| if i == 0 && j == 1 { 1e3 + 1e-9 } else { 1e3 });
+        assert!(check_hermitian_dense(f, "/op", &m).is_ok());
+        let m = Mat::from_fn(2, 2, |i, j| if i == 0 && j == 1 { 1e3 + 1e-6 } else { 1e3 });
+        assert!(check_hermitian_dense(f, "/op", &m).is_err());
+        // complex: A_01 = i, A_10 = -i is Hermitian; A_10 = +i is not
+        let h = Mat::from_fn(2, 2, |i, j| match (i, j) {
+            (0, 1) => c64::new(0.0, 1.0),
+            (1, 0) => c64::new(0.0, -1.0),
+            _ => c64::new(1.0, 0.0),
+        });
+        assert!(check_hermitian_dense(f, "/op", &h).is_ok());
+        let s = Mat::from_fn(2, 2, |i, j| match (i, j) {
+            (0, 1) | (1, 0) => c64::new(0.0, 1.0),
+            _ => c64::new(1.0, 0.0),
+        });
+        assert!(check_hermitian_dense(f, "/op", &s).is_err());
+    }
+}

@@ -1,0 +1,248 @@
+//! Block reads of eigenvectors by HDF5 hyperslab selection.
+//!
+//! The k-th state of the ascending spectrum is the file's state `order[k]`
+//! ([`Spectrum::order`]). A read of the states `lo..hi` maps them to file
+//! indices and reads either the whole span `min..=max` of those indices (when it
+//! is at most twice as wide as the request) or each contiguous run separately,
+//! so an unsorted file never forces a read of the whole dataset. Columns land in
+//! a `[dim, w]` faer matrix: column-major, so each eigenvector is contiguous.
+
+use super::h5::{self, Element};
+use super::{Layout, Sector};
+use crate::data::{c64, ColumnSource, Field, Matrix, Spectrum};
+use crate::error::{Error, Result};
+use faer::Mat;
+use ndarray::{s, Array2};
+use std::ops::Range;
+use std::path::{Path, PathBuf};
+
+/// Reads eigenvector columns of one sector from the file, by HDF5 hyperslab.
+pub struct VectorReader {
+    file: PathBuf,
+    path: String,
+    ds: hdf5::Dataset,
+    layout: Layout,
+    dim: usize,
+    n: usize,
+    field: Field,
+    element: Element,
+    /// `order[k]` = file index of the k-th lowest state; `None` when sorted.
+    order: Option<Vec<usize>>,
+    chunk_states: Option<usize>,
+}
+
+impl std::fmt::Debug for VectorReader {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("VectorReader")
+            .field("file", &self.file)
+            .field("path", &self.path)
+            .field("layout", &self.layout)
+            .field("dim", &self.dim)
+            .field("n", &self.n)
+            .field("element", &self.element)
+            .field("sorted", &self.order.is_none())
+            .field("chunk_states", &self.chunk_states)
+            .finish()
+    }
+}
+
+impl VectorReader {
+    pub(super) fn new(
+        file: &Path,
+        f: &hdf5::File,
+        sector: &Sector,
+        spectrum: &Spectrum,
+    ) -> Result<VectorReader> {
+        let (Some(path), Some(dim), Some(element)) =
+            (&sector.eigenvectors_path, sector.dim, sector.element)
+        else {
+            return Err(Error::dataset(
+                file,
+                super::discover::join(&sector.group, "eigenvectors"),
+                "missing dataset (this analysis needs the eigenvectors)",
+            ));
+        };
+        if spectrum.len() != sector.n_states {
+            return Err(Error::dataset(
+                file,
+                path.as_str(),
+                format!(
+                    "spectrum of {} states given for {} stored eigenvectors",
+                    spectrum.len(),
+                    sector.n_states
+                ),
+            ));
+        }
+        let ds = f
+            .dataset(path)
+            .map_err(|e| h5::h5err(file, path, "cannot open dataset", e))?;
+        let axis = match sector.layout {
+            Layout::Columns => 1,
+            Layout::Rows => 0,
+        };
+        let chunk_states = sector.chunk.as_ref().and_then(|c| c.get(axis).copied());
+        Ok(VectorReader {
+            file: file.to_path_buf(),
+            path: path.clone(),
+            ds,
+            layout: sector.layout,
+            dim,
+            n: sector.n_states,
+            field: element.field(),
+            element,
+            order: (!spectrum.was_sorted()).then(|| spectrum.order.clone()),
+            chunk_states,
+        })
+    }
+
+    /// Chunk extent of the dataset along the state axis (`None`: contiguous storage).
+    /// Reads whose ranges start and end on multiples of it decompress every chunk once.
+    pub fn chunk_states(&self) -> Option<usize> {
+        self.chunk_states
+    }
+
+    /// The largest block width `≤ max_cols` that is a multiple of the chunk extent
+    /// along the state axis (at least one chunk, at least 1).
+    pub fn aligned_block(&self, max_cols: usize) -> usize {
+        let max_cols = max_cols.max(1);
+        match self.chunk_states {
+            Some(c) if c > 0 => (max_cols / c).max(1) * c,
+            _ => max_cols,
+        }
+    }
+
+    /// Element type as stored.
+    pub fn element(&self) -> Element {
+        self.element
+    }
+
+    /// Full HDF5 path of the eigenvector dataset.
+    pub fn dataset_path(&self) -> &str {
+        &self.path
+    }
+
+    /// Reads the file's states `a..b` (file order) as a `[dim, b − a]` matrix.
+    fn read_span(&self, a: usize, b: usize) -> Result<Matrix> {
+        match self.field {
+            Field::Real => self
+                .read_span_t::<f64>(a, b, |x| x.is_finite())
+                .map(Matrix::Real),
+            Field::Complex => self
+                .read_span_t::<c64>(a, b, |x| x.re.is_finite() && x.im.is_finite())
+                .map(Matrix::Complex),
+        }
+    }
+
+    fn read_span_t<T: hdf5::H5Type + Copy + std::fmt::Display>(
+        &self,
+        a: usize,
+        b: usize,
+        finite: impl Fn(&T) -> bool,
+    ) -> Result<Mat<T>> {
+        let arr: Array2<T> = match self.layout {
+            Layout::Columns => self.ds.read_slice_2d(s![.., a..b]),
+            Layout::Rows => self.ds.read_slice_2d(s![a..b, ..]),
+        }
+        .map_err(|e| {
+            h5::h5err(
+                &self.file,
+                &self.path,
+                &format!("cannot read states {a}..{b}"),
+                e,
+            )
+        })?;
+        let (rows, cols) = arr.dim();
+        // Check values in storage order (fast), then copy.
+        if let Some((k, x)) = arr.iter().enumerate().find(|(_, x)| !finite(x)) {
+            let (r, c) = (k / cols.max(1), k % cols.max(1));
+            let (state, comp) = match self.layout {
+                Layout::Columns => (a + c, r),
+                Layout::Rows => (a + r, c),
+            };
+            return Err(Error::dataset(
+                &self.file,
+                &self.path,
+                format!("non-finite value {x} in component {comp} of the eigenvector of state {state} (file order)"),
+            ));
+        }
+        // A freshly read array is in standard (C) order; fall back to indexing otherwise.
+        let m = match (self.layout, arr.as_slice()) {
+            // C-order [dim, w]: entry (i, j) at i * w + j.
+            (Layout::Columns, Some(v)) => Mat::from_fn(rows, cols, |i, j| v[i * cols + j]),
+            // C-order [w, dim] is column-major [dim, w]: entry (i, j) at j * dim + i.
+            (Layout::Rows, Some(v)) => Mat::from_fn(cols, rows, |i, j| v[j * cols + i]),
+            (Layout::Columns, None) => Mat::from_fn(rows, cols, |i, j| arr[[i, j]]),
+            (Layout::Rows, None) => Mat::from_fn(cols, rows, |i, j| arr[[j, i]]),
+        };
+        Ok(m)
+    }
+}
+
+/// Copies column `src_col` of `src` into column `dst_col` of `dst` (same field).
+fn copy_col(dst: &mut Matrix, dst_col: usize, src: &Matrix, src_col: usize) {
+    match (dst, src) {
+        (Matrix::Real(d), Matrix::Real(s)) => d.col_mut(dst_col).copy_from(s.col(src_col)),
+        (Matrix::Complex(d), Matrix::Complex(s)) => d.col_mut(dst_col).copy_from(s.col(src_col)),
+        // Both come from the same dataset, so the fields always agree.
+        _ => {}
+    }
+}
+
+impl ColumnSource for VectorReader {
+    fn dim(&self) -> usize {
+        self.dim
+    }
+    fn n_states(&self) -> usize {
+        self.n
+    }
+    fn field(&self) -> Field {
+        self.field
+    }
+    fn read(&self, range: Range<usize>) -> Result<Matrix> {
+        if range.start > range.end || range.end > self.n {
+            return Err(Error::dataset(
+                &self.file,
+                &self.path,
+                format!(
+                    "states {}..{} requested, but only {} are stored",
+                    range.start, range.end, self.n
+                ),
+            ));
+        }
+        let Some(order) = &self.order else {
+            return self.read_span(range.start, range.end);
+        };
+        let w = range.len();
+        let idx = &order[range.clone()];
+        let mut out = match self.field {
+            Field::Real => Matrix::Real(Mat::zeros(self.dim, w)),
+            Field::Complex => Matrix::Complex(Mat::zeros(self.dim, w)),
+        };
+        if w == 0 {
+            return Ok(out);
+        }
+        let lo = idx.iter().copied().min().unwrap_or(0);
+        let hi = idx.iter().copied().max().unwrap_or(0) + 1;
+        if hi - lo <= 2 * w + 8 {
+            let span = self.read_span(lo, hi)?;
+            for (k, &i) in idx.iter().enumerate() {
+                copy_col(&mut out, k, &span, i - lo);
+            }
+            return Ok(out);
+        }
+        // Contiguous runs of increasing file indices.
+        let mut k = 0;
+        while k < w {
+            let mut e = k + 1;
+            while e < w && idx[e] == idx[e - 1] + 1 {
+                e += 1;
+            }
+            let block = self.read_span(idx[k], idx[e - 1] + 1)?;
+            for j in 0..(e - k) {
+                copy_col(&mut out, k + j, &block, j);
+            }
+            k = e;
+        }
+        Ok(out)
+    }
+}

@@ -1,0 +1,193 @@
+//! Bad input through the binary: one line `error: ...` naming the file, the dataset
+//! and the problem, a non-zero exit, and never a panic or HDF5's own error stack.
+//!
+//! The bad files are written by `scripts/make_fixtures.py` (numpy 2.4.6, h5py 3.16.0)
+//! into `fixtures/bad/`. Expected messages: our own wording (common practice, no source).
+
+use std::path::Path;
+use std::process::Command;
+
+/// Runs `eigentherm ARGS` in the crate root and returns (exit code, stdout, stderr).
+fn run(args: &[&str]) -> (Option<i32>, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_eigentherm"))
+        .args(args)
+        .current_dir(Path::new(env!("CARGO_MANIFEST_DIR")))
+        .output()
+        .expect("the binary runs");
+    (
+        out.status.code(),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+/// Asserts that `args` fails with exactly the one-line `expected` on stderr.
+fn fails_with(args: &[&str], expected: &str) {
+    let (code, _out, err) = run(args);
+    assert_eq!(code, Some(1), "exit code of {args:?}; stderr: {err}");
+    assert!(!err.contains("panicked"), "{err}");
+    assert!(!err.contains("HDF5-DIAG"), "HDF5 error stack leaked: {err}");
+    assert_eq!(err, format!("error: {expected}\n"), "stderr of {args:?}");
+}
+
+#[test]
+fn missing_file() {
+    fails_with(
+        &["inspect", "fixtures/bad/does_not_exist.h5"],
+        "fixtures/bad/does_not_exist.h5: file not found",
+    );
+}
+
+#[test]
+fn not_an_hdf5_file() {
+    fails_with(
+        &["inspect", "fixtures/bad/not_hdf5.h5"],
+        "fixtures/bad/not_hdf5.h5: not an HDF5 file (the HDF5 library cannot open it)",
+    );
+}
+
+#[test]
+fn no_sector_found() {
+    fails_with(
+        &["inspect", "fixtures/bad/no_sector.h5"],
+        "fixtures/bad/no_sector.h5: no sector found: no group holds a dataset named 'energies' (use --energies-path for another layout)",
+    );
+}
+
+#[test]
+fn energies_path_override_reads_the_other_layout_and_a_missing_one_is_named() {
+    let (code, out, err) = run(&[
+        "inspect",
+        "fixtures/bad/no_sector.h5",
+        "--energies-path",
+        "/results/evals",
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(out.contains("sector results (group /results)"), "{out}");
+    fails_with(
+        &[
+            "inspect",
+            "fixtures/bad/no_sector.h5",
+            "--energies-path",
+            "/results/nothing",
+        ],
+        "fixtures/bad/no_sector.h5: /results/nothing: missing dataset (given as the energies path)",
+    );
+}
+
+#[test]
+fn missing_dataset_in_a_csr_group() {
+    fails_with(
+        &["inspect", "fixtures/bad/csr_missing.h5"],
+        "fixtures/bad/csr_missing.h5: /observables/hop/indptr: missing dataset (a CSR group needs data, indices, indptr and attribute shape)",
+    );
+}
+
+#[test]
+fn eigenvector_shape_does_not_match_energies() {
+    fails_with(
+        &["inspect", "fixtures/bad/shape_vectors.h5"],
+        "fixtures/bad/shape_vectors.h5: /eigenvectors: shape [10, 7] does not match 8 energies (layout [dim, n])",
+    );
+}
+
+#[test]
+fn observable_shape_does_not_match_dimension() {
+    fails_with(
+        &["inspect", "fixtures/bad/shape_observable.h5"],
+        "fixtures/bad/shape_observable.h5: /observables/sz: shape [9] does not match the dimension 8 of the eigenvectors",
+    );
+}
+
+#[test]
+fn nan_in_energies() {
+    fails_with(
+        &["inspect", "fixtures/bad/nan_energies.h5"],
+        "fixtures/bad/nan_energies.h5: /energies: non-finite value NaN at index [2]",
+    );
+}
+
+#[test]
+fn inf_in_eigenvectors() {
+    fails_with(
+        &["inspect", "--verify", "fixtures/bad/inf_vectors.h5"],
+        "fixtures/bad/inf_vectors.h5: /eigenvectors: non-finite value inf in component 2 of the eigenvector of state 0 (file order)",
+    );
+}
+
+#[test]
+fn integer_energies_are_the_wrong_type() {
+    fails_with(
+        &["inspect", "fixtures/bad/int_energies.h5"],
+        "fixtures/bad/int_energies.h5: /energies: found integer elements (int64); floating-point numbers (float32/float64) or complex {r, i} compounds of them are needed",
+    );
+}
+
+#[test]
+fn string_observable_is_the_wrong_type() {
+    fails_with(
+        &["inspect", "fixtures/bad/string_observable.h5"],
+        "fixtures/bad/string_observable.h5: /observables/name: found string elements (string (len 4)); floating-point numbers (float32/float64) or complex {r, i} compounds of them are needed",
+    );
+}
+
+#[test]
+fn unknown_sector_lists_the_existing_ones() {
+    fails_with(
+        &[
+            "inspect",
+            "fixtures/bad/many_sectors.h5",
+            "--sector",
+            "nope",
+        ],
+        "fixtures/bad/many_sectors.h5: no sector named 'nope'; sectors: even, odd",
+    );
+}
+
+#[test]
+fn non_orthonormal_eigenvectors() {
+    // v1 = v0 + 1e-3 v1 in the script: ⟨v0|v1⟩ = 1, so max |VᴴV − 1| = 1.0
+    let (code, out, err) = run(&["inspect", "--verify", "fixtures/bad/not_orthonormal.h5"]);
+    assert_eq!(code, Some(1));
+    assert!(
+        out.contains("over 8 sampled states (tolerance 1e-8): FAIL"),
+        "{out}"
+    );
+    assert_eq!(
+        err,
+        "error: fixtures/bad/not_orthonormal.h5: /eigenvectors: eigenvectors are not orthonormal: max |V^H V - 1| = 1.000e0 over 8 sampled states exceeds 1e-8\n"
+    );
+}
+
+#[test]
+fn non_hermitian_observable() {
+    // the script adds 0.5 to A[0, 5] of a symmetric matrix
+    fails_with(
+        &["inspect", "--verify", "fixtures/bad/not_hermitian.h5"],
+        "fixtures/bad/not_hermitian.h5: /observables/x: not Hermitian: |A[5, 0] - conj(A[0, 5])| = 5.000e-1 exceeds 1e-10 x max|A| = 2.166e-10",
+    );
+}
+
+#[test]
+fn csr_column_index_out_of_range() {
+    fails_with(
+        &["inspect", "--verify", "fixtures/bad/csr_bad_index.h5"],
+        "fixtures/bad/csr_bad_index.h5: /observables/hop/indices: column index 8 at position 1 is out of range (the matrix has 8 columns)",
+    );
+}
+
+#[test]
+fn good_file_verifies_and_prints_json() {
+    let (code, out, err) = run(&["inspect", "--verify", "--json", "fixtures/good.h5"]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(err.is_empty(), "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let sectors = v["files"][0]["sectors"].as_array().unwrap();
+    assert_eq!(sectors.len(), 5);
+    for s in sectors {
+        let ortho = &s["verify"]["orthonormality"];
+        if !ortho.is_null() {
+            assert_eq!(ortho["pass"], true);
+        }
+    }
+}
