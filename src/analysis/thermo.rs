@@ -7,7 +7,13 @@
 //!   (the shift by the ground energy E₀ keeps the exponentials finite; for β < 0 the
 //!   shift is by the top energy instead);
 //! - `β(E)` solves `⟨H⟩_β = E` (monotone decreasing in β, solved by bisection);
-//! - microcanonical average at `E`: the mean of `aₙ` over the shell `|Eₙ − E| ≤ ΔE/2`.
+//! - microcanonical average at `E`: the mean of `aₙ` over the shell `|Eₙ − E| ≤ ΔE/2`;
+//! - Gaussian-smoothed density of states `ρ(E) = Σₙ exp(−(E−Eₙ)²/2σ²) / (√(2π) σ)`
+//!   (states per unit energy) and the microcanonical entropy `S(E) = ln(ρ(E)·ΔE)` with
+//!   `ΔE` one unit of energy of the input, so that `e^{S(E)} = ρ(E)`;
+//! - the default smoothing width [`default_dos_width`]
+//!   `σ = (E_max − E_min)·max(0.02, 10/n)`: 2 % of the spectral width, widened for
+//!   small spectra so that about ten or more states fall within one σ.
 
 /// Largest |β| searched, in units of the inverse spectral width.
 const BETA_RANGE_WIDTHS: f64 = 1.0e3;
@@ -91,9 +97,108 @@ pub fn microcanonical_average(
     (count > 0).then(|| (sum / count as f64, count))
 }
 
+/// Default Gaussian width of the smoothed density of states (also the default
+/// half-width of the microcanonical shell): `σ = (E_max − E_min)·max(0.02, 10/n)`;
+/// 0 for fewer than two states or a flat spectrum.
+pub fn default_dos_width(energies: &[f64]) -> f64 {
+    let n = energies.len();
+    if n < 2 {
+        return 0.0;
+    }
+    let emin = energies.iter().cloned().fold(f64::INFINITY, f64::min);
+    let emax = energies.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
+    (emax - emin).max(0.0) * f64::max(0.02, 10.0 / n as f64)
+}
+
+/// Gaussian-smoothed density of states at `e`:
+/// `ρ(e) = Σₙ exp(−(e−Eₙ)²/2σ²) / (√(2π) σ)` (states per unit energy; `σ > 0`).
+pub fn density_of_states(energies: &[f64], e: f64, sigma: f64) -> f64 {
+    let norm = 1.0 / ((2.0 * std::f64::consts::PI).sqrt() * sigma);
+    energies
+        .iter()
+        .map(|&en| {
+            let x = (e - en) / sigma;
+            (-0.5 * x * x).exp()
+        })
+        .sum::<f64>()
+        * norm
+}
+
+/// Microcanonical entropy `S(e) = ln ρ(e)` (that is `ln(ρ(e)·ΔE)` with `ΔE` one unit of
+/// energy) from the Gaussian-smoothed density of states of width `sigma`.
+pub fn entropy(energies: &[f64], e: f64, sigma: f64) -> f64 {
+    density_of_states(energies, e, sigma).ln()
+}
+
+/// `S(E)` tabulated on `points` equally spaced energies over `[lo, hi]`, for fast
+/// linear interpolation ([`EntropyTable::at`]) when it is needed for many pairs of states.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct EntropyTable {
+    /// Lowest tabulated energy.
+    pub lo: f64,
+    /// Highest tabulated energy.
+    pub hi: f64,
+    /// Gaussian width σ of the density of states.
+    pub sigma: f64,
+    /// `S` at the grid points.
+    pub values: Vec<f64>,
+}
+
+impl EntropyTable {
+    /// Tabulates `S(E) = ln ρ(E)` (width `sigma`) on `points ≥ 2` energies in `[lo, hi]`.
+    pub fn new(energies: &[f64], lo: f64, hi: f64, sigma: f64, points: usize) -> EntropyTable {
+        let points = points.max(2);
+        let values = (0..points)
+            .map(|k| {
+                let e = lo + (hi - lo) * k as f64 / (points - 1) as f64;
+                entropy(energies, e, sigma)
+            })
+            .collect();
+        EntropyTable {
+            lo,
+            hi,
+            sigma,
+            values,
+        }
+    }
+
+    /// `S(e)` by linear interpolation (clamped to the tabulated range).
+    pub fn at(&self, e: f64) -> f64 {
+        let k = self.values.len() - 1;
+        if self.hi <= self.lo {
+            return self.values[0];
+        }
+        let x = ((e - self.lo) / (self.hi - self.lo)).clamp(0.0, 1.0) * k as f64;
+        let i = (x.floor() as usize).min(k.saturating_sub(1));
+        let t = x - i as f64;
+        self.values[i] * (1.0 - t) + self.values[(i + 1).min(k)] * t
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn dos_integrates_to_state_count() {
+        // ∫ρ(E) dE = n for a Gaussian-smoothed density (normalised Gaussians; no source needed)
+        let e: Vec<f64> = (0..30).map(|i| (i as f64 * 0.7).sin() * 2.0).collect();
+        let sigma = 0.3;
+        let (a, b, m) = (-5.0, 5.0, 4000);
+        let h = (b - a) / m as f64;
+        let integral: f64 = (0..=m)
+            .map(|k| {
+                let w = if k == 0 || k == m { 0.5 } else { 1.0 };
+                w * density_of_states(&e, a + k as f64 * h, sigma)
+            })
+            .sum::<f64>()
+            * h;
+        assert!((integral - 30.0).abs() < 1e-6, "{integral}");
+        let t = EntropyTable::new(&e, -2.0, 2.0, sigma, 401);
+        for x in [-1.9, -0.33, 0.0, 1.234] {
+            assert!((t.at(x) - entropy(&e, x, sigma)).abs() < 1e-3, "{x}");
+        }
+    }
 
     #[test]
     fn two_level_canonical_energy() {

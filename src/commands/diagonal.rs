@@ -1,12 +1,222 @@
-//! `eigentherm diagonal` (not yet implemented).
+//! `eigentherm diagonal`: diagonal matrix elements `Aₙₙ` against the energy, the
+//! eigenstate-to-eigenstate fluctuations in a window, and the thermal predictions
+//! (see [`crate::analysis::diagonal`]).
+//!
+//! For each file, sector and observable: `Aₙₙ` of ALL available states (the
+//! predictions need them; streamed under `--memory`), then the window's figures.
 
+use crate::analysis::diagonal::{self, DiagonalResult};
+use crate::commands::common::{InputArgs, SelectArgs};
+use crate::data::{ColumnSource, Operator, OperatorForm};
 use crate::error::{Error, Result};
+use crate::input::{EigenFile, Sector};
+use crate::project::{self, NoVectors, ProjectOptions};
+use crate::window::{Window, WindowSpec};
+use serde::Serialize;
 
 /// Options of `eigentherm diagonal`.
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// Input files and dataset path overrides.
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Sector, window (default 0.4:0.6) and output format.
+    #[command(flatten)]
+    pub select: SelectArgs,
+    /// Observable to analyse (repeatable); default: every observable of the sector.
+    #[arg(long = "observable", value_name = "NAME")]
+    pub observables: Vec<String>,
+    /// Working-memory budget of the projector, e.g. 6G or 512M (default: half the machine's memory).
+    #[arg(long, value_name = "SIZE")]
+    pub memory: Option<String>,
+}
+
+/// Diagonal results of one sector.
+#[derive(Debug, Clone, Serialize)]
+pub struct SectorReport {
+    /// The file.
+    pub file: String,
+    /// Sector name.
+    pub name: String,
+    /// Number of stored states.
+    pub n_states: usize,
+    /// Hilbert-space dimension, when eigenvectors are stored.
+    pub dim: Option<usize>,
+    /// One result per observable.
+    pub observables: Vec<DiagonalResult>,
+}
+
+/// JSON document of `eigentherm diagonal`.
+#[derive(Debug, Clone, Serialize)]
+pub struct Report {
+    /// Projector memory budget in bytes.
+    pub memory_budget: usize,
+    /// All sectors of all files.
+    pub sectors: Vec<SectorReport>,
+}
+
+/// Named operators of a sector with the column source they need.
+pub(crate) type SectorOperators = (Vec<(String, Operator)>, Box<dyn ColumnSource>);
+
+/// The operators named `names` (every observable of the sector when empty) and the
+/// column source they need: the eigenvector reader, or [`NoVectors`] when every operator
+/// is stored in the energy basis and no eigenvectors are stored.
+pub(crate) fn load_sector(
+    file: &EigenFile,
+    sector: &Sector,
+    names: &[String],
+    energies: &crate::data::Spectrum,
+) -> Result<SectorOperators> {
+    let names: Vec<String> = if names.is_empty() {
+        sector.observables.iter().map(|o| o.name.clone()).collect()
+    } else {
+        names.to_vec()
+    };
+    if names.is_empty() {
+        return Err(Error::dataset(
+            file.path(),
+            sector.group.clone(),
+            "the sector has no observables (give one with --observable-path NAME=PATH)",
+        ));
+    }
+    let ops = names
+        .iter()
+        .map(|n| file.observable(sector, n).map(|op| (n.clone(), op)))
+        .collect::<Result<Vec<_>>>()?;
+    let all_energy = ops
+        .iter()
+        .all(|(_, o)| o.form() == OperatorForm::EnergyBasis);
+    let src: Box<dyn ColumnSource> = if all_energy && sector.dim.is_none() {
+        Box::new(NoVectors { n: energies.len() })
+    } else {
+        Box::new(file.vectors(sector, energies)?)
+    };
+    Ok((ops, src))
+}
+
+/// Runs the diagonal analysis on every selected file, sector and observable.
+pub fn compute(args: &Args) -> Result<Report> {
+    let opts = ProjectOptions::from_memory_arg(args.memory.as_deref())?;
+    let wspec: WindowSpec = args.select.window_spec(Window::MATRIX_ELEMENTS)?;
+    let files = args.input.open()?;
+    let mut sectors = Vec::new();
+    for f in &files {
+        for s in f.select(args.select.sector.as_deref())? {
+            let spectrum = f.spectrum(s)?;
+            let (ops, src) = load_sector(f, s, &args.observables, &spectrum)?;
+            let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
+            let n = spectrum.len();
+            let diags = project::project_diagonal(src.as_ref(), &refs, 0..n, &opts)
+                .map_err(|e| Error::dataset(f.path(), s.group.clone(), e.to_string()))?;
+            let range = wspec.indices(&spectrum.energies);
+            let mut observables = Vec::new();
+            for ((name, _), d) in ops.iter().zip(&diags) {
+                let r = diagonal::analyse(
+                    name,
+                    &spectrum.energies,
+                    d,
+                    range.clone(),
+                    &wspec.label(),
+                    s.dim,
+                )
+                .map_err(|e| Error::dataset(f.path(), s.group.clone(), e.to_string()))?;
+                observables.push(r);
+            }
+            sectors.push(SectorReport {
+                file: f.path().display().to_string(),
+                name: s.name.clone(),
+                n_states: n,
+                dim: s.dim,
+                observables,
+            });
+        }
+    }
+    Ok(Report {
+        memory_budget: opts.budget_bytes,
+        sectors,
+    })
+}
+
+fn opt(x: Option<f64>) -> String {
+    x.map_or("-".to_string(), |v| format!("{v:.5}"))
+}
+
+/// Human-readable rendering of the report.
+pub fn render_text(r: &Report) -> String {
+    use std::fmt::Write;
+    let mut t = String::new();
+    for s in &r.sectors {
+        let _ = writeln!(
+            t,
+            "{} [{}]: {} states{}",
+            s.file,
+            s.name,
+            s.n_states,
+            s.dim.map_or(String::new(), |d| format!(", dimension {d}"))
+        );
+        for o in &s.observables {
+            let _ = writeln!(
+                t,
+                "  {}: window {} ({} states), mean A_nn = {:.6}",
+                o.name, o.window, o.states, o.mean
+            );
+            let _ = writeln!(
+                t,
+                "    |A_n+1 - A_n|: mean {:.4e}, max {:.4e}; fluct_variance = {:.4e} ± {:.1e}; residual rms {:.4e}",
+                o.diff_mean_abs, o.diff_max_abs, o.fluct_variance, o.fluct_variance_stderr, o.residual_rms
+            );
+            let _ = writeln!(t, "    smooth A(E): {}", o.smooth_rule);
+            let _ = writeln!(
+                t,
+                "    {:>10} {:>6} {:>10} {:>10} {:>10} {:>10} {:>10}",
+                "E", "count", "A(E)", "stderr", "micro", "beta", "canonical"
+            );
+            for b in &o.smooth {
+                let _ = writeln!(
+                    t,
+                    "    {:>10.4} {:>6} {:>10.5} {:>10} {:>10} {:>10} {:>10}",
+                    b.energy,
+                    b.count,
+                    b.mean,
+                    opt(b.stderr),
+                    opt(b.microcanonical),
+                    opt(b.beta),
+                    opt(b.canonical)
+                );
+            }
+            let p = &o.predictions;
+            let dev = |d: &Option<diagonal::Deviation>| {
+                d.as_ref().map_or("-".to_string(), |d| {
+                    format!(
+                        "max {:.4e}, rms {:.4e} over {} bins",
+                        d.max_abs, d.rms, d.bins
+                    )
+                })
+            };
+            let _ = writeln!(
+                t,
+                "    A(E) - microcanonical (shell half-width {:.4}): {}",
+                p.microcanonical_half_width,
+                dev(&p.microcanonical)
+            );
+            let _ = writeln!(t, "    A(E) - canonical at beta(E): {}", dev(&p.canonical));
+            if let Some(note) = &p.note {
+                let _ = writeln!(t, "    note: {note}");
+            }
+        }
+    }
+    t
+}
 
 /// Runs `eigentherm diagonal`.
-pub fn run(_args: &Args) -> Result<()> {
-    Err(Error::other("'diagonal' is not implemented yet"))
+pub fn run(args: &Args) -> Result<()> {
+    let report = compute(args)?;
+    if args.select.json {
+        let s = serde_json::to_string_pretty(&report)
+            .map_err(|e| Error::other(format!("cannot write JSON: {e}")))?;
+        println!("{s}");
+    } else {
+        print!("{}", render_text(&report));
+    }
+    Ok(())
 }
