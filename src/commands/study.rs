@@ -293,22 +293,19 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
             if let Some(o) = a.observables.iter().find(|o| o.name == obs) {
                 let step = (o.points.len() / 2500).max(1);
                 let pts: Vec<(f64, f64)> = o.points.iter().step_by(step).copied().collect();
-                let sm = &o.diagonal.smooth;
+                let curves = full_spectrum_curves(&o.points, 30);
                 let mut fig = Figure::new("E (energy units of H)", format!("⟨n|{obs}|n⟩"))
                     .series(Series::points(format!("A_nn, {}", a.label), pts).color(0))
                     .series(
-                        Series::line(
-                            "binned A(E)",
-                            sm.iter().map(|b| (b.energy, b.mean)).collect(),
-                        )
-                        .with_errors(sm.iter().map(|b| b.stderr.unwrap_or(0.0)).collect())
-                        .style(Style::LinePoints)
-                        .color(1),
+                        Series::line("binned A(E)", curves.iter().map(|c| (c.0, c.1)).collect())
+                            .with_errors(curves.iter().map(|c| c.2).collect())
+                            .style(Style::LinePoints)
+                            .color(1),
                     )
-                    .legend(Legend::UpperRight);
-                let can: Vec<(f64, f64)> = sm
+                    .legend(Legend::UpperLeft);
+                let can: Vec<(f64, f64)> = curves
                     .iter()
-                    .filter_map(|b| b.canonical.map(|c| (b.energy, c)))
+                    .filter_map(|c| c.3.map(|v| (c.0, v)))
                     .collect();
                 if !can.is_empty() {
                     fig = fig.series(
@@ -320,7 +317,15 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
                 out.push((
                     format!("diagonal_{stem}"),
                     fig,
-                    format!("Diagonal matrix elements of {obs} against energy in {} (D = {}), the binned smooth part A(E) with standard errors ({}) and the canonical prediction at β(E).", a.label, a.dimension, o.diagonal.smooth_rule),
+                    format!(
+                        "Diagonal matrix elements of {obs} against energy in {} (D = {}): the binned mean A(E) over 30 \
+                         equal-width energy bins with standard errors, and the canonical prediction Σₙe^(−βEₙ)Aₙₙ/Z at \
+                         β(E) solving ⟨H⟩_β = E. The analysis window is {} ({}).",
+                        a.label,
+                        a.dimension,
+                        o.diagonal.window,
+                        o.diagonal.smooth_rule
+                    ),
                 ));
                 // Envelope, all sizes.
                 let mut env = Figure::new("ω (energy units)", "|f(Ē, ω)|² = e^S(Ē) ⟨|A_nm|²⟩")
@@ -416,6 +421,43 @@ fn group_by(
         }
     }
     out
+}
+
+/// Binned mean of `(E, A)` points over `bins` equal-width energy bins, with standard
+/// errors, and the canonical prediction at each bin's mean energy:
+/// `(Ē, ⟨A⟩_bin, stderr, ⟨A⟩_β(Ē))`. Bins with fewer than two points are dropped.
+fn full_spectrum_curves(points: &[(f64, f64)], bins: usize) -> Vec<(f64, f64, f64, Option<f64>)> {
+    use crate::analysis::thermo::{beta_of_energy, canonical_average};
+    let (lo, hi) = points
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
+            (a.min(p.0), b.max(p.0))
+        });
+    if hi <= lo || bins == 0 {
+        return Vec::new();
+    }
+    let energies: Vec<f64> = points.iter().map(|p| p.0).collect();
+    let values: Vec<f64> = points.iter().map(|p| p.1).collect();
+    let width = (hi - lo) / bins as f64;
+    let mut acc = vec![(0.0, 0.0, 0.0, 0usize); bins];
+    for &(e, a) in points {
+        let k = (((e - lo) / width) as usize).min(bins - 1);
+        acc[k].0 += e;
+        acc[k].1 += a;
+        acc[k].2 += a * a;
+        acc[k].3 += 1;
+    }
+    acc.into_iter()
+        .filter(|b| b.3 >= 2)
+        .map(|(se, sa, saa, n)| {
+            let n_f = n as f64;
+            let (e, mean) = (se / n_f, sa / n_f);
+            let var = ((saa / n_f - mean * mean) * n_f / (n_f - 1.0)).max(0.0);
+            let can =
+                beta_of_energy(&energies, e).map(|b| canonical_average(&energies, &values, b));
+            (e, mean, (var / n_f).sqrt(), can)
+        })
+        .collect()
 }
 
 /// One row per sector: levels, ⟨r̃⟩, KS distances, nearest ensemble, degeneracies.
