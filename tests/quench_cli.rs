@@ -1,5 +1,5 @@
-//! `eigentherm quench` on the command line: one-line errors, and (once the writer and the
-//! reader land) an end-to-end run on a generated file.
+//! `eigentherm quench` on the command line: one-line errors, and an end-to-end run on a
+//! generated file.
 
 use std::process::Command;
 
@@ -56,7 +56,6 @@ fn bad_options_give_one_line_errors() {
 }
 
 #[test]
-#[ignore = "enable when the HDF5 writer (model) and reader (input) land"]
 fn end_to_end_on_a_generated_chain() {
     use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
     let dir = tempfile::tempdir().unwrap();
