@@ -1,7 +1,7 @@
 //! `eigentherm quench`: quench dynamics of an initial state from the stored eigenbasis.
 //!
 //! `eigentherm quench FILE... --observable NAME --state SPEC [--times lin:T0:T1:N|log:T0:T1:N]
-//! [--drop-weight EPS] [--shell-width DE] [--sector NAME] [--json]`
+//! [--drop-weight EPS] [--shell-width DE] [--memory SIZE] [--sector NAME] [--json]`
 //!
 //! The state SPEC (see [`crate::analysis::quench::state`]): `stored:NAME`, `index:K`,
 //! `product:LETTERS` (letters `u d + - r l`, site 1 first) or `product:x+` (every site along
@@ -44,6 +44,9 @@ pub struct Args {
     /// Full width ΔE of the microcanonical shell [default: 5% of the spectral width].
     #[arg(long, value_name = "DE")]
     pub shell_width: Option<f64>,
+    /// Working-memory budget of the projector that forms the kept-state matrix, e.g. 6G or 512M (default: half the machine's memory).
+    #[arg(long, value_name = "SIZE")]
+    pub memory: Option<String>,
     /// Analyse only this sector (group path); default: every sector where the state has weight.
     #[arg(long, value_name = "NAME")]
     pub sector: Option<String>,
@@ -108,6 +111,7 @@ pub fn run(args: &Args) -> Result<()> {
     let opts = QuenchOptions {
         shell_half_width: args.shell_width.map(|w| 0.5 * w),
         drop_weight: args.drop_weight,
+        project: crate::project::ProjectOptions::from_memory_arg(args.memory.as_deref())?,
         ..QuenchOptions::default()
     };
     let overrides = overrides(&args.input.paths)?;

@@ -86,6 +86,10 @@ pub struct QuenchOptions {
     pub degeneracy_tol: Option<f64>,
     /// The dropped fraction of the norm used to choose the kept states (reported only).
     pub drop_weight: f64,
+    /// Memory budget and block size of the projector that forms `A_KK`
+    /// ([`basis::kept_matrix`]); not part of the results.
+    #[serde(skip)]
+    pub project: crate::project::ProjectOptions,
 }
 
 impl Default for QuenchOptions {
@@ -95,6 +99,7 @@ impl Default for QuenchOptions {
             envelope: None,
             degeneracy_tol: None,
             drop_weight: DEFAULT_DROP_WEIGHT,
+            project: crate::project::ProjectOptions::default(),
         }
     }
 }
@@ -735,7 +740,8 @@ pub struct SectorQuench {
 
 /// The whole pipeline for one sector: `cₙ = vₙᴴψ` and `Aₙₙ` in one streamed pass
 /// ([`basis::coefficients_and_diagonal`]), the kept states ([`kept_states`] with
-/// `opts.drop_weight`), `A_KK` ([`basis::project_kept`]), then [`analyze`].
+/// `opts.drop_weight`), `A_KK` ([`basis::kept_matrix`], the projector under `opts.project`),
+/// then [`analyze`].
 /// `energies` are the ascending energies of the `src.n_states()` eigenvectors and `psi` is the
 /// state in the sector's computational basis.
 pub fn quench_sector(
@@ -757,7 +763,7 @@ pub fn quench_sector(
     let diag_all = diag.ok_or_else(|| Error::other("internal: no diagonal elements"))?;
     let weights: Vec<f64> = coeffs.iter().map(|c| c.norm_sqr()).collect();
     let kept = kept_states(&weights, opts.drop_weight);
-    let a_kk = basis::project_kept(src, op, &kept.indices)?;
+    let (a_kk, _) = basis::kept_matrix(src, op, &kept.indices, &opts.project)?;
     let report = analyze(
         energies,
         &diag_all,
