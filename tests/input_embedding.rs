@@ -32,7 +32,10 @@ fn generated_embeddings_read_back_and_cover_the_full_space() {
     let f = EigenFile::open(&path, &Overrides::default()).unwrap();
     let mut total_cols = 0;
     for (s, data) in f.sectors().iter().zip(&sectors) {
-        let p = f.embedding(s).unwrap().expect("generated sectors have an embedding");
+        let p = f
+            .embedding(s)
+            .unwrap()
+            .expect("generated sectors have an embedding");
         let want = data.embedding.as_ref().unwrap();
         // the very arrays the writer was given (exact round trip)
         assert_eq!((p.nrows, p.ncols), (want.nrows, want.ncols));

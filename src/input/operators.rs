@@ -309,7 +309,10 @@ pub fn read_embedding(
         return Err(Error::dataset(
             file,
             path,
-            format!("attribute shape has {} entries, expected 2 ([full_dim, dim])", shape.len()),
+            format!(
+                "attribute shape has {} entries, expected 2 ([full_dim, dim])",
+                shape.len()
+            ),
         ));
     };
     if let Some(d) = dim {
@@ -356,14 +359,22 @@ pub fn read_embedding(
         return Err(Error::dataset(
             file,
             &ipath,
-            format!("holds {} entries but data holds {}", indices.len(), data.len()),
+            format!(
+                "holds {} entries but data holds {}",
+                indices.len(),
+                data.len()
+            ),
         ));
     }
     if indptr.len() != full_dim + 1 {
         return Err(Error::dataset(
             file,
             &ppath,
-            format!("holds {} entries, expected full_dim + 1 = {}", indptr.len(), full_dim + 1),
+            format!(
+                "holds {} entries, expected full_dim + 1 = {}",
+                indptr.len(),
+                full_dim + 1
+            ),
         ));
     }
     let csr = Csr {
