@@ -129,3 +129,69 @@ fn end_to_end_on_a_generated_chain() {
         assert!((x - y).abs() < 1e-10);
     }
 }
+
+#[test]
+fn sector_decomposition_matches_the_unresolved_chain() {
+    // The same chain with the reflection resolved (two sectors, combined through the
+    // embeddings) and ignored (one sector, the full space): the whole-state figures agree,
+    // D_eff = 1/Σ_s w̃_s²/D_eff,s, σ² = Σ_s w̃_s² σ²_s and the trace (exact identities for an
+    // observable that is block diagonal in the sectors; linear algebra)
+    use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
+    let dir = tempfile::tempdir().unwrap();
+    let run_with = |reflection: Reflection, name: &str| -> serde_json::Value {
+        let path = dir.path().join(name);
+        let sectors = build_chain(&ChainSpec {
+            model: ChainModel::MixedFieldIsing {
+                j: 1.0,
+                g: 0.9045,
+                h: 0.8090,
+            },
+            sites: 7,
+            boundary: Boundary::Open,
+            reflection,
+            site: None,
+        })
+        .unwrap();
+        write_file(&path, &sectors).unwrap();
+        let (ok, out, err) = run(&[
+            "quench",
+            path.to_str().unwrap(),
+            "--observable",
+            "sz_site",
+            "--state",
+            "product:uudduud",
+            "--times",
+            "lin:0:20:41",
+            "--drop-weight",
+            "0",
+            "--json",
+        ]);
+        assert!(ok, "{err}");
+        let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+        v["files"][0].clone()
+    };
+    let resolved = run_with(Reflection::Resolve, "res.h5");
+    let ignored = run_with(Reflection::Ignore, "ign.h5");
+    assert_eq!(resolved["sectors"].as_array().unwrap().len(), 2);
+    assert_eq!(ignored["sectors"].as_array().unwrap().len(), 1);
+    let (a, b) = (&resolved["overall"], &ignored["overall"]);
+    let f = |v: &serde_json::Value, k: &str| v[k].as_f64().unwrap();
+    for k in [
+        "energy",
+        "d_eff",
+        "diagonal_ensemble",
+        "sigma2",
+        "canonical",
+    ] {
+        let (x, y) = (f(a, k), f(b, k));
+        assert!((x - y).abs() <= 1e-9 * (1.0 + y.abs()), "{k}: {x} vs {y}");
+    }
+    // the bound holds for the whole state (Short 2011, from memory; module doc of quench)
+    assert!(f(a, "sigma2") <= f(a, "bound"));
+    let ta = &resolved["combined"]["trace"];
+    let tb = &ignored["sectors"][0]["report"]["trace"];
+    for j in 0..41 {
+        let (x, y) = (f(&ta[j], "value"), f(&tb[j], "value"));
+        assert!((x - y).abs() < 1e-10, "t index {j}: {x} vs {y}");
+    }
+}
