@@ -56,7 +56,7 @@ pub struct Args {
 }
 
 /// One sector's result.
-#[derive(Debug, Serialize)]
+#[derive(Debug, Clone, Serialize)]
 pub struct SectorResult {
     /// Sector name.
     pub name: String,
@@ -69,7 +69,7 @@ pub struct SectorResult {
 }
 
 /// The result for one file.
-#[derive(Debug, Serialize)]
+#[derive(Debug, Clone, Serialize)]
 pub struct FileResult {
     /// The file.
     pub file: String,
@@ -91,6 +91,8 @@ pub struct FileResult {
     pub combined: Option<Combined>,
     /// Number of sites (attribute `size` of the first sector with weight that has one).
     pub size: Option<usize>,
+    /// Model family (attribute `model` of the first sector with weight that has one).
+    pub model: Option<String>,
     /// Sum of the dimensions of the sectors with weight.
     pub dimension: usize,
     /// Whole-state figures (see [`quench::Overall`]).
@@ -431,6 +433,7 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
     let mut spectra = Vec::new();
     let mut without = Vec::new();
     let mut size = None;
+    let mut model = None;
     let mut dimension = 0;
     for (s, c) in comps {
         let weight: f64 = c.iter().map(|x| x.norm_sqr()).sum();
@@ -444,6 +447,7 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         let op = file.observable(s, job.observable)?;
         let obs_path = format!("{group}/observables/{}", job.observable);
         size = size.or(s.size);
+        model = model.or_else(|| s.model.clone());
         dimension += s.dim.unwrap_or(0);
         let sq = quench::quench_sector(&vectors, &spectrum.energies, &op, &c, &times, opts)
             .map_err(|e| ctx(e, path, &obs_path))?;
@@ -503,6 +507,7 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         sectors_without_weight: without,
         combined,
         size,
+        model,
         dimension,
         overall,
     })
