@@ -446,10 +446,7 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
 }
 
 /// Runs the quench of every (observable, state) on every file (nothing without `--state`).
-fn quench_all(
-    args: &Args,
-    project: crate::project::ProjectOptions,
-) -> Result<Vec<QuenchStudy>> {
+fn quench_all(args: &Args, project: crate::project::ProjectOptions) -> Result<Vec<QuenchStudy>> {
     use crate::analysis::quench::{state::StateSpec, QuenchOptions, TimeGrid};
     use crate::commands::quench::{quench_file, Job};
     if args.states.is_empty() {
@@ -513,9 +510,7 @@ fn run_label(r: &crate::commands::quench::FileResult) -> String {
 }
 
 /// Runs of one quench grouped by model family, each group sorted by size (then dimension).
-fn quench_families(
-    q: &QuenchStudy,
-) -> Vec<(String, Vec<&crate::commands::quench::FileResult>)> {
+fn quench_families(q: &QuenchStudy) -> Vec<(String, Vec<&crate::commands::quench::FileResult>)> {
     let mut fams: Vec<(String, Vec<&crate::commands::quench::FileResult>)> = Vec::new();
     for r in &q.runs {
         let key = r.model.clone().unwrap_or_default();
@@ -591,8 +586,7 @@ fn quench_figures(quench: &[QuenchStudy]) -> Vec<Named> {
                         .color(0),
                 )
                 .series(
-                    Series::points("σ²_ETH (envelope estimate)", pts(&|o| o.sigma2_eth))
-                        .color(1),
+                    Series::points("σ²_ETH (envelope estimate)", pts(&|o| o.sigma2_eth)).color(1),
                 )
                 .series(
                     Series::line("bound ((λmax−λmin)/2)²/D_eff", pts(&|o| o.bound))
