@@ -55,6 +55,13 @@ pub fn scenario_models() -> Vec<(&'static str, ChainModel)> {
 /// Observables analysed by the demo (written by the chain builder).
 pub const DEMO_OBSERVABLES: [&str; 2] = ["sz_site", "sx_site"];
 
+/// The demo's quench: every spin along +y, a product state with energy E = 0 for both chains
+/// (⟨σᶻσᶻ⟩ = ⟨σˣ⟩ = ⟨σᶻ⟩ = 0 in it), the middle of the spectrum (Tr H = 0).
+pub const DEMO_STATE: &str = "product:y+";
+
+/// Time grid of the demo's quench.
+pub const DEMO_TIMES: &str = "lin:0:40:401";
+
 /// Builds the demo files; returns their paths.
 pub fn build_files(args: &Args) -> Result<Vec<PathBuf>> {
     std::fs::create_dir_all(&args.out).map_err(|e| Error::io(&args.out, e))?;
@@ -131,6 +138,9 @@ pub fn run(args: &Args) -> Result<()> {
         omega_max: None,
         memory: None,
         combine_sectors: false,
+        states: vec![DEMO_STATE.to_string()],
+        times: DEMO_TIMES.to_string(),
+        drop_weight: crate::analysis::quench::DEFAULT_DROP_WEIGHT,
     };
     let res = study::study(&sargs)?;
     print!("{}", study::summary_text(&res.results.scaling));

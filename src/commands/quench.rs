@@ -1,7 +1,7 @@
 //! `eigentherm quench`: quench dynamics of an initial state from the stored eigenbasis.
 //!
 //! `eigentherm quench FILE... --observable NAME --state SPEC [--times lin:T0:T1:N|log:T0:T1:N]
-//! [--drop-weight EPS] [--shell-width DE] [--sector NAME] [--json]`
+//! [--drop-weight EPS] [--shell-width DE] [--memory SIZE] [--sector NAME] [--json]`
 //!
 //! The state SPEC (see [`crate::analysis::quench::state`]): `stored:NAME`, `index:K`,
 //! `product:LETTERS` (letters `u d + - r l`, site 1 first) or `product:x+` (every site along
@@ -44,6 +44,9 @@ pub struct Args {
     /// Full width ΔE of the microcanonical shell [default: 5% of the spectral width].
     #[arg(long, value_name = "DE")]
     pub shell_width: Option<f64>,
+    /// Working-memory budget of the projector that forms the kept-state matrix, e.g. 6G or 512M (default: half the machine's memory).
+    #[arg(long, value_name = "SIZE")]
+    pub memory: Option<String>,
     /// Analyse only this sector (group path); default: every sector where the state has weight.
     #[arg(long, value_name = "NAME")]
     pub sector: Option<String>,
@@ -53,7 +56,7 @@ pub struct Args {
 }
 
 /// One sector's result.
-#[derive(Debug, Serialize)]
+#[derive(Debug, Clone, Serialize)]
 pub struct SectorResult {
     /// Sector name.
     pub name: String,
@@ -66,7 +69,7 @@ pub struct SectorResult {
 }
 
 /// The result for one file.
-#[derive(Debug, Serialize)]
+#[derive(Debug, Clone, Serialize)]
 pub struct FileResult {
     /// The file.
     pub file: String,
@@ -86,6 +89,31 @@ pub struct FileResult {
     pub sectors_without_weight: Vec<String>,
     /// Weighted combination over the sectors (when more than one has weight).
     pub combined: Option<Combined>,
+    /// Number of sites (attribute `size` of the first sector with weight that has one).
+    pub size: Option<usize>,
+    /// Model family (attribute `model` of the first sector with weight that has one).
+    pub model: Option<String>,
+    /// Sum of the dimensions of the sectors with weight.
+    pub dimension: usize,
+    /// Whole-state figures (see [`quench::Overall`]).
+    pub overall: quench::Overall,
+}
+
+/// What to run on one file (see [`quench_file`]).
+#[derive(Debug, Clone)]
+pub struct Job<'a> {
+    /// Observable name.
+    pub observable: &'a str,
+    /// The state SPEC as given.
+    pub state: &'a str,
+    /// The parsed state.
+    pub spec: &'a StateSpec,
+    /// Only this sector (default: every sector).
+    pub sector: Option<&'a str>,
+    /// Time grid.
+    pub grid: TimeGrid,
+    /// Analysis options.
+    pub opts: &'a QuenchOptions,
 }
 
 /// Runs `eigentherm quench`.
@@ -108,12 +136,21 @@ pub fn run(args: &Args) -> Result<()> {
     let opts = QuenchOptions {
         shell_half_width: args.shell_width.map(|w| 0.5 * w),
         drop_weight: args.drop_weight,
+        project: crate::project::ProjectOptions::from_memory_arg(args.memory.as_deref())?,
         ..QuenchOptions::default()
     };
     let overrides = overrides(&args.input.paths)?;
+    let job = Job {
+        observable: &args.observable,
+        state: &args.state,
+        spec: &spec,
+        sector: args.sector.as_deref(),
+        grid,
+        opts: &opts,
+    };
     let mut results = Vec::new();
     for path in &args.input.files {
-        let r = run_file(path, &overrides, args, &spec, grid, &opts)?;
+        let r = quench_file(path, &overrides, &job)?;
         if !args.json {
             print_text(&r);
         }
@@ -378,18 +415,14 @@ fn state_vector(spec: &StateSpec, full_dim: usize) -> Result<Vec<c64>> {
     }
 }
 
-/// Runs the quench on one file.
-fn run_file(
-    path: &Path,
-    overrides: &Overrides,
-    args: &Args,
-    spec: &StateSpec,
-    grid: TimeGrid,
-    opts: &QuenchOptions,
-) -> Result<FileResult> {
+/// Runs the quench on one file: the state's sector components (through the embeddings for
+/// a full-space state), the analysis of each sector with weight, their combination, and
+/// the whole-state figures.
+pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<FileResult> {
+    let (spec, grid, opts) = (job.spec, job.grid, job.opts);
     let file = EigenFile::open(path, overrides)?;
-    let sectors = file.select(args.sector.as_deref())?;
-    let comps = components(&file, &sectors, spec, args.sector.is_some())?;
+    let sectors = file.select(job.sector)?;
+    let comps = components(&file, &sectors, spec, job.sector.is_some())?;
     let total: f64 = comps
         .iter()
         .map(|(_, c)| c.iter().map(|x| x.norm_sqr()).sum::<f64>())
@@ -399,6 +432,9 @@ fn run_file(
     let mut diags = Vec::new();
     let mut spectra = Vec::new();
     let mut without = Vec::new();
+    let mut size = None;
+    let mut model = None;
+    let mut dimension = 0;
     for (s, c) in comps {
         let weight: f64 = c.iter().map(|x| x.norm_sqr()).sum();
         if weight <= 1e-14 * total.max(f64::MIN_POSITIVE) {
@@ -408,8 +444,11 @@ fn run_file(
         let group = s.group.trim_end_matches('/');
         let spectrum = file.spectrum(s)?;
         let vectors = file.vectors(s, &spectrum)?;
-        let op = file.observable(s, &args.observable)?;
-        let obs_path = format!("{group}/observables/{}", args.observable);
+        let op = file.observable(s, job.observable)?;
+        let obs_path = format!("{group}/observables/{}", job.observable);
+        size = size.or(s.size);
+        model = model.or_else(|| s.model.clone());
+        dimension += s.dim.unwrap_or(0);
         let sq = quench::quench_sector(&vectors, &spectrum.energies, &op, &c, &times, opts)
             .map_err(|e| ctx(e, path, &obs_path))?;
         let captured = sq.report.norm / weight;
@@ -435,7 +474,7 @@ fn run_file(
             path,
             format!(
                 "the state '{}' has no weight in the selected sectors",
-                args.state
+                job.state
             ),
         ));
     }
@@ -455,16 +494,22 @@ fn run_file(
     } else {
         None
     };
+    let parts: Vec<(f64, &QuenchReport)> = results.iter().map(|r| (r.weight, &r.report)).collect();
+    let overall = quench::overall(&parts, combined.as_ref()).map_err(|e| ctx(e, path, "/"))?;
     Ok(FileResult {
         file: path.display().to_string(),
-        observable: args.observable.clone(),
-        state: args.state.clone(),
+        observable: job.observable.to_string(),
+        state: job.state.to_string(),
         state_spec: spec.clone(),
         times: grid,
         options: opts.clone(),
         sectors: results,
         sectors_without_weight: without,
         combined,
+        size,
+        model,
+        dimension,
+        overall,
     })
 }
 
@@ -543,6 +588,11 @@ fn print_text(r: &FileResult) {
             opt(c.canonical)
         );
         print_trace(&c.trace);
+        let o = &r.overall;
+        println!(
+            "  whole state: D_eff = {:.2}, σ² = {:.4e}, σ²_ETH = {:.4e}, bound = {:.4e}",
+            o.d_eff, o.sigma2, o.sigma2_eth, o.bound
+        );
     }
     if !r.sectors_without_weight.is_empty() {
         println!("  no weight in: {}", r.sectors_without_weight.join(", "));

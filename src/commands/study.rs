@@ -43,6 +43,27 @@ pub struct Args {
     /// Merge the sectors of one size into one scaling row (default: fit each sector name apart).
     #[arg(long)]
     pub combine_sectors: bool,
+    /// Initial state of a quench (repeatable), as for `eigentherm quench`: stored:NAME | index:K | product:LETTERS | product:x+ (also x-, y±, z±); adds the section "Quench dynamics".
+    #[arg(long = "state", value_name = "SPEC")]
+    pub states: Vec<String>,
+    /// Time grid of the quenches: lin:T0:T1:N or log:T0:T1:N.
+    #[arg(long, value_name = "GRID", default_value = crate::analysis::quench::DEFAULT_TIMES)]
+    pub times: String,
+    /// Fraction of the norm the quench traces may drop (see `eigentherm quench`).
+    #[arg(long, value_name = "EPS", default_value_t = crate::analysis::quench::DEFAULT_DROP_WEIGHT)]
+    pub drop_weight: f64,
+}
+
+/// The quench of one initial state and one observable on every file (`results.json` key
+/// `quench`).
+#[derive(Debug, Clone, Serialize)]
+pub struct QuenchStudy {
+    /// The observable.
+    pub observable: String,
+    /// The state SPEC as given.
+    pub state: String,
+    /// One result per file (sectors combined through their embeddings).
+    pub runs: Vec<crate::commands::quench::FileResult>,
 }
 
 /// Everything a study computed (`results.json`).
@@ -54,6 +75,8 @@ pub struct StudyResults {
     pub sectors: Vec<SectorAnalysis>,
     /// Scaling rows, fits and verdicts.
     pub scaling: ScalingReport,
+    /// Quench dynamics, one entry per (observable, state) (empty without `--state`).
+    pub quench: Vec<QuenchStudy>,
 }
 
 /// What `study` wrote.
@@ -107,6 +130,14 @@ pub fn study(args: &Args) -> Result<StudyOutput> {
             ),
         ),
     ];
+    if !args.states.is_empty() {
+        params.push(("quench states".to_string(), args.states.join(", ")));
+        params.push(("quench times".to_string(), args.times.clone()));
+        params.push((
+            "quench drop weight".to_string(),
+            args.drop_weight.to_string(),
+        ));
+    }
     params.sort_by(|a, b| a.0.cmp(&b.0));
     let mut prov = Provenance::of_this_run(params);
     for f in &args.input.files {
@@ -114,6 +145,7 @@ pub fn study(args: &Args) -> Result<StudyOutput> {
     }
     let analyses = scal::analyse_all(&args.input, &args.select, &args.observables, &st)?;
     let scaling = scal::build(&analyses, args.combine_sectors)?;
+    let quench = quench_all(args, st.project)?;
 
     std::fs::create_dir_all(&args.out).map_err(|e| Error::io(&args.out, e))?;
     let mut files = Vec::new();
@@ -128,7 +160,13 @@ pub fn study(args: &Args) -> Result<StudyOutput> {
     put("scaling.md", table.to_markdown().as_bytes())?;
     put("scaling.tex", table.to_latex().as_bytes())?;
 
-    let figures = figures(&analyses, &scaling);
+    let mut figures = figures(&analyses, &scaling);
+    figures.extend(quench_figures(&quench));
+    let quench_tables = quench_tables(&quench)?;
+    for (name, t) in &quench_tables {
+        put(&format!("{name}.csv"), t.to_csv().as_bytes())?;
+        put(&format!("{name}.md"), t.to_markdown().as_bytes())?;
+    }
     for (name, fig, _) in &figures {
         if let Ok(svg) = fig.to_svg() {
             put(&format!("{name}.svg"), svg.as_bytes())?;
@@ -138,12 +176,16 @@ pub fn study(args: &Args) -> Result<StudyOutput> {
         provenance: prov.clone(),
         sectors: analyses,
         scaling,
+        quench,
     };
     let json = serde_json::to_string_pretty(&results)
         .map_err(|e| Error::other(format!("cannot serialise results: {e}")))?;
     put("results.json", json.as_bytes())?;
 
-    let html = html_report(&results, prov, &figures, &table);
+    let mut html = html_report(&results, prov, &figures, &table);
+    if let Some(sec) = quench_section(&results.quench, &figures, quench_tables) {
+        html.sections.push(sec);
+    }
     let report = args.out.join("report.html");
     html.write(&report)?;
     files.push(report.clone());
@@ -406,6 +448,251 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
         }
     }
     out
+}
+
+/// Runs the quench of every (observable, state) on every file (nothing without `--state`).
+fn quench_all(args: &Args, project: crate::project::ProjectOptions) -> Result<Vec<QuenchStudy>> {
+    use crate::analysis::quench::{state::StateSpec, QuenchOptions, TimeGrid};
+    use crate::commands::quench::{quench_file, Job};
+    if args.states.is_empty() {
+        return Ok(Vec::new());
+    }
+    let grid = TimeGrid::parse(&args.times)?;
+    if !(args.drop_weight.is_finite() && (0.0..1.0).contains(&args.drop_weight)) {
+        return Err(Error::usage(format!(
+            "--drop-weight {}: expected 0 <= EPS < 1",
+            args.drop_weight
+        )));
+    }
+    let specs = args
+        .states
+        .iter()
+        .map(|s| StateSpec::parse(s))
+        .collect::<Result<Vec<_>>>()?;
+    let opts = QuenchOptions {
+        drop_weight: args.drop_weight,
+        project,
+        ..QuenchOptions::default()
+    };
+    let overrides = args.input.paths.overrides()?;
+    let mut out = Vec::new();
+    for obs in &args.observables {
+        for (state, spec) in args.states.iter().zip(&specs) {
+            let job = Job {
+                observable: obs,
+                state,
+                spec,
+                sector: args.select.sector.as_deref(),
+                grid,
+                opts: &opts,
+            };
+            let runs = args
+                .input
+                .files
+                .iter()
+                .map(|f| quench_file(f, &overrides, &job))
+                .collect::<Result<Vec<_>>>()?;
+            out.push(QuenchStudy {
+                observable: obs.clone(),
+                state: state.clone(),
+                runs,
+            });
+        }
+    }
+    Ok(out)
+}
+
+/// Legend label of one quench run: `L = size` (or `D = dimension`) and the file stem.
+fn run_label(r: &crate::commands::quench::FileResult) -> String {
+    let stem = Path::new(&r.file)
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    match r.size {
+        Some(l) => format!("L = {l} ({stem})"),
+        None => format!("D = {} ({stem})", r.dimension),
+    }
+}
+
+/// Runs of one quench grouped by model family, each group sorted by size (then dimension).
+fn quench_families(q: &QuenchStudy) -> Vec<(String, Vec<&crate::commands::quench::FileResult>)> {
+    let mut fams: Vec<(String, Vec<&crate::commands::quench::FileResult>)> = Vec::new();
+    for r in &q.runs {
+        let key = r.model.clone().unwrap_or_default();
+        match fams.iter_mut().find(|(k, _)| *k == key) {
+            Some((_, v)) => v.push(r),
+            None => fams.push((key, vec![r])),
+        }
+    }
+    for (_, v) in &mut fams {
+        v.sort_by_key(|r| (r.size, r.dimension));
+    }
+    fams
+}
+
+/// Quench figures: per (observable, state, family) the trace ⟨A(t)⟩ of every size with the
+/// reference values of the largest, and σ² against D_eff across sizes with the bound.
+fn quench_figures(quench: &[QuenchStudy]) -> Vec<Named> {
+    let mut out: Vec<Named> = Vec::new();
+    for q in quench {
+        for (fam, runs) in quench_families(q) {
+            let Some(big) = runs.last() else { continue };
+            let stem = slug(&format!("{} {} {}", q.observable, q.state, fam));
+            let famtxt = if fam.is_empty() {
+                String::new()
+            } else {
+                format!(" ({fam})")
+            };
+            let o = &big.overall;
+            let mut fig = Figure::new("t (ħ / energy unit)", format!("⟨{}(t)⟩", q.observable))
+                .legend(Legend::UpperRight)
+                .reference(o.diagonal_ensemble, "diagonal ensemble");
+            if let Some(m) = o.microcanonical {
+                fig = fig.reference(m, "microcanonical");
+            }
+            if let Some(c) = o.canonical {
+                fig = fig.reference(c, "canonical");
+            }
+            for (k, r) in runs.iter().enumerate() {
+                fig = fig.series(
+                    Series::line(
+                        run_label(r),
+                        r.overall.trace.iter().map(|p| (p.t, p.value)).collect(),
+                    )
+                    .color(k),
+                );
+            }
+            out.push((
+                format!("quench_trace_{stem}"),
+                fig,
+                format!(
+                    "Quench of {}{famtxt} from the state {}: ⟨A(t)⟩ = Σₙₘ cₙ* cₘ Aₙₘ e^(i(Eₙ−Eₘ)t) for every size, with the diagonal-ensemble value Σₙ |cₙ|² Aₙₙ, the microcanonical value at E and the canonical value at β(E) of the largest size ({}) as horizontal lines.",
+                    q.observable,
+                    q.state,
+                    run_label(big)
+                ),
+            ));
+            let pts = |f: &dyn Fn(&crate::analysis::quench::Overall) -> f64| -> Vec<(f64, f64)> {
+                runs.iter()
+                    .map(|r| (r.overall.d_eff, f(&r.overall)))
+                    .filter(|p| p.0 > 0.0 && p.1 > 0.0)
+                    .collect()
+            };
+            let measured = pts(&|o| o.sigma2);
+            if measured.is_empty() {
+                continue;
+            }
+            let fig = Figure::new("D_eff = 1/Σₙ pₙ²", "σ² (infinite-time variance)")
+                .axes(Axis::Log, Axis::Log)
+                .legend(Legend::LowerLeft)
+                .series(
+                    Series::points("σ²", measured)
+                        .style(Style::LinePoints)
+                        .color(0),
+                )
+                .series(
+                    Series::points("σ²_ETH (envelope estimate)", pts(&|o| o.sigma2_eth)).color(1),
+                )
+                .series(
+                    Series::line("bound ((λmax−λmin)/2)²/D_eff", pts(&|o| o.bound))
+                        .style(Style::Dashed)
+                        .color(2),
+                );
+            out.push((
+                format!("quench_fluct_{stem}"),
+                fig,
+                format!(
+                    "Temporal fluctuations of {}{famtxt} after the quench from {}: σ² = Σ_(n≠m) pₙpₘ|Aₙₘ|² against the effective dimension D_eff across sizes, with the ETH estimate from the off-diagonal envelope and the bound σ² ≤ ((λmax−λmin)/2)²/D_eff (Reimann 2008; Short 2011; from memory). Fluctuations that fall as 1/D_eff signal relaxation.",
+                    q.observable, q.state
+                ),
+            ));
+        }
+    }
+    out
+}
+
+/// One table per state: (name, table) with a row per observable and file.
+fn quench_tables(quench: &[QuenchStudy]) -> Result<Vec<(String, crate::report::table::Table)>> {
+    use crate::report::table::{Cell, Column, Table};
+    let mut states: Vec<&str> = quench.iter().map(|q| q.state.as_str()).collect();
+    states.dedup();
+    let mut seen = Vec::new();
+    let mut out = Vec::new();
+    for state in states {
+        if seen.contains(&state) {
+            continue;
+        }
+        seen.push(state);
+        let mut t = Table::new(vec![
+            Column::new("observable", "observable"),
+            Column::new("model", "model"),
+            Column::new("size", "L"),
+            Column::new("dimension", "D"),
+            Column::new("energy", "E"),
+            Column::new("beta", "β(E)"),
+            Column::new("d_eff", "D_eff"),
+            Column::new("diagonal_ensemble", "diagonal ensemble"),
+            Column::new("canonical", "canonical"),
+            Column::new("microcanonical", "microcanonical"),
+            Column::new("sigma2", "σ²"),
+            Column::new("sigma2_eth", "σ²_ETH"),
+            Column::new("bound", "bound"),
+            Column::new("time_variance", "time variance"),
+        ])
+        .with_caption(format!(
+            "Quench from {state}: energy, inverse temperature, effective dimension, long-time predictions and fluctuations per observable and size (time variance over the second half of the time grid)."
+        ));
+        for q in quench.iter().filter(|q| q.state == state) {
+            for (fam, runs) in quench_families(q) {
+                for r in runs {
+                    let o = &r.overall;
+                    t.push_row(vec![
+                        Cell::from(q.observable.as_str()),
+                        Cell::from(fam.as_str()),
+                        Cell::from(r.size),
+                        Cell::from(r.dimension),
+                        Cell::from(o.energy),
+                        Cell::from(o.beta),
+                        Cell::from(o.d_eff),
+                        Cell::from(o.diagonal_ensemble),
+                        Cell::from(o.canonical),
+                        Cell::from(o.microcanonical),
+                        Cell::from(o.sigma2),
+                        Cell::from(o.sigma2_eth),
+                        Cell::from(o.bound),
+                        Cell::from(o.trace_statistics.map(|s| s.variance)),
+                    ])?;
+                }
+            }
+        }
+        out.push((format!("quench_{}", slug(state)), t));
+    }
+    Ok(out)
+}
+
+/// The report section "Quench dynamics" (none without quenches).
+fn quench_section(
+    quench: &[QuenchStudy],
+    figures: &[Named],
+    tables: Vec<(String, crate::report::table::Table)>,
+) -> Option<Section> {
+    if quench.is_empty() {
+        return None;
+    }
+    let mut sec = Section::new("Quench dynamics").text(
+        "Each initial state |ψ⟩ = Σₙ cₙ|n⟩ evolves as Σₙ cₙ e^(−iEₙt)|n⟩. A state given in the full \
+         computational basis is split over the sectors through their embeddings and the sector \
+         results are combined with their weights. If the observable thermalizes, ⟨A(t)⟩ relaxes to \
+         the diagonal-ensemble value, which agrees with the microcanonical and canonical values at \
+         the state's energy, and the temporal fluctuations σ² shrink as 1/D_eff with system size.",
+    );
+    for (_, t) in tables {
+        sec = sec.table(t);
+    }
+    for (_, f, c) in figures.iter().filter(|(n, _, _)| n.starts_with("quench_")) {
+        sec = sec.figure(f, c.clone());
+    }
+    Some(sec)
 }
 
 fn group_by(

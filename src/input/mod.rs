@@ -21,6 +21,7 @@
 //! | `observables/<name>` | `[n, n]`, attribute `basis = "energy"` | matrix elements `⟨E_j|A|E_k⟩` already in the eigenbasis, rows and columns in the order of `energies` in the file |
 //! | `hamiltonian` | `[dim]`, `[dim, dim]` or CSR group | optional; used to check residuals `‖H v_j − E_j v_j‖` |
 //! | `states/<name>` | `[dim]`, real or complex | optional initial states for quenches |
+//! | `embedding/` | CSR group `{data, indices, indptr}`, attribute `shape = [full_dim, dim]`, real | optional; columns are the sector basis vectors in the full computational basis (orthonormal), so that a full-space state `ψ` has the sector component `Pᵀψ` (quenches from product states) |
 //! | attribute `size` | any integer type, or a float with an integral value | number of sites (scaling tables) |
 //! | attribute `label` | string | legend label |
 //!
@@ -338,8 +339,16 @@ impl EigenFile {
     /// `embedding` of shape `[full_dim, dim]` whose columns are the sector basis vectors
     /// (files written by `generate`), so that a full-space state ψ has the sector component
     /// `c = Pᵀψ`. `Ok(None)` when the sector has no embedding.
-    pub fn embedding(&self, _sector: &Sector) -> Result<Option<crate::data::Csr<f64>>> {
-        Ok(None)
+    ///
+    /// Checked on reading: shape `[full_dim, dim]` against the sector's dimension, the
+    /// optional attribute `full_dim`, the CSR structure, real finite values, and
+    /// orthonormal columns (`PᵀP = 1`); any problem is a one-line error naming the group.
+    pub fn embedding(&self, sector: &Sector) -> Result<Option<crate::data::Csr<f64>>> {
+        let path = discover::join(&sector.group, "embedding");
+        if discover::kind(&self.h5, &path).is_none() {
+            return Ok(None);
+        }
+        operators::read_embedding(&self.path, &self.h5, &path, sector.dim).map(Some)
     }
     /// An initial state by name (`states/<name>`).
     pub fn state(&self, sector: &Sector, name: &str) -> Result<Vector> {

@@ -260,6 +260,188 @@ fn check_hermitian_csr<T: Scalar>(file: &Path, path: &str, a: &Csr<T>) -> Result
     Ok(())
 }
 
+/// Columns checked pairwise for orthonormality only while `Σ_rows nnz_row²` stays below
+/// this (each row adds its `nnz_row²` products to `PᵀP`); above it only the column norms
+/// are checked.
+const EMBEDDING_PAIR_LIMIT: usize = 50_000_000;
+
+/// Tolerance of the isometry check `max |(PᵀP)_ab − δ_ab| ≤ EMBEDDING_TOL`.
+pub const EMBEDDING_TOL: f64 = 1e-10;
+
+/// Reads the sector embedding: the CSR group at `path` (datasets `data`, `indices`,
+/// `indptr`, attribute `shape = [full_dim, dim]`) whose columns are the sector basis
+/// vectors in the full computational basis. Checks: a group (not a dataset), real
+/// `data`, `shape` with two entries whose second is `dim` (when known), the optional
+/// group attribute `full_dim` equal to `shape[0]`, the CSR structure, finite values,
+/// and that `P` is an isometry, `PᵀP = 1` (see [`EMBEDDING_TOL`], [`EMBEDDING_PAIR_LIMIT`]).
+pub fn read_embedding(
+    file: &Path,
+    f: &hdf5::File,
+    path: &str,
+    dim: Option<usize>,
+) -> Result<Csr<f64>> {
+    let g = f
+        .group(path)
+        .map_err(|_| {
+            Error::dataset(
+                file,
+                path,
+                "is not a group: an embedding is a CSR group {data, indices, indptr} with attribute shape = [full_dim, dim]",
+            )
+        })?;
+    for part in ["data", "indices", "indptr"] {
+        if super::discover::kind(f, &join(path, part)) != Some(hdf5::LocationType::Dataset) {
+            return Err(Error::dataset(
+                file,
+                join(path, part),
+                "missing dataset (an embedding is a CSR group with data, indices, indptr and attribute shape)",
+            ));
+        }
+    }
+    let shape = h5::attr_counts(file, path, &g, "shape")?.ok_or_else(|| {
+        Error::dataset(
+            file,
+            path,
+            "CSR group without attribute shape = [full_dim, dim]",
+        )
+    })?;
+    let [full_dim, ncols] = shape[..] else {
+        return Err(Error::dataset(
+            file,
+            path,
+            format!(
+                "attribute shape has {} entries, expected 2 ([full_dim, dim])",
+                shape.len()
+            ),
+        ));
+    };
+    if let Some(d) = dim {
+        if ncols != d {
+            return Err(Error::dataset(
+                file,
+                path,
+                format!("shape [{full_dim}, {ncols}] does not match the sector dimension {d} (expected [full_dim, {d}])"),
+            ));
+        }
+    }
+    if ncols > full_dim {
+        return Err(Error::dataset(
+            file,
+            path,
+            format!("shape [{full_dim}, {ncols}] has more columns than rows: an embedding maps a sector into a larger space"),
+        ));
+    }
+    if let Some(fd) = h5::attr_count(file, path, &g, "full_dim")? {
+        if fd != full_dim {
+            return Err(Error::dataset(
+                file,
+                path,
+                format!("attribute full_dim = {fd} differs from shape[0] = {full_dim}"),
+            ));
+        }
+    }
+    let dpath = join(path, "data");
+    let dds = open(file, f, &dpath)?;
+    let el = h5::element(file, &dpath, &dds)?;
+    if el.field() != Field::Real {
+        return Err(Error::dataset(
+            file,
+            &dpath,
+            format!("found {el}; an embedding must be real"),
+        ));
+    }
+    let data = h5::read_real(file, &dpath, &dds)?;
+    let ipath = join(path, "indices");
+    let indices = h5::read_indices(file, &ipath, &open(file, f, &ipath)?)?;
+    let ppath = join(path, "indptr");
+    let indptr = h5::read_indices(file, &ppath, &open(file, f, &ppath)?)?;
+    if indices.len() != data.len() {
+        return Err(Error::dataset(
+            file,
+            &ipath,
+            format!(
+                "holds {} entries but data holds {}",
+                indices.len(),
+                data.len()
+            ),
+        ));
+    }
+    if indptr.len() != full_dim + 1 {
+        return Err(Error::dataset(
+            file,
+            &ppath,
+            format!(
+                "holds {} entries, expected full_dim + 1 = {}",
+                indptr.len(),
+                full_dim + 1
+            ),
+        ));
+    }
+    let csr = Csr {
+        nrows: full_dim,
+        ncols,
+        indptr,
+        indices,
+        data,
+    };
+    check_csr(file, path, &csr)?;
+    check_isometry(file, path, &csr)?;
+    Ok(csr)
+}
+
+/// Checks `PᵀP = 1` for an embedding: all column norms, and all column overlaps when
+/// `Σ_rows nnz_row² ≤ EMBEDDING_PAIR_LIMIT`.
+fn check_isometry(file: &Path, path: &str, p: &Csr<f64>) -> Result<()> {
+    let mut norms = vec![0.0f64; p.ncols];
+    let mut pairs = 0usize;
+    for i in 0..p.nrows {
+        let r = p.indptr[i + 1] - p.indptr[i];
+        pairs = pairs.saturating_add(r.saturating_mul(r));
+        for k in p.indptr[i]..p.indptr[i + 1] {
+            norms[p.indices[k]] += p.data[k] * p.data[k];
+        }
+    }
+    if let Some((a, &x)) = norms
+        .iter()
+        .enumerate()
+        .find(|(_, &x)| (x - 1.0).abs() > EMBEDDING_TOL)
+    {
+        return Err(Error::dataset(
+            file,
+            path,
+            format!("column {a} has squared norm {x:.12}, not 1: the columns of an embedding must be orthonormal"),
+        ));
+    }
+    if pairs > EMBEDDING_PAIR_LIMIT {
+        return Ok(());
+    }
+    let mut overlaps: HashMap<(usize, usize), f64> = HashMap::new();
+    for i in 0..p.nrows {
+        let row = p.indptr[i]..p.indptr[i + 1];
+        for k in row.clone() {
+            for l in row.clone() {
+                let (a, b) = (p.indices[k], p.indices[l]);
+                if a < b {
+                    *overlaps.entry((a, b)).or_insert(0.0) += p.data[k] * p.data[l];
+                }
+            }
+        }
+    }
+    let worst = overlaps
+        .iter()
+        .map(|(&ab, &x)| (ab, x))
+        .filter(|(_, x)| x.abs() > EMBEDDING_TOL)
+        .min_by_key(|&(ab, _)| ab);
+    if let Some(((a, b), x)) = worst {
+        return Err(Error::dataset(
+            file,
+            path,
+            format!("columns {a} and {b} overlap by {x:.3e}: the columns of an embedding must be orthonormal"),
+        ));
+    }
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -5,15 +5,19 @@
 //!
 //! - coefficients `cₙ = ⟨n|ψ⟩ = vₙᴴ ψ` (blocks `V_Bᴴ ψ`);
 //! - diagonal elements `Aₙₙ = Re vₙᴴ (A vₙ)` for all states, in the same pass;
-//! - the matrix `A_KK = V_Kᴴ (A V_K)` over the kept states `K` (a second pass gathers `V_K`).
+//! - the matrix `A_KK = V_Kᴴ (A V_K)` over the kept states `K`, by the projector
+//!   [`crate::project`] ([`kept_matrix`]: a second pass gathers `V_K`, or the enclosing range
+//!   of states is projected when `V_K` would not fit the memory budget).
 //!
 //! `A vₙ` costs a row scaling for a diagonal operator, a sparse product for CSR, a dense
 //! product otherwise; an operator stored in the energy basis is sliced directly.
 
-use crate::data::{c64, ColumnSource, Csr, Matrix, OpData, Operator};
+use crate::data::{c64, ColumnSource, Csr, Field, Matrix, OpData, Operator};
 use crate::error::{Error, Result};
+use crate::project::{project_window, ProjectOptions};
 use faer::linalg::matmul::matmul;
 use faer::{Accum, Mat, MatRef, Par};
+use serde::Serialize;
 
 /// Bytes of eigenvector block read at once (64 MiB).
 const BLOCK_BYTES: usize = 64 << 20;
@@ -281,64 +285,109 @@ pub fn gather_columns(src: &dyn ColumnSource, kept: &[usize]) -> Result<Matrix> 
     })
 }
 
-/// `A_KK = V_Kᴴ (A V_K)`: the operator over the kept states (strictly ascending indices).
+/// How [`kept_matrix`] formed `A_KK`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum KeptPath {
+    /// Sliced from an operator stored in the energy basis.
+    EnergyBasis,
+    /// `V_K` gathered into memory, then projected as the window `0..|K|` of it.
+    Gathered,
+    /// The enclosing range `k_first..=k_last` projected from the source, then sliced.
+    Enclosing,
+}
+
+/// `A_KK[a, b] = ⟨k_a|A|k_b⟩ = v_{k_a}ᴴ A v_{k_b}`: the operator over the kept states `K`
+/// (strictly ascending indices), with the projector [`crate::project::project_window`].
 ///
-/// Private stand-in for the projector.
-// TODO: replace with crate::project once merged
-pub fn project_kept(src: &dyn ColumnSource, op: &Operator, kept: &[usize]) -> Result<Matrix> {
+/// The kept states are the largest weights `|cₙ|²`, not a contiguous range: for a state
+/// in the middle of the spectrum they are scattered over an enclosing range `W` that is
+/// often close to the whole spectrum, so projecting `W` would cost `dim·|W|²` operations
+/// and `|W|²` elements of memory for `|K|²` wanted. Instead the kept columns are gathered
+/// (one streamed pass) into an in-memory [`Matrix`] `V_K` (which is a [`ColumnSource`])
+/// and its window `0..|K|` is projected: `dim·|K|²` operations. That holds `V_K`
+/// (`dim·|K|` elements) in memory, so it is done when `V_K` takes at most half of the
+/// budget `opts.budget_bytes` (the projector gets the other half); otherwise the
+/// enclosing range is streamed under the whole budget and sliced, which stays within the
+/// budget as long as the `|W|²` result does (the projector reports an error otherwise).
+/// Operators stored in the energy basis are sliced directly.
+pub fn kept_matrix(
+    src: &dyn ColumnSource,
+    op: &Operator,
+    kept: &[usize],
+    opts: &ProjectOptions,
+) -> Result<(Matrix, KeptPath)> {
     check_op(op, src.dim(), src.n_states())?;
+    let n = src.n_states();
+    if kept.windows(2).any(|w| w[0] >= w[1]) || kept.last().is_some_and(|&k| k >= n) {
+        return Err(Error::other(
+            "kept states must be strictly ascending indices into the eigenbasis",
+        ));
+    }
     let k = kept.len();
     match op {
         Operator::Real(OpData::EnergyBasis(m)) => {
-            return Ok(Matrix::Real(Mat::from_fn(k, k, |a, b| {
-                m[(kept[a], kept[b])]
-            })))
+            return Ok((
+                Matrix::Real(Mat::from_fn(k, k, |a, b| m[(kept[a], kept[b])])),
+                KeptPath::EnergyBasis,
+            ))
         }
         Operator::Complex(OpData::EnergyBasis(m)) => {
-            return Ok(Matrix::Complex(Mat::from_fn(k, k, |a, b| {
-                m[(kept[a], kept[b])]
-            })))
+            return Ok((
+                Matrix::Complex(Mat::from_fn(k, k, |a, b| m[(kept[a], kept[b])])),
+                KeptPath::EnergyBasis,
+            ))
         }
         _ => {}
     }
-    let vk = gather_columns(src, kept)?;
-    match (op, &vk) {
-        (Operator::Real(d), Matrix::Real(v)) => {
-            let av = apply(d, v.as_ref())?;
-            let mut out = Mat::<f64>::zeros(k, k);
-            matmul(
-                out.as_mut(),
-                Accum::Replace,
-                v.transpose(),
-                av.as_ref(),
-                1.0,
-                Par::rayon(0),
-            );
-            Ok(Matrix::Real(out))
+    let (Some(&first), Some(&last)) = (kept.first(), kept.last()) else {
+        let empty = match crate::project::result_field(src, &[op]) {
+            Field::Real => Matrix::Real(Mat::zeros(0, 0)),
+            Field::Complex => Matrix::Complex(Mat::zeros(0, 0)),
+        };
+        return Ok((empty, KeptPath::Gathered));
+    };
+    let elem = match src.field() {
+        Field::Real => 8.0,
+        Field::Complex => 16.0,
+    };
+    let gathered_bytes = elem * src.dim() as f64 * k as f64;
+    let one = |mut v: Vec<Matrix>| {
+        v.pop()
+            .ok_or_else(|| Error::other("internal: the projector returned no matrix"))
+    };
+    if last + 1 - first == k || gathered_bytes <= 0.5 * opts.budget_bytes as f64 {
+        // A contiguous K is its own window; otherwise gather V_K.
+        if last + 1 - first == k {
+            let m = one(project_window(src, &[op], first..last + 1, opts)?)?;
+            return Ok((m, KeptPath::Enclosing));
         }
-        _ => {
-            let v = vk.to_complex();
-            let av = match op {
-                Operator::Real(d) => apply(&promote(d), v.as_ref())?,
-                Operator::Complex(d) => apply(d, v.as_ref())?,
-            };
-            let mut out = Mat::<c64>::zeros(k, k);
-            matmul(
-                out.as_mut(),
-                Accum::Replace,
-                v.adjoint(),
-                av.as_ref(),
-                c64::new(1.0, 0.0),
-                Par::rayon(0),
-            );
-            Ok(Matrix::Complex(out))
-        }
+        let vk = gather_columns(src, kept)?;
+        let half = ProjectOptions {
+            budget_bytes: opts.budget_bytes / 2,
+            ..*opts
+        };
+        let m = one(project_window(&vk, &[op], 0..k, &half)?)?;
+        return Ok((m, KeptPath::Gathered));
     }
+    let w = one(project_window(src, &[op], first..last + 1, opts)?)?;
+    let pick = |a: usize| kept[a] - first;
+    let m = match &w {
+        Matrix::Real(x) => Matrix::Real(Mat::from_fn(k, k, |a, b| x[(pick(a), pick(b))])),
+        Matrix::Complex(x) => Matrix::Complex(Mat::from_fn(k, k, |a, b| x[(pick(a), pick(b))])),
+    };
+    Ok((m, KeptPath::Enclosing))
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Brute-force reference `V_Kᴴ A V_K` with dense matrices (test only).
+    fn reference(v: &Mat<c64>, a: &Mat<c64>, kept: &[usize]) -> Mat<c64> {
+        let vk = Mat::from_fn(v.nrows(), kept.len(), |i, j| v[(i, kept[j])]);
+        vk.adjoint() * a * &vk
+    }
 
     #[test]
     fn four_forms_agree() {
@@ -368,7 +417,7 @@ mod tests {
             Operator::Real(OpData::EnergyBasis(energy.clone())),
         ];
         for op in &forms {
-            let a = project_kept(&src, op, &kept).unwrap();
+            let (a, _) = kept_matrix(&src, op, &kept, &ProjectOptions::default()).unwrap();
             for (x, &kx) in kept.iter().enumerate() {
                 for (y, &ky) in kept.iter().enumerate() {
                     assert!((a.get_c(x, y).re - energy[(kx, ky)]).abs() < 1e-12);
@@ -383,8 +432,56 @@ mod tests {
         }
         // complex eigenvectors with a real operator take the promoted path
         let srcc = Matrix::Complex(Matrix::Real(v).to_complex());
-        let a = project_kept(&srcc, &forms[2], &kept).unwrap();
+        let (a, _) = kept_matrix(&srcc, &forms[2], &kept, &ProjectOptions::default()).unwrap();
         assert!((a.get_c(1, 2).re - energy[(4, 5)]).abs() < 1e-12);
+    }
+
+    #[test]
+    fn projector_paths_agree_with_a_dense_reference() {
+        // A_KK from crate::project (gathered V_K, enclosing range, contiguous K, energy
+        // basis) equals the dense product V_Kᴴ A V_K (exact identity, linear algebra; this
+        // test first compared with the earlier in-module stand-in, which it replaced)
+        let mut rng = crate::model::rmt::rng(5);
+        let h = crate::model::rmt::gue(20, &mut rng);
+        let (_, v) = crate::linalg::eigh_complex(h.as_ref()).unwrap();
+        let a = crate::model::rmt::goe(20, &mut rng);
+        let dense = Operator::Real(OpData::Dense(a.clone()));
+        let cd = crate::model::rmt::gue(20, &mut rng);
+        let cdense = Operator::Complex(OpData::Dense(cd.clone()));
+        let ad = Mat::from_fn(20, 20, |i, j| c64::new(a[(i, j)], 0.0));
+        let src = Matrix::Complex(v.clone());
+        let big = ProjectOptions::with_budget(1 << 30);
+        // 20 × 3 complex columns = 960 bytes: a 1000-byte budget forces the enclosing range
+        let small = ProjectOptions {
+            budget_bytes: 1000,
+            block: Some(4),
+        };
+        for (op, full) in [(&dense, &ad), (&cdense, &cd)] {
+            for (kept, opts, path) in [
+                (vec![0, 3, 4, 9, 17], &big, KeptPath::Gathered),
+                (vec![2, 9, 13], &small, KeptPath::Enclosing),
+                (vec![5, 6, 7, 8], &big, KeptPath::Enclosing),
+            ] {
+                let want = reference(&v, full, &kept);
+                let (got, how) = kept_matrix(&src, op, &kept, opts).unwrap();
+                assert_eq!(how, path);
+                assert_eq!((got.nrows(), got.ncols()), (kept.len(), kept.len()));
+                for x in 0..kept.len() {
+                    for y in 0..kept.len() {
+                        assert!((got.get_c(x, y) - want[(x, y)]).norm() < 1e-12);
+                    }
+                }
+            }
+        }
+        let energy = Operator::Complex(OpData::EnergyBasis(
+            project_window(&src, &[&cdense], 0..20, &big).unwrap()[0].to_complex(),
+        ));
+        let (e, how) = kept_matrix(&src, &energy, &[1, 7], &big).unwrap();
+        assert_eq!(how, KeptPath::EnergyBasis);
+        let want = reference(&v, &cd, &[1, 7]);
+        assert!((e.get_c(0, 1) - want[(0, 1)]).norm() < 1e-12);
+        assert!(kept_matrix(&src, &dense, &[3, 2], &big).is_err());
+        assert_eq!(kept_matrix(&src, &dense, &[], &big).unwrap().0.nrows(), 0);
     }
 
     #[test]
@@ -392,7 +489,7 @@ mod tests {
         // clear error instead of a panic (common practice, no source)
         let src = Matrix::Real(Mat::identity(4, 4));
         let op = Operator::Real(OpData::Diagonal(vec![1.0; 5]));
-        assert!(project_kept(&src, &op, &[0, 1]).is_err());
+        assert!(kept_matrix(&src, &op, &[0, 1], &ProjectOptions::default()).is_err());
         assert!(coefficients_and_diagonal(&src, &[c64::new(1.0, 0.0); 3], None).is_err());
     }
 }

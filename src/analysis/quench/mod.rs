@@ -86,6 +86,10 @@ pub struct QuenchOptions {
     pub degeneracy_tol: Option<f64>,
     /// The dropped fraction of the norm used to choose the kept states (reported only).
     pub drop_weight: f64,
+    /// Memory budget and block size of the projector that forms `A_KK`
+    /// ([`basis::kept_matrix`]); not part of the results.
+    #[serde(skip)]
+    pub project: crate::project::ProjectOptions,
 }
 
 impl Default for QuenchOptions {
@@ -95,6 +99,7 @@ impl Default for QuenchOptions {
             envelope: None,
             degeneracy_tol: None,
             drop_weight: DEFAULT_DROP_WEIGHT,
+            project: crate::project::ProjectOptions::default(),
         }
     }
 }
@@ -735,7 +740,8 @@ pub struct SectorQuench {
 
 /// The whole pipeline for one sector: `cₙ = vₙᴴψ` and `Aₙₙ` in one streamed pass
 /// ([`basis::coefficients_and_diagonal`]), the kept states ([`kept_states`] with
-/// `opts.drop_weight`), `A_KK` ([`basis::project_kept`]), then [`analyze`].
+/// `opts.drop_weight`), `A_KK` ([`basis::kept_matrix`], the projector under `opts.project`),
+/// then [`analyze`].
 /// `energies` are the ascending energies of the `src.n_states()` eigenvectors and `psi` is the
 /// state in the sector's computational basis.
 pub fn quench_sector(
@@ -757,7 +763,7 @@ pub fn quench_sector(
     let diag_all = diag.ok_or_else(|| Error::other("internal: no diagonal elements"))?;
     let weights: Vec<f64> = coeffs.iter().map(|c| c.norm_sqr()).collect();
     let kept = kept_states(&weights, opts.drop_weight);
-    let a_kk = basis::project_kept(src, op, &kept.indices)?;
+    let (a_kk, _) = basis::kept_matrix(src, op, &kept.indices, &opts.project)?;
     let report = analyze(
         energies,
         &diag_all,
@@ -869,6 +875,106 @@ pub fn combine(parts: &[SectorPart<'_>], opts: &QuenchOptions) -> Result<Combine
             },
         ),
         canonical: beta.map(|b| thermo::canonical_average(&energies, &diag, b)),
+        trace,
+    })
+}
+
+/// Whole-state figures of a quench whose state may be spread over several sectors, for
+/// tables and size scaling. With the normalised sector weights `w̃_s = w_s / Σ_s w_s` and
+/// an observable that is block diagonal in the sectors (so that `Aₙₘ = 0` between sectors):
+///
+/// - `D_eff = 1 / Σ_s w̃_s² / D_eff,s` (the participation of `pₙ = w̃_s pₙ^(s)`);
+/// - `σ² = Σ_s w̃_s² σ²_s` and `σ²_ETH = Σ_s w̃_s² σ²_ETH,s` (pairs in different sectors do
+///   not contribute);
+/// - `bound = max_s h_s² / D_eff` with `h_s = (λ_max − λ_min)/2` of the sector's `A_KK`,
+///   since `σ² ≤ Σ_s w̃_s² h_s²/D_eff,s ≤ max_s h_s² Σ_s w̃_s²/D_eff,s`;
+/// - energy, `β`, the diagonal-ensemble, microcanonical and canonical values, and the trace
+///   of the [`Combined`] result (of the single sector when there is one), and the time
+///   statistics of that trace over the second half of the time range.
+#[derive(Debug, Clone, Serialize)]
+pub struct Overall {
+    /// Energy `E`.
+    pub energy: f64,
+    /// `β(E)`.
+    pub beta: Option<f64>,
+    /// Effective dimension of the whole state.
+    pub d_eff: f64,
+    /// Diagonal-ensemble value.
+    pub diagonal_ensemble: f64,
+    /// Microcanonical value at `E`.
+    pub microcanonical: Option<f64>,
+    /// Canonical value at `β(E)`.
+    pub canonical: Option<f64>,
+    /// Infinite-time variance `σ²`.
+    pub sigma2: f64,
+    /// ETH estimate `σ²_ETH`.
+    pub sigma2_eth: f64,
+    /// The bound `max_s h_s² / D_eff` on `σ²`.
+    pub bound: f64,
+    /// Time statistics of the whole trace over the second half of the time range.
+    pub trace_statistics: Option<TraceStatistics>,
+    /// The whole trace `⟨A(t)⟩`.
+    #[serde(skip)]
+    pub trace: Vec<TracePoint>,
+}
+
+/// The [`Overall`] figures from the sector reports `(w_s, report_s)` and, for several
+/// sectors, their [`combine`]d result.
+pub fn overall(parts: &[(f64, &QuenchReport)], combined: Option<&Combined>) -> Result<Overall> {
+    let total: f64 = parts.iter().map(|p| p.0).sum();
+    if parts.is_empty() || total <= 0.0 || !total.is_finite() {
+        return Err(Error::other(
+            "quench: the state has no weight in any sector",
+        ));
+    }
+    let w = |x: f64| x / total;
+    let inv_d: f64 = parts.iter().map(|(x, r)| w(*x).powi(2) / r.d_eff).sum();
+    let d_eff = 1.0 / inv_d;
+    let sigma2 = parts.iter().map(|(x, r)| w(*x).powi(2) * r.sigma2).sum();
+    let sigma2_eth = parts
+        .iter()
+        .map(|(x, r)| w(*x).powi(2) * r.sigma2_eth)
+        .sum();
+    let h2 = parts
+        .iter()
+        .map(|(_, r)| r.bound.half_spread.powi(2))
+        .fold(0.0, f64::max);
+    let (energy, beta, de, micro, can, trace) = match (combined, parts) {
+        (Some(c), _) => (
+            c.energy,
+            c.beta,
+            c.diagonal_ensemble,
+            c.microcanonical.map(|m| m.value),
+            c.canonical,
+            c.trace.clone(),
+        ),
+        (None, [(_, r)]) => (
+            r.energy,
+            r.beta,
+            r.diagonal_ensemble,
+            r.microcanonical.map(|m| m.value),
+            r.canonical,
+            r.trace.clone(),
+        ),
+        (None, _) => {
+            return Err(Error::other(
+                "internal: several sectors need their combined result",
+            ))
+        }
+    };
+    let times: Vec<f64> = trace.iter().map(|p| p.t).collect();
+    let values: Vec<f64> = trace.iter().map(|p| p.value).collect();
+    Ok(Overall {
+        energy,
+        beta,
+        d_eff,
+        diagonal_ensemble: de,
+        microcanonical: micro,
+        canonical: can,
+        sigma2,
+        sigma2_eth,
+        bound: h2 / d_eff,
+        trace_statistics: trace_statistics(&times, &values, de),
         trace,
     })
 }
