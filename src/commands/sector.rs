@@ -190,7 +190,7 @@ pub fn analyse_sector(
         let (_, e_var) = block_bootstrap(&diffs, half_mean_square, block, RESAMPLES, DEFAULT_SEED);
         // Vanishing by symmetry: every |Aₙₙ| is at rounding level compared with the typical
         // off-diagonal element (or with 1 when there is none).
-        let diag_max = d.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        let diag_max = window_values.iter().fold(0.0f64, |m, x| m.max(x.abs()));
         let off_scale = offdiagonal
             .as_ref()
             .map_or(0.0, |o| o.low_omega_variance.max(0.0).sqrt());
