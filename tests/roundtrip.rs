@@ -9,7 +9,10 @@ fn generate_then_inspect_verify() {
     let bin = env!("CARGO_BIN_EXE_eigentherm");
     for (model, extra) in [
         ("xxz", vec!["--sites", "8", "--j2", "0.3"]),
-        ("mixed-field-ising", vec!["--sites", "9", "--boundary", "periodic"]),
+        (
+            "mixed-field-ising",
+            vec!["--sites", "9", "--boundary", "periodic"],
+        ),
         ("gue", vec!["--dim", "200", "--seed", "3"]),
     ] {
         let path = dir.path().join(format!("{model}.h5"));
@@ -19,13 +22,21 @@ fn generate_then_inspect_verify() {
             .args(&extra)
             .output()
             .unwrap();
-        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
         let out = Command::new(bin)
             .args(["inspect", "--verify", "--json"])
             .arg(&path)
             .output()
             .unwrap();
-        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
         let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
         let sectors = json["files"][0]["sectors"].as_array().unwrap();
         assert!(!sectors.is_empty());

@@ -21,12 +21,11 @@ fn demo_verdicts_and_tables() {
             paths: PathArgs::default(),
         },
         select: SelectArgs::default(),
-        observables: vec!["sz_site".into(), "sx_site".into()],
+        pipeline: eigentherm::commands::scaling::PipelineArgs {
+            observables: vec!["sz_site".into(), "sx_site".into()],
+            ..Default::default()
+        },
         out: out.clone(),
-        levels_window: None,
-        omega_max: None,
-        memory: None,
-        combine_sectors: false,
         states: Vec::new(),
         times: eigentherm::analysis::quench::DEFAULT_TIMES.to_string(),
         drop_weight: eigentherm::analysis::quench::DEFAULT_DROP_WEIGHT,

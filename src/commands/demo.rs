@@ -132,12 +132,11 @@ pub fn run(args: &Args) -> Result<()> {
             paths: PathArgs::default(),
         },
         select: SelectArgs::default(),
-        observables: DEMO_OBSERVABLES.iter().map(|s| s.to_string()).collect(),
+        pipeline: crate::commands::scaling::PipelineArgs {
+            observables: DEMO_OBSERVABLES.iter().map(|s| s.to_string()).collect(),
+            ..Default::default()
+        },
         out: out.clone(),
-        levels_window: None,
-        omega_max: None,
-        memory: None,
-        combine_sectors: false,
         states: vec![DEMO_STATE.to_string()],
         times: DEMO_TIMES.to_string(),
         drop_weight: crate::analysis::quench::DEFAULT_DROP_WEIGHT,

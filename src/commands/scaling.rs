@@ -30,6 +30,14 @@ pub struct Args {
     /// Sector, window (default 0.4:0.6 for matrix elements) and output format.
     #[command(flatten)]
     pub select: SelectArgs,
+    /// Observables and pipeline settings.
+    #[command(flatten)]
+    pub pipeline: PipelineArgs,
+}
+
+/// Observables and settings of the per-sector pipeline (shared by `scaling` and `study`).
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct PipelineArgs {
     /// Observable to analyse (repeatable, at least one).
     #[arg(long = "observable", value_name = "NAME", required = true)]
     pub observables: Vec<String>,
@@ -521,12 +529,12 @@ pub fn render_text(report: &Report) -> String {
 pub fn run(args: &Args) -> Result<()> {
     let st = settings(
         &args.select,
-        args.levels_window.as_deref(),
-        args.omega_max,
-        args.memory.as_deref(),
+        args.pipeline.levels_window.as_deref(),
+        args.pipeline.omega_max,
+        args.pipeline.memory.as_deref(),
     )?;
-    let analyses = analyse_all(&args.input, &args.select, &args.observables, &st)?;
-    let report = build(&analyses, args.combine_sectors)?;
+    let analyses = analyse_all(&args.input, &args.select, &args.pipeline.observables, &st)?;
+    let report = build(&analyses, args.pipeline.combine_sectors)?;
     if args.select.json {
         crate::report::json::print(&report)
     } else {

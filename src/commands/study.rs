@@ -25,24 +25,12 @@ pub struct Args {
     /// Sector and window (default 0.4:0.6 for matrix elements); `--json` prints results.json to stdout too.
     #[command(flatten)]
     pub select: SelectArgs,
-    /// Observable to analyse (repeatable, at least one).
-    #[arg(long = "observable", value_name = "NAME", required = true)]
-    pub observables: Vec<String>,
+    /// Observables and pipeline settings.
+    #[command(flatten)]
+    pub pipeline: scal::PipelineArgs,
     /// Output folder (created when missing).
     #[arg(long, value_name = "DIR")]
     pub out: PathBuf,
-    /// Window of the level statistics (default 0.25:0.75).
-    #[arg(long, value_name = "LO:HI")]
-    pub levels_window: Option<String>,
-    /// Frequency cut of the low-ω statistics (default: 10 mean level spacings of the window).
-    #[arg(long, value_name = "W")]
-    pub omega_max: Option<f64>,
-    /// Working-memory budget of the projector, e.g. 6G or 512M (default: half the machine's memory).
-    #[arg(long, value_name = "SIZE")]
-    pub memory: Option<String>,
-    /// Merge the sectors of one size into one scaling row (default: fit each sector name apart).
-    #[arg(long)]
-    pub combine_sectors: bool,
     /// Initial state of a quench (repeatable), as for `eigentherm quench`: stored:NAME | index:K | product:LETTERS | product:x+ (also x-, y±, z±); adds the section "Quench dynamics".
     #[arg(long = "state", value_name = "SPEC")]
     pub states: Vec<String>,
@@ -94,17 +82,20 @@ pub struct StudyOutput {
 pub fn study(args: &Args) -> Result<StudyOutput> {
     let st = scal::settings(
         &args.select,
-        args.levels_window.as_deref(),
-        args.omega_max,
-        args.memory.as_deref(),
+        args.pipeline.levels_window.as_deref(),
+        args.pipeline.omega_max,
+        args.pipeline.memory.as_deref(),
     )?;
     let mut params = vec![
-        ("observables".to_string(), args.observables.join(", ")),
+        (
+            "observables".to_string(),
+            args.pipeline.observables.join(", "),
+        ),
         ("matrix-element window".to_string(), st.window.label()),
         ("levels window".to_string(), st.levels_window.label()),
         (
             "omega_max".to_string(),
-            args.omega_max.map_or(
+            args.pipeline.omega_max.map_or(
                 "default: 10 mean level spacings of the window".to_string(),
                 |w| w.to_string(),
             ),
@@ -119,7 +110,7 @@ pub fn study(args: &Args) -> Result<StudyOutput> {
         ),
         (
             "combine sectors".to_string(),
-            args.combine_sectors.to_string(),
+            args.pipeline.combine_sectors.to_string(),
         ),
         (
             "bootstrap".to_string(),
@@ -143,8 +134,8 @@ pub fn study(args: &Args) -> Result<StudyOutput> {
     for f in &args.input.files {
         prov.add_input(f)?;
     }
-    let analyses = scal::analyse_all(&args.input, &args.select, &args.observables, &st)?;
-    let scaling = scal::build(&analyses, args.combine_sectors)?;
+    let analyses = scal::analyse_all(&args.input, &args.select, &args.pipeline.observables, &st)?;
+    let scaling = scal::build(&analyses, args.pipeline.combine_sectors)?;
     let quench = quench_all(args, st.project)?;
 
     std::fs::create_dir_all(&args.out).map_err(|e| Error::io(&args.out, e))?;
@@ -476,7 +467,7 @@ fn quench_all(args: &Args, project: crate::project::ProjectOptions) -> Result<Ve
     };
     let overrides = args.input.paths.overrides()?;
     let mut out = Vec::new();
-    for obs in &args.observables {
+    for obs in &args.pipeline.observables {
         for (state, spec) in args.states.iter().zip(&specs) {
             let job = Job {
                 observable: obs,
