@@ -90,6 +90,11 @@ pub struct QuenchOptions {
     /// ([`basis::kept_matrix`]); not part of the results.
     #[serde(skip)]
     pub project: crate::project::ProjectOptions,
+    /// An interval `[lo, hi]` known to hold the spectrum of the operator (e.g. its Gershgorin
+    /// interval, [`operator_range`]); by Cauchy interlacing it also holds the spectrum of
+    /// `A_KK`, and it tightens the bound when `|K|` is too large for exact eigenvalues.
+    #[serde(skip)]
+    pub operator_range: Option<(f64, f64)>,
 }
 
 impl Default for QuenchOptions {
@@ -100,6 +105,7 @@ impl Default for QuenchOptions {
             degeneracy_tol: None,
             drop_weight: DEFAULT_DROP_WEIGHT,
             project: crate::project::ProjectOptions::default(),
+            operator_range: None,
         }
     }
 }
@@ -316,8 +322,10 @@ pub struct Microcanonical {
 /// The check of `σ² ≤ ‖A − c‖² / D_eff`.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct BoundCheck {
-    /// How `‖A_KK‖` was obtained: `"eigenvalues"` (exact, `|K| ≤ 4096`) or
-    /// `"row_sum"` (largest absolute row sum, an upper bound, for larger `|K|`).
+    /// How `‖A_KK‖` was obtained: `"eigenvalues"` (exact, `|K| ≤ 4096`), or for larger `|K|`
+    /// an upper bound: `"operator_range"` (the operator's Gershgorin interval, which holds the
+    /// spectrum of `A_KK` by Cauchy interlacing) or `"row_sum"` (largest absolute row sum),
+    /// whichever is tighter.
     pub method: String,
     /// `‖A_KK‖` (largest |eigenvalue|, or the row-sum bound).
     pub norm: f64,
@@ -550,7 +558,7 @@ pub fn analyze(
         }
     }
 
-    let bound = bound_check(a_kk, d_eff, sigma2)?;
+    let bound = bound_check(a_kk, d_eff, sigma2, opts.operator_range)?;
     let dropped = (1.0 - weight_kept).max(0.0);
     let trace_error_bound = bound.norm * (2.0 * dropped.sqrt() + dropped);
 
@@ -694,8 +702,78 @@ fn trace_statistics(times: &[f64], values: &[f64], a_de: f64) -> Option<TraceSta
     })
 }
 
-/// The bound check `σ² ≤ ((λ_max − λ_min)/2)² / D_eff` over `A_KK`.
-fn bound_check(a_kk: &Matrix, d_eff: f64, sigma2: f64) -> Result<BoundCheck> {
+/// Gershgorin interval of a Hermitian operator in its stored basis:
+/// `[minᵢ(aᵢᵢ − Rᵢ), maxᵢ(aᵢᵢ + Rᵢ)]` with `Rᵢ = Σ_{j≠i} |aᵢⱼ|` (exact for a diagonal
+/// operator). It holds every eigenvalue of the operator (Gershgorin circle theorem; Horn &
+/// Johnson, *Matrix Analysis*), hence of any compression `V_Kᴴ A V_K` (Cauchy interlacing).
+pub fn operator_range(op: &crate::data::Operator) -> Option<(f64, f64)> {
+    use crate::data::{OpData, Operator};
+    fn gersh(n: usize, row: impl Fn(usize) -> (f64, f64)) -> Option<(f64, f64)> {
+        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        for i in 0..n {
+            let (d, r) = row(i);
+            lo = lo.min(d - r);
+            hi = hi.max(d + r);
+        }
+        (n > 0).then_some((lo, hi))
+    }
+    fn csr_row<T: Copy>(
+        c: &crate::data::Csr<T>,
+        i: usize,
+        re: impl Fn(T) -> f64,
+        abs: impl Fn(T) -> f64,
+    ) -> (f64, f64) {
+        let (mut d, mut r) = (0.0, 0.0);
+        for k in c.indptr[i]..c.indptr[i + 1] {
+            if c.indices[k] == i {
+                d += re(c.data[k]);
+            } else {
+                r += abs(c.data[k]);
+            }
+        }
+        (d, r)
+    }
+    match op {
+        Operator::Real(OpData::Diagonal(v)) => gersh(v.len(), |i| (v[i], 0.0)),
+        Operator::Complex(OpData::Diagonal(v)) => gersh(v.len(), |i| (v[i].re, 0.0)),
+        Operator::Real(OpData::Csr(c)) => gersh(c.nrows, |i| csr_row(c, i, |x| x, f64::abs)),
+        Operator::Complex(OpData::Csr(c)) => {
+            gersh(c.nrows, |i| csr_row(c, i, |x| x.re, |x| x.norm()))
+        }
+        Operator::Real(OpData::Dense(m)) | Operator::Real(OpData::EnergyBasis(m)) => {
+            gersh(m.nrows(), |i| {
+                (
+                    m[(i, i)],
+                    (0..m.ncols())
+                        .filter(|&j| j != i)
+                        .map(|j| m[(i, j)].abs())
+                        .sum(),
+                )
+            })
+        }
+        Operator::Complex(OpData::Dense(m)) | Operator::Complex(OpData::EnergyBasis(m)) => {
+            gersh(m.nrows(), |i| {
+                (
+                    m[(i, i)].re,
+                    (0..m.ncols())
+                        .filter(|&j| j != i)
+                        .map(|j| m[(i, j)].norm())
+                        .sum(),
+                )
+            })
+        }
+    }
+}
+
+/// The bound check `σ² ≤ ((λ_max − λ_min)/2)² / D_eff` over `A_KK`; above
+/// [`BOUND_EIGEN_MAX`] kept states the spread is bounded by the tighter of `A_KK`'s largest
+/// absolute row sum and the operator's known range `range` (Cauchy interlacing).
+fn bound_check(
+    a_kk: &Matrix,
+    d_eff: f64,
+    sigma2: f64,
+    range: Option<(f64, f64)>,
+) -> Result<BoundCheck> {
     let k = a_kk.nrows();
     let (method, norm, half_spread) = if k == 0 {
         ("eigenvalues", 0.0, 0.0)
@@ -713,7 +791,14 @@ fn bound_check(a_kk: &Matrix, d_eff: f64, sigma2: f64) -> Result<BoundCheck> {
             let s: f64 = (0..k).map(|j| a_kk.get_c(i, j).norm()).sum();
             r = r.max(s);
         }
-        ("row_sum", r, r)
+        match range {
+            Some((lo, hi)) if 0.5 * (hi - lo) < r => (
+                "operator_range",
+                lo.abs().max(hi.abs()).min(r),
+                0.5 * (hi - lo),
+            ),
+            _ => ("row_sum", r, r),
+        }
     };
     let bound_norm = norm * norm / d_eff;
     let bound = half_spread * half_spread / d_eff;
@@ -764,6 +849,10 @@ pub fn quench_sector(
     let weights: Vec<f64> = coeffs.iter().map(|c| c.norm_sqr()).collect();
     let kept = kept_states(&weights, opts.drop_weight);
     let (a_kk, _) = basis::kept_matrix(src, op, &kept.indices, &opts.project)?;
+    let mut opts = opts.clone();
+    if opts.operator_range.is_none() {
+        opts.operator_range = operator_range(op);
+    }
     let report = analyze(
         energies,
         &diag_all,
@@ -771,7 +860,7 @@ pub fn quench_sector(
         &a_kk,
         &kept.indices,
         times,
-        opts,
+        &opts,
     )?;
     Ok(SectorQuench { report, diag_all })
 }
