@@ -25,15 +25,30 @@ pub struct Args {
     #[arg(long, value_name = "DIR", default_value = "demo-out")]
     pub out: PathBuf,
     /// Chain lengths to build (comma-separated).
-    #[arg(long, value_name = "L,L,...", value_delimiter = ',', default_value = "8,10,12")]
+    #[arg(
+        long,
+        value_name = "L,L,...",
+        value_delimiter = ',',
+        default_value = "8,10,12"
+    )]
     pub sizes: Vec<usize>,
 }
 
 /// The demo's chain models: (file stem, model).
 pub fn scenario_models() -> Vec<(&'static str, ChainModel)> {
     vec![
-        ("tilted", ChainModel::MixedFieldIsing { j: 1.0, g: 0.9045, h: 0.8090 }),
-        ("transverse", ChainModel::TransverseFieldIsing { j: 1.0, g: 0.9045 }),
+        (
+            "tilted",
+            ChainModel::MixedFieldIsing {
+                j: 1.0,
+                g: 0.9045,
+                h: 0.8090,
+            },
+        ),
+        (
+            "transverse",
+            ChainModel::TransverseFieldIsing { j: 1.0, g: 0.9045 },
+        ),
     ]
 }
 
@@ -47,12 +62,26 @@ pub fn build_files(args: &Args) -> Result<Vec<PathBuf>> {
     for (stem, model) in scenario_models() {
         for &l in &args.sizes {
             let t = Instant::now();
-            let spec = ChainSpec { model, sites: l, boundary: Boundary::Open, reflection: Reflection::Resolve, site: None };
+            let spec = ChainSpec {
+                model,
+                sites: l,
+                boundary: Boundary::Open,
+                reflection: Reflection::Resolve,
+                site: None,
+            };
             let sectors = build_chain(&spec)?;
             let path = args.out.join(format!("{stem}_L{l:02}.h5"));
             write_file(&path, &sectors)?;
-            let dims: Vec<String> = sectors.iter().map(|s| format!("{} {}", s.group, s.energies.len())).collect();
-            eprintln!("  built {} ({}) in {:.1} s", path.display(), dims.join(", "), t.elapsed().as_secs_f64());
+            let dims: Vec<String> = sectors
+                .iter()
+                .map(|s| format!("{} {}", s.group, s.energies.len()))
+                .collect();
+            eprintln!(
+                "  built {} ({}) in {:.1} s",
+                path.display(),
+                dims.join(", "),
+                t.elapsed().as_secs_f64()
+            );
             files.push(path);
         }
     }
@@ -62,14 +91,21 @@ pub fn build_files(args: &Args) -> Result<Vec<PathBuf>> {
 /// Runs `eigentherm demo`.
 pub fn run(args: &Args) -> Result<()> {
     if args.sizes.len() < 2 {
-        return Err(Error::usage("the demo needs at least two chain lengths for a scaling analysis"));
+        return Err(Error::usage(
+            "the demo needs at least two chain lengths for a scaling analysis",
+        ));
     }
     let t0 = Instant::now();
     println!("eigentherm demo — an INVENTED scenario, with model data built on this machine:");
     println!("  a (fictional) team checks a spin chain in a tilted field, H = Σ σᶻσᶻ + 0.9045 Σ σˣ + 0.8090 Σ σᶻ,");
-    println!("  before a long cluster campaign: chaotic sectors? do local magnetizations thermalize?");
+    println!(
+        "  before a long cluster campaign: chaotic sectors? do local magnetizations thermalize?"
+    );
     println!("  Contrast: the integrable transverse-field chain (no longitudinal field).\n");
-    println!("1. Building eigenbases (open chains, reflection sectors resolved), L = {:?}", args.sizes);
+    println!(
+        "1. Building eigenbases (open chains, reflection sectors resolved), L = {:?}",
+        args.sizes
+    );
     let files = build_files(args)?;
 
     println!("\n2. Verifying the files (orthonormality and residuals on a sample of states)");
@@ -84,7 +120,10 @@ pub fn run(args: &Args) -> Result<()> {
     println!("\n3. Full study (levels, diagonal, off-diagonal, scaling, figures, report)");
     let out = args.out.join("report");
     let sargs = study::Args {
-        input: InputArgs { files: files.clone(), paths: PathArgs::default() },
+        input: InputArgs {
+            files: files.clone(),
+            paths: PathArgs::default(),
+        },
         select: SelectArgs::default(),
         observables: DEMO_OBSERVABLES.iter().map(|s| s.to_string()).collect(),
         out: out.clone(),

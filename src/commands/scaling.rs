@@ -8,13 +8,13 @@
 //! one row: figures averaged, errors combined as `√(Σσ²)/k`, dimension averaged), and by
 //! observable.
 
+use crate::analysis::offdiagonal::OffdiagonalOptions;
 use crate::analysis::scaling::{
-    self, fit_exponential, fit_power_law, CanonicalDeviation, ExponentEvidence, RatioAtSize, RatioEvidence,
-    ScalingFit, Symmetry, VerdictInputs, VerdictReport,
+    self, fit_exponential, fit_power_law, CanonicalDeviation, ExponentEvidence, RatioAtSize,
+    RatioEvidence, ScalingFit, Symmetry, VerdictInputs, VerdictReport,
 };
 use crate::commands::common::{InputArgs, SelectArgs};
 use crate::commands::sector::{analyse_sector, SectorAnalysis, SectorSettings, RESAMPLES};
-use crate::analysis::offdiagonal::OffdiagonalOptions;
 use crate::data::Field;
 use crate::error::{Error, Result};
 use crate::project::ProjectOptions;
@@ -138,7 +138,12 @@ pub struct Report {
 }
 
 /// Settings of the per-sector pipeline from the command line.
-pub fn settings(select: &SelectArgs, levels_window: Option<&str>, omega_max: Option<f64>, memory: Option<&str>) -> Result<SectorSettings> {
+pub fn settings(
+    select: &SelectArgs,
+    levels_window: Option<&str>,
+    omega_max: Option<f64>,
+    memory: Option<&str>,
+) -> Result<SectorSettings> {
     let levels_window = match levels_window {
         Some(w) => crate::window::WindowSpec::Fraction(Window::parse(w)?),
         None => crate::window::WindowSpec::Fraction(Window::LEVELS),
@@ -152,10 +157,18 @@ pub fn settings(select: &SelectArgs, levels_window: Option<&str>, omega_max: Opt
 }
 
 /// Runs the pipeline on every selected file and sector.
-pub fn analyse_all(input: &InputArgs, select: &SelectArgs, observables: &[String], settings: &SectorSettings) -> Result<Vec<SectorAnalysis>> {
+pub fn analyse_all(
+    input: &InputArgs,
+    select: &SelectArgs,
+    observables: &[String],
+    settings: &SectorSettings,
+) -> Result<Vec<SectorAnalysis>> {
     let files = input.open()?;
     let mut out = Vec::new();
-    let pb = crate::progress::bar(files.iter().map(|f| f.sectors().len() as u64).sum(), "sectors");
+    let pb = crate::progress::bar(
+        files.iter().map(|f| f.sectors().len() as u64).sum(),
+        "sectors",
+    );
     for f in &files {
         for s in f.select(select.sector.as_deref())? {
             pb.set_message(format!("{} [{}]", f.path().display(), s.name));
@@ -190,10 +203,21 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Repor
             let (amin, amax) = o
                 .points
                 .iter()
-                .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| (lo.min(p.1), hi.max(p.1)));
-            let sector_key = if combine_sectors { "*".to_string() } else { a.sector.clone() };
+                .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
+                    (lo.min(p.1), hi.max(p.1))
+                });
+            let sector_key = if combine_sectors {
+                "*".to_string()
+            } else {
+                a.sector.clone()
+            };
             rows.push(Row {
-                family: format!("{} | {} | {}", a.model.clone().unwrap_or_else(|| "-".into()), sector_key, o.name),
+                family: format!(
+                    "{} | {} | {}",
+                    a.model.clone().unwrap_or_else(|| "-".into()),
+                    sector_key,
+                    o.name
+                ),
                 file: a.file.clone(),
                 sector: a.sector.clone(),
                 observable: o.name.clone(),
@@ -211,7 +235,12 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Repor
                 gaussian_ratio_stderr: g_e,
                 diag_offdiag_ratio: r,
                 diag_offdiag_ratio_stderr: r_e,
-                canonical_rms_deviation: d.predictions.canonical.as_ref().map(|c| c.rms).unwrap_or(nan),
+                canonical_rms_deviation: d
+                    .predictions
+                    .canonical
+                    .as_ref()
+                    .map(|c| c.rms)
+                    .unwrap_or(nan),
                 observable_spread: amax - amin,
                 field: a.field,
                 diagonal_vanishes: o.diagonal_vanishes,
@@ -221,7 +250,11 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Repor
     if combine_sectors {
         rows = combine(rows);
     }
-    rows.sort_by(|a, b| a.family.cmp(&b.family).then(a.dimension.total_cmp(&b.dimension)));
+    rows.sort_by(|a, b| {
+        a.family
+            .cmp(&b.family)
+            .then(a.dimension.total_cmp(&b.dimension))
+    });
 
     let mut families: Vec<String> = rows.iter().map(|r| r.family.clone()).collect();
     families.dedup();
@@ -248,18 +281,28 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Repor
             symmetry,
             mean_r: fr
                 .iter()
-                .map(|r| RatioAtSize { dimension: r.dimension, mean_r: r.mean_r, stderr: r.mean_r_stderr })
+                .map(|r| RatioAtSize {
+                    dimension: r.dimension,
+                    mean_r: r.mean_r,
+                    stderr: r.mean_r_stderr,
+                })
                 .collect(),
             fluctuation: if vanishes {
                 None
             } else {
                 fluct_fit.map(|f| ExponentEvidence::variance(f.exponent, f.exponent_stderr))
             },
-            canonical: (last.canonical_rms_deviation.is_finite() && last.observable_spread > 0.0).then(|| {
-                CanonicalDeviation { deviation: last.canonical_rms_deviation, scale: last.observable_spread }
+            canonical: (last.canonical_rms_deviation.is_finite() && last.observable_spread > 0.0)
+                .then(|| CanonicalDeviation {
+                    deviation: last.canonical_rms_deviation,
+                    scale: last.observable_spread,
+                }),
+            low_omega_ratio: (last.diag_offdiag_ratio.is_finite() && !vanishes).then(|| {
+                RatioEvidence {
+                    ratio: last.diag_offdiag_ratio,
+                    stderr: last.diag_offdiag_ratio_stderr,
+                }
             }),
-            low_omega_ratio: (last.diag_offdiag_ratio.is_finite() && !vanishes)
-                .then(|| RatioEvidence { ratio: last.diag_offdiag_ratio, stderr: last.diag_offdiag_ratio_stderr }),
         };
         let mut verdict = scaling::decide(&inputs);
         if vanishes {
@@ -267,7 +310,11 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Repor
                 "every diagonal element vanishes by symmetry: fluctuation figures carry no evidence".to_string(),
             );
         }
-        verdicts.push(FamilyVerdict { family: fam.clone(), observable: last.observable.clone(), verdict });
+        verdicts.push(FamilyVerdict {
+            family: fam.clone(),
+            observable: last.observable.clone(),
+            verdict,
+        });
     }
     Ok(Report {
         method: format!(
@@ -291,19 +338,32 @@ fn fit_figure(family: &str, figure: &str, rows: &[&Row]) -> Option<FigureFit> {
         "diff_mean_abs" => (r.diff_mean_abs, r.diff_mean_abs_stderr),
         _ => (r.low_omega_variance, r.low_omega_variance_stderr),
     };
-    let usable: Vec<&&Row> = rows.iter().filter(|r| { let (y, _) = pick(r); y.is_finite() && y > 0.0 }).collect();
+    let usable: Vec<&&Row> = rows
+        .iter()
+        .filter(|r| {
+            let (y, _) = pick(r);
+            y.is_finite() && y > 0.0
+        })
+        .collect();
     if usable.len() < 2 {
         return None;
     }
     let dims: Vec<f64> = usable.iter().map(|r| r.dimension).collect();
     let ys: Vec<f64> = usable.iter().map(|r| pick(r).0).collect();
     let es: Vec<f64> = usable.iter().map(|r| pick(r).1).collect();
-    let errors = es.iter().all(|e| e.is_finite() && *e > 0.0).then_some(es.as_slice());
+    let errors = es
+        .iter()
+        .all(|e| e.is_finite() && *e > 0.0)
+        .then_some(es.as_slice());
     let power_law = fit_power_law(&dims, &ys, errors).ok()?;
     let exponential = if usable.iter().all(|r| r.size.is_some()) {
         let sizes: Vec<f64> = usable.iter().map(|r| r.size.unwrap_or(0) as f64).collect();
         let distinct = sizes.windows(2).any(|w| w[0] != w[1]);
-        if distinct { fit_exponential(&sizes, &ys, errors).ok() } else { None }
+        if distinct {
+            fit_exponential(&sizes, &ys, errors).ok()
+        } else {
+            None
+        }
     } else {
         None
     };
@@ -322,7 +382,12 @@ fn combine(rows: Vec<Row>) -> Vec<Row> {
     let mut out: Vec<Row> = Vec::new();
     let mut groups: Vec<Vec<Row>> = Vec::new();
     for r in rows {
-        let key = |x: &Row| (x.family.clone(), x.size.map(|s| s as f64).unwrap_or(x.dimension));
+        let key = |x: &Row| {
+            (
+                x.family.clone(),
+                x.size.map(|s| s as f64).unwrap_or(x.dimension),
+            )
+        };
         match groups.iter_mut().find(|g| key(&g[0]) == key(&r)) {
             Some(g) => g.push(r),
             None => groups.push(vec![r]),
@@ -379,7 +444,13 @@ pub fn table(report: &Report) -> Result<crate::report::table::Table> {
     ];
     let mut t = Table::new(cols);
     for r in &report.rows {
-        let u = |v: f64, e: f64| -> Cell { if v.is_finite() { Cell::from((v, e)) } else { Cell::Empty } };
+        let u = |v: f64, e: f64| -> Cell {
+            if v.is_finite() {
+                Cell::from((v, e))
+            } else {
+                Cell::Empty
+            }
+        };
         t.push_row(vec![
             Cell::from(r.family.as_str()),
             Cell::from(r.sector.as_str()),
@@ -403,7 +474,10 @@ pub fn render_text(report: &Report) -> String {
     if let Ok(t) = table(report) {
         let _ = writeln!(s, "{}", t.to_markdown());
     }
-    let _ = writeln!(s, "Fits (figure ∝ D^-alpha; figure ∝ exp(-kappa L) where sizes are known):");
+    let _ = writeln!(
+        s,
+        "Fits (figure ∝ D^-alpha; figure ∝ exp(-kappa L) where sizes are known):"
+    );
     for f in &report.fits {
         let _ = write!(
             s,
@@ -413,9 +487,17 @@ pub fn render_text(report: &Report) -> String {
             crate::report::table::format_uncertain(f.alpha, f.alpha_stderr)
         );
         if let Some(e) = &f.exponential {
-            let _ = write!(s, "   kappa = {}", crate::report::table::format_uncertain(e.exponent, e.exponent_stderr));
+            let _ = write!(
+                s,
+                "   kappa = {}",
+                crate::report::table::format_uncertain(e.exponent, e.exponent_stderr)
+            );
         }
-        let _ = writeln!(s, "   (chi2/dof {:.2}, {} points)", f.power_law.chi2_per_dof, f.power_law.points);
+        let _ = writeln!(
+            s,
+            "   (chi2/dof {:.2}, {} points)",
+            f.power_law.chi2_per_dof, f.power_law.points
+        );
     }
     let _ = writeln!(s, "\nVerdicts:");
     for v in &report.verdicts {
@@ -432,7 +514,12 @@ pub fn render_text(report: &Report) -> String {
 
 /// Runs `eigentherm scaling`.
 pub fn run(args: &Args) -> Result<()> {
-    let st = settings(&args.select, args.levels_window.as_deref(), args.omega_max, args.memory.as_deref())?;
+    let st = settings(
+        &args.select,
+        args.levels_window.as_deref(),
+        args.omega_max,
+        args.memory.as_deref(),
+    )?;
     let analyses = analyse_all(&args.input, &args.select, &args.observables, &st)?;
     let report = build(&analyses, args.combine_sectors)?;
     if args.select.json {

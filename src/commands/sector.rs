@@ -109,15 +109,20 @@ pub fn analyse_sector(
         other => other,
     };
     let spectrum: Spectrum = file.spectrum(sector)?;
-    let levels = levels::analyze(&spectrum.energies, &settings.levels_window, &LevelOptions::default())
-        .map_err(in_sector)?;
+    let levels = levels::analyze(
+        &spectrum.energies,
+        &settings.levels_window,
+        &LevelOptions::default(),
+    )
+    .map_err(in_sector)?;
     let (ops, src) = crate::commands::diagonal::load_sector(file, sector, names, &spectrum)?;
     if sector.dim.is_some() {
         crate::input::validate::require_orthonormal(file, sector, src.as_ref())?;
     }
     let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
     let n = spectrum.len();
-    let diags = project::project_diagonal(src.as_ref(), &refs, 0..n, &settings.project).map_err(in_sector)?;
+    let diags = project::project_diagonal(src.as_ref(), &refs, 0..n, &settings.project)
+        .map_err(in_sector)?;
     let range = settings.window.indices(&spectrum.energies);
     let label = settings.window.label();
 
@@ -125,7 +130,13 @@ pub fn analyse_sector(
     let mut accs = Vec::with_capacity(ops.len());
     let mut notes: Vec<Vec<String>> = vec![Vec::new(); ops.len()];
     for (k, (name, _)) in ops.iter().enumerate() {
-        match Accumulator::new(name, &spectrum.energies, range.clone(), &label, &settings.offdiagonal) {
+        match Accumulator::new(
+            name,
+            &spectrum.energies,
+            range.clone(),
+            &label,
+            &settings.offdiagonal,
+        ) {
             Ok(a) => accs.push(Some(a)),
             Err(e) => {
                 notes[k].push(format!("off-diagonal analysis skipped: {e}"));
@@ -134,21 +145,34 @@ pub fn analyse_sector(
         }
     }
     if accs.iter().any(Option::is_some) {
-        project::for_each_block(src.as_ref(), &refs, range.clone(), &settings.project, |blk| {
-            for (acc, m) in accs.iter_mut().zip(&blk.elements) {
-                if let Some(a) = acc {
-                    a.add_block(blk, m)?;
+        project::for_each_block(
+            src.as_ref(),
+            &refs,
+            range.clone(),
+            &settings.project,
+            |blk| {
+                for (acc, m) in accs.iter_mut().zip(&blk.elements) {
+                    if let Some(a) = acc {
+                        a.add_block(blk, m)?;
+                    }
                 }
-            }
-            Ok(())
-        })
+                Ok(())
+            },
+        )
         .map_err(in_sector)?;
     }
 
     let mut observables = Vec::with_capacity(ops.len());
     for (k, (((name, _), d), acc)) in ops.iter().zip(&diags).zip(accs).enumerate() {
-        let diagonal = diagonal::analyse(name, &spectrum.energies, d, range.clone(), &label, sector.dim)
-            .map_err(in_sector)?;
+        let diagonal = diagonal::analyse(
+            name,
+            &spectrum.energies,
+            d,
+            range.clone(),
+            &label,
+            sector.dim,
+        )
+        .map_err(in_sector)?;
         let offdiagonal = match acc.map(Accumulator::finish) {
             Some(Ok(r)) => Some(r),
             Some(Err(e)) => {
@@ -183,7 +207,12 @@ pub fn analyse_sector(
                 seed: DEFAULT_SEED,
             },
             diagonal_vanishes: vanishes,
-            points: spectrum.energies.iter().copied().zip(d.iter().copied()).collect(),
+            points: spectrum
+                .energies
+                .iter()
+                .copied()
+                .zip(d.iter().copied())
+                .collect(),
             notes: std::mem::take(&mut notes[k]),
         });
     }

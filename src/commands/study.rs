@@ -69,19 +69,43 @@ pub struct StudyOutput {
 
 /// Runs the study and writes its folder.
 pub fn study(args: &Args) -> Result<StudyOutput> {
-    let st = scal::settings(&args.select, args.levels_window.as_deref(), args.omega_max, args.memory.as_deref())?;
+    let st = scal::settings(
+        &args.select,
+        args.levels_window.as_deref(),
+        args.omega_max,
+        args.memory.as_deref(),
+    )?;
     let mut params = vec![
         ("observables".to_string(), args.observables.join(", ")),
         ("matrix-element window".to_string(), st.window.label()),
         ("levels window".to_string(), st.levels_window.label()),
         (
             "omega_max".to_string(),
-            args.omega_max.map_or("default: 10 mean level spacings of the window".to_string(), |w| w.to_string()),
+            args.omega_max.map_or(
+                "default: 10 mean level spacings of the window".to_string(),
+                |w| w.to_string(),
+            ),
         ),
-        ("memory budget (bytes)".to_string(), st.project.budget_bytes.to_string()),
-        ("sectors".to_string(), args.select.sector.clone().unwrap_or_else(|| "all".into())),
-        ("combine sectors".to_string(), args.combine_sectors.to_string()),
-        ("bootstrap".to_string(), format!("{} resamples, seed {:#x}", crate::commands::sector::RESAMPLES, crate::analysis::scaling::DEFAULT_SEED)),
+        (
+            "memory budget (bytes)".to_string(),
+            st.project.budget_bytes.to_string(),
+        ),
+        (
+            "sectors".to_string(),
+            args.select.sector.clone().unwrap_or_else(|| "all".into()),
+        ),
+        (
+            "combine sectors".to_string(),
+            args.combine_sectors.to_string(),
+        ),
+        (
+            "bootstrap".to_string(),
+            format!(
+                "{} resamples, seed {:#x}",
+                crate::commands::sector::RESAMPLES,
+                crate::analysis::scaling::DEFAULT_SEED
+            ),
+        ),
     ];
     params.sort_by(|a, b| a.0.cmp(&b.0));
     let mut prov = Provenance::of_this_run(params);
@@ -110,15 +134,24 @@ pub fn study(args: &Args) -> Result<StudyOutput> {
             put(&format!("{name}.svg"), svg.as_bytes())?;
         }
     }
-    let results = StudyResults { provenance: prov.clone(), sectors: analyses, scaling };
-    let json = serde_json::to_string_pretty(&results).map_err(|e| Error::other(format!("cannot serialise results: {e}")))?;
+    let results = StudyResults {
+        provenance: prov.clone(),
+        sectors: analyses,
+        scaling,
+    };
+    let json = serde_json::to_string_pretty(&results)
+        .map_err(|e| Error::other(format!("cannot serialise results: {e}")))?;
     put("results.json", json.as_bytes())?;
 
     let html = html_report(&results, prov, &figures, &table);
     let report = args.out.join("report.html");
     html.write(&report)?;
     files.push(report.clone());
-    Ok(StudyOutput { report, files, results })
+    Ok(StudyOutput {
+        report,
+        files,
+        results,
+    })
 }
 
 /// Runs `eigentherm study`.
@@ -128,7 +161,12 @@ pub fn run(args: &Args) -> Result<()> {
         crate::report::json::print(&out.results)?;
     } else {
         print!("{}", summary_text(&out.results.scaling));
-        println!("wrote {} files to {}; open {}", out.files.len(), args.out.display(), out.report.display());
+        println!(
+            "wrote {} files to {}; open {}",
+            out.files.len(),
+            args.out.display(),
+            out.report.display()
+        );
     }
     Ok(())
 }
@@ -144,7 +182,11 @@ pub fn summary_text(s: &ScalingReport) -> String {
         }
     }
     if let Some(v) = s.verdicts.first() {
-        let _ = writeln!(t, "Rule: thresholds as printed in report.html and the README. Caveat: {}", v.verdict.caveat);
+        let _ = writeln!(
+            t,
+            "Rule: thresholds as printed in report.html and the README. Caveat: {}",
+            v.verdict.caveat
+        );
     }
     t
 }
@@ -161,10 +203,21 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
         .reference(MEAN_R_GUE, "GUE")
         .y_range(0.3, 0.65)
         .legend(Legend::LowerRight);
-    for (k, (key, members)) in group_by(analyses, |a| format!("{} {}", a.model.clone().unwrap_or_default(), a.sector)).into_iter().enumerate() {
+    for (k, (key, members)) in group_by(analyses, |a| {
+        format!("{} {}", a.model.clone().unwrap_or_default(), a.sector)
+    })
+    .into_iter()
+    .enumerate()
+    {
         let mut pts: Vec<(f64, f64, f64)> = members
             .iter()
-            .map(|a| (a.size.map(|s| s as f64).unwrap_or(a.dimension as f64), a.levels.mean_r, a.levels.mean_r_stderr))
+            .map(|a| {
+                (
+                    a.size.map(|s| s as f64).unwrap_or(a.dimension as f64),
+                    a.levels.mean_r,
+                    a.levels.mean_r_stderr,
+                )
+            })
             .collect();
         pts.sort_by(|a, b| a.0.total_cmp(&b.0));
         fig = fig.series(
@@ -177,13 +230,24 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
     out.push(("mean_r".into(), fig, "Mean ratio of consecutive level spacings ⟨r̃⟩ in the levels window against system size, with the Poisson (0.3863), GOE (0.5307) and GUE (0.5996) references (Atas et al. 2013).".into()));
 
     // Unfolded spacing histogram of the largest sector of each family, with the surmises.
-    for (key, members) in group_by(analyses, |a| format!("{} {}", a.model.clone().unwrap_or_default(), a.sector)) {
-        let Some(a) = members.iter().max_by_key(|a| a.dimension) else { continue };
+    for (key, members) in group_by(analyses, |a| {
+        format!("{} {}", a.model.clone().unwrap_or_default(), a.sector)
+    }) {
+        let Some(a) = members.iter().max_by_key(|a| a.dimension) else {
+            continue;
+        };
         let h = &a.levels.spacing_histogram;
         if h.is_empty() {
             continue;
         }
-        let bins: Vec<Bin> = h.iter().map(|b| Bin { lo: b.lo, hi: b.hi, value: b.density }).collect();
+        let bins: Vec<Bin> = h
+            .iter()
+            .map(|b| Bin {
+                lo: b.lo,
+                hi: b.hi,
+                value: b.density,
+            })
+            .collect();
         let centre = |f: &dyn Fn(&crate::analysis::levels::HistBin) -> f64| -> Vec<(f64, f64)> {
             h.iter().map(|b| (0.5 * (b.lo + b.hi), f(b))).collect()
         };
@@ -191,7 +255,11 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
             .histogram(format!("{} (D = {})", a.label, a.dimension), bins)
             .series(Series::line("Poisson e^(−s)", centre(&|b| b.poisson)).color(1))
             .series(Series::line("GOE surmise", centre(&|b| b.goe)).color(2))
-            .series(Series::line("GUE surmise", centre(&|b| b.gue)).style(Style::Dashed).color(3))
+            .series(
+                Series::line("GUE surmise", centre(&|b| b.gue))
+                    .style(Style::Dashed)
+                    .color(3),
+            )
             .legend(Legend::UpperRight);
         out.push((
             format!("spacings_{}", slug(&key)),
@@ -208,10 +276,17 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
     fams.dedup();
     for fam in fams {
         let rows: Vec<&scal::Row> = scaling.rows.iter().filter(|r| r.family == fam).collect();
-        let Some(obs) = rows.first().map(|r| r.observable.clone()) else { continue };
+        let Some(obs) = rows.first().map(|r| r.observable.clone()) else {
+            continue;
+        };
         let members: Vec<&SectorAnalysis> = analyses
             .iter()
-            .filter(|a| rows.iter().any(|r| r.file.split('+').any(|f| f == a.file) && r.sector.split('+').any(|s| s == a.sector)))
+            .filter(|a| {
+                rows.iter().any(|r| {
+                    r.file.split('+').any(|f| f == a.file)
+                        && r.sector.split('+').any(|s| s == a.sector)
+                })
+            })
             .collect();
         let stem = slug(&fam);
         if let Some(a) = members.iter().max_by_key(|a| a.dimension) {
@@ -222,15 +297,25 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
                 let mut fig = Figure::new("E (energy units of H)", format!("⟨n|{obs}|n⟩"))
                     .series(Series::points(format!("A_nn, {}", a.label), pts).color(0))
                     .series(
-                        Series::line("binned A(E)", sm.iter().map(|b| (b.energy, b.mean)).collect())
-                            .with_errors(sm.iter().map(|b| b.stderr.unwrap_or(0.0)).collect())
-                            .style(Style::LinePoints)
-                            .color(1),
+                        Series::line(
+                            "binned A(E)",
+                            sm.iter().map(|b| (b.energy, b.mean)).collect(),
+                        )
+                        .with_errors(sm.iter().map(|b| b.stderr.unwrap_or(0.0)).collect())
+                        .style(Style::LinePoints)
+                        .color(1),
                     )
                     .legend(Legend::UpperRight);
-                let can: Vec<(f64, f64)> = sm.iter().filter_map(|b| b.canonical.map(|c| (b.energy, c))).collect();
+                let can: Vec<(f64, f64)> = sm
+                    .iter()
+                    .filter_map(|b| b.canonical.map(|c| (b.energy, c)))
+                    .collect();
                 if !can.is_empty() {
-                    fig = fig.series(Series::line("canonical at β(E)", can).style(Style::Dashed).color(2));
+                    fig = fig.series(
+                        Series::line("canonical at β(E)", can)
+                            .style(Style::Dashed)
+                            .color(2),
+                    );
                 }
                 out.push((
                     format!("diagonal_{stem}"),
@@ -238,16 +323,32 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
                     format!("Diagonal matrix elements of {obs} against energy in {} (D = {}), the binned smooth part A(E) with standard errors ({}) and the canonical prediction at β(E).", a.label, a.dimension, o.diagonal.smooth_rule),
                 ));
                 // Envelope, all sizes.
-                let mut env = Figure::new("ω (energy units)", "|f(Ē, ω)|² = e^S(Ē) ⟨|A_nm|²⟩").axes(Axis::Log, Axis::Log).legend(Legend::LowerLeft);
+                let mut env = Figure::new("ω (energy units)", "|f(Ē, ω)|² = e^S(Ē) ⟨|A_nm|²⟩")
+                    .axes(Axis::Log, Axis::Log)
+                    .legend(Legend::LowerLeft);
                 let mut sorted = members.clone();
                 sorted.sort_by_key(|a| a.dimension);
                 let mut any = false;
                 for (k, m) in sorted.iter().enumerate() {
-                    if let Some(off) = m.observables.iter().find(|o| o.name == obs).and_then(|o| o.offdiagonal.as_ref()) {
-                        let pts: Vec<(f64, f64)> = off.envelope_log.iter().filter(|b| b.count > 0 && b.f_sq > 0.0).map(|b| (b.omega, b.f_sq)).collect();
+                    if let Some(off) = m
+                        .observables
+                        .iter()
+                        .find(|o| o.name == obs)
+                        .and_then(|o| o.offdiagonal.as_ref())
+                    {
+                        let pts: Vec<(f64, f64)> = off
+                            .envelope_log
+                            .iter()
+                            .filter(|b| b.count > 0 && b.f_sq > 0.0)
+                            .map(|b| (b.omega, b.f_sq))
+                            .collect();
                         if !pts.is_empty() {
                             any = true;
-                            env = env.series(Series::points(format!("D = {}", m.dimension), pts).style(Style::LinePoints).color(k));
+                            env = env.series(
+                                Series::points(format!("D = {}", m.dimension), pts)
+                                    .style(Style::LinePoints)
+                                    .color(k),
+                            );
                         }
                     }
                 }
@@ -266,15 +367,31 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
             let mut fig = Figure::new("D (Hilbert-space dimension)", "fluctuation variance ½⟨ΔA²⟩")
                 .axes(Axis::Log, Axis::Log)
                 .series(
-                    Series::points("measured", pts.iter().map(|r| (r.dimension, r.fluct_variance)).collect())
-                        .with_errors(pts.iter().map(|r| r.fluct_variance_stderr).collect())
-                        .color(0),
+                    Series::points(
+                        "measured",
+                        pts.iter()
+                            .map(|r| (r.dimension, r.fluct_variance))
+                            .collect(),
+                    )
+                    .with_errors(pts.iter().map(|r| r.fluct_variance_stderr).collect())
+                    .color(0),
                 )
                 .legend(Legend::UpperRight);
-            if let Some(f) = scaling.fits.iter().find(|f| f.family == fam && f.figure == "fluct_variance") {
+            if let Some(f) = scaling
+                .fits
+                .iter()
+                .find(|f| f.family == fam && f.figure == "fluct_variance")
+            {
                 let (d0, d1) = (pts[0].dimension, pts[pts.len() - 1].dimension);
-                let line: Vec<(f64, f64)> = (0..=20).map(|i| d0 * (d1 / d0).powf(i as f64 / 20.0)).map(|d| (d, f.power_law.predict(d))).collect();
-                fig = fig.series(Series::line(format!("fit ∝ D^−{:.2}", f.alpha), line).style(Style::Dashed).color(1));
+                let line: Vec<(f64, f64)> = (0..=20)
+                    .map(|i| d0 * (d1 / d0).powf(i as f64 / 20.0))
+                    .map(|d| (d, f.power_law.predict(d)))
+                    .collect();
+                fig = fig.series(
+                    Series::line(format!("fit ∝ D^−{:.2}", f.alpha), line)
+                        .style(Style::Dashed)
+                        .color(1),
+                );
             }
             out.push((
                 format!("fluct_{stem}"),
@@ -286,7 +403,10 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
     out
 }
 
-fn group_by<'a>(analyses: &'a [SectorAnalysis], key: impl Fn(&SectorAnalysis) -> String) -> Vec<(String, Vec<&'a SectorAnalysis>)> {
+fn group_by<'a>(
+    analyses: &'a [SectorAnalysis],
+    key: impl Fn(&SectorAnalysis) -> String,
+) -> Vec<(String, Vec<&'a SectorAnalysis>)> {
     let mut out: Vec<(String, Vec<&SectorAnalysis>)> = Vec::new();
     for a in analyses {
         let k = key(a);
@@ -310,13 +430,23 @@ fn slug(s: &str) -> String {
     out.trim_matches('_').to_string()
 }
 
-fn html_report(results: &StudyResults, prov: Provenance, figures: &[Named], table: &crate::report::table::Table) -> Html {
+fn html_report(
+    results: &StudyResults,
+    prov: Provenance,
+    figures: &[Named],
+    table: &crate::report::table::Table,
+) -> Html {
     let mut h = Html::new("eigentherm study", prov);
     h.rule = Some(RULE.to_string());
     for v in &results.scaling.verdicts {
-        h.summary.push(Summary::from_report(v.family.clone(), &v.verdict));
+        h.summary
+            .push(Summary::from_report(v.family.clone(), &v.verdict));
     }
-    let find = |prefix: &'static str| figures.iter().filter(move |(n, _, _)| n.starts_with(prefix));
+    let find = |prefix: &'static str| {
+        figures
+            .iter()
+            .filter(move |(n, _, _)| n.starts_with(prefix))
+    };
     let mut lev = Section::new("Level statistics").text(
         "Each sector's spectrum, in the levels window: mean ratio of consecutive spacings and the unfolded spacing \
          distribution. Chaotic (GOE/GUE-like) statistics in every sector are a precondition for ETH.",
@@ -341,7 +471,9 @@ fn html_report(results: &StudyResults, prov: Provenance, figures: &[Named], tabl
         lev = lev.figure(f, c.clone());
     }
     h.sections.push(lev);
-    let mut sc = Section::new("Finite-size scaling").text(results.scaling.method.clone()).table(table.clone());
+    let mut sc = Section::new("Finite-size scaling")
+        .text(results.scaling.method.clone())
+        .table(table.clone());
     for (_, f, c) in find("fluct_") {
         sc = sc.figure(f, c.clone());
     }

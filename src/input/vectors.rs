@@ -133,7 +133,7 @@ impl VectorReader {
         }
     }
 
-    fn read_span_t<T: hdf5::H5Type + Copy + std::fmt::Display>(
+    fn read_span_t<T: hdf5::H5Type + Copy + Send + Sync + std::fmt::Display>(
         &self,
         a: usize,
         b: usize,
@@ -153,7 +153,12 @@ impl VectorReader {
         })?;
         let (rows, cols) = arr.dim();
         // Check values in storage order (fast), then copy.
-        if let Some((k, x)) = arr.iter().enumerate().find(|(_, x)| !finite(x)) {
+        let all_finite = match arr.as_slice() {
+            Some(v) => v.iter().fold(true, |ok, x| ok & finite(x)),
+            None => arr.iter().all(&finite),
+        };
+        if all_finite {
+        } else if let Some((k, x)) = arr.iter().enumerate().find(|(_, x)| !finite(x)) {
             let (r, c) = (k / cols.max(1), k % cols.max(1));
             let (state, comp) = match self.layout {
                 Layout::Columns => (a + c, r),
@@ -167,8 +172,8 @@ impl VectorReader {
         }
         // A freshly read array is in standard (C) order; fall back to indexing otherwise.
         let m = match (self.layout, arr.as_slice()) {
-            // C-order [dim, w]: entry (i, j) at i * w + j.
-            (Layout::Columns, Some(v)) => Mat::from_fn(rows, cols, |i, j| v[i * cols + j]),
+            // C-order [dim, w]: entry (i, j) at i * w + j; cache-blocked transpose.
+            (Layout::Columns, Some(v)) => transpose_c_order(v, rows, cols),
             // C-order [w, dim] is column-major [dim, w]: entry (i, j) at j * dim + i.
             (Layout::Rows, Some(v)) => Mat::from_fn(cols, rows, |i, j| v[j * cols + i]),
             (Layout::Columns, None) => Mat::from_fn(rows, cols, |i, j| arr[[i, j]]),
@@ -176,6 +181,51 @@ impl VectorReader {
         };
         Ok(m)
     }
+}
+
+/// Column-major `rows × cols` matrix of a C-order (row-major) slice `v` (a transpose
+/// of the storage order), copied in tiles of 8 columns × 256 rows so that each source
+/// cache line is read once, parallel over strips of columns.
+pub(crate) fn transpose_c_order<T: Copy + Send + Sync>(
+    v: &[T],
+    rows: usize,
+    cols: usize,
+) -> Mat<T> {
+    use rayon::prelude::*;
+    const STRIP: usize = 8;
+    const ROWS: usize = 256;
+    let Some(&fill) = v.first() else {
+        // empty: the closure is never called
+        return Mat::from_fn(rows, cols, |i, j| v[i * cols + j]);
+    };
+    let mut m = Mat::from_fn(rows, cols, |_, _| fill);
+    m.par_col_chunks_mut(STRIP)
+        .enumerate()
+        .for_each(|(s, mut strip)| {
+            let j0 = s * STRIP;
+            for i0 in (0..rows).step_by(ROWS) {
+                let i1 = (i0 + ROWS).min(rows);
+                for c in 0..strip.ncols() {
+                    let j = j0 + c;
+                    let col = strip.as_mut().col_mut(c);
+                    match col.try_as_col_major_mut() {
+                        Some(col) => {
+                            let dst = &mut col.as_slice_mut()[i0..i1];
+                            for (d, i) in dst.iter_mut().zip(i0..i1) {
+                                *d = v[i * cols + j];
+                            }
+                        }
+                        None => {
+                            let mut col = strip.as_mut().col_mut(c);
+                            for i in i0..i1 {
+                                col[i] = v[i * cols + j];
+                            }
+                        }
+                    }
+                }
+            }
+        });
+    m
 }
 
 /// Copies column `src_col` of `src` into column `dst_col` of `dst` (same field).
@@ -197,6 +247,10 @@ impl ColumnSource for VectorReader {
     }
     fn field(&self) -> Field {
         self.field
+    }
+    fn chunk_states(&self) -> Option<usize> {
+        // state indices are file indices only when the spectrum was stored sorted
+        self.chunk_states.filter(|_| self.order.is_none())
     }
     fn read(&self, range: Range<usize>) -> Result<Matrix> {
         if range.start > range.end || range.end > self.n {
