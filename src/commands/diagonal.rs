@@ -250,6 +250,17 @@ pub fn render_text(r: &Report) -> String {
             s.n_states,
             s.dim.map_or(String::new(), |d| format!(", dimension {d}"))
         );
+        let _ = writeln!(
+            t,
+            "  predictions from {} states; time: read {:.2} s (waited), project {:.2} s, analyse {:.2} s",
+            match s.prediction_states {
+                project::PredictionStates::All => "all",
+                project::PredictionStates::Window => "the window's",
+            },
+            s.timing.read_seconds,
+            s.timing.project_seconds,
+            s.timing.analyse_seconds
+        );
         for o in &s.observables {
             let _ = writeln!(
                 t,
