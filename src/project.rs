@@ -1072,6 +1072,38 @@ mod tests {
     }
 
     #[test]
+    fn blocks_fall_on_chunk_boundaries() {
+        // cuts at multiples of the chunk after the first block (common practice, no source)
+        assert_eq!(
+            blocks(&(30..135), 33, Some(16)),
+            vec![30..48, 48..80, 80..112, 112..135]
+        );
+        assert_eq!(blocks(&(30..135), 200, Some(16)), vec![30..135]);
+        assert_eq!(blocks(&(0..10), 4, None), vec![0..4, 4..8, 8..10]);
+        // a chunk wider than the block is ignored
+        assert_eq!(blocks(&(0..10), 4, Some(8)), vec![0..4, 4..8, 8..10]);
+    }
+
+    #[test]
+    fn auto_policy_limits_dense_all_state_projections() {
+        // 2·dim²·n against 2e11 flops (the documented policy; no source)
+        let dense = Operator::Real(OpData::Dense(Mat::zeros(2, 2)));
+        let diag = Operator::Real(OpData::Diagonal(vec![0.0; 2]));
+        assert_eq!(
+            auto_prediction_states(&[&dense], 2048, 2048),
+            PredictionStates::All
+        );
+        assert_eq!(
+            auto_prediction_states(&[&dense], 8192, 8192),
+            PredictionStates::Window
+        );
+        assert_eq!(
+            auto_prediction_states(&[&diag], 32768, 32768),
+            PredictionStates::All
+        );
+    }
+
+    #[test]
     fn shape_errors_are_reported() {
         // bad input gives an error, not a panic (common practice, no source)
         let v = Matrix::Real(Mat::identity(4, 4));

@@ -355,6 +355,39 @@ mod tests {
     }
 
     #[test]
+    fn window_only_analysis_keeps_the_window_figures() {
+        // same window figures from the window's A_nn alone; canonical omitted, the
+        // microcanonical shell cut to the window (definitions of this module; no source)
+        let n = 200;
+        let e: Vec<f64> = (0..n)
+            .map(|i| -1.0 + 2.0 * i as f64 / (n - 1) as f64)
+            .collect();
+        let a: Vec<f64> = e
+            .iter()
+            .enumerate()
+            .map(|(i, &x)| 0.3 * x + if i % 2 == 0 { 0.01 } else { -0.01 })
+            .collect();
+        let w = 80..120;
+        let full = analyse("x", &e, &a, w.clone(), "0.4:0.6", Some(n)).unwrap();
+        let part = analyse_window("x", &e, &a[w.clone()], w.clone(), "0.4:0.6", Some(n)).unwrap();
+        assert_eq!(full.mean, part.mean);
+        assert_eq!(full.fluct_variance, part.fluct_variance);
+        assert_eq!(full.diff_max_abs, part.diff_max_abs);
+        assert_eq!(full.smooth.len(), part.smooth.len());
+        assert!(full.smooth.iter().any(|b| b.canonical.is_some()));
+        assert!(part.smooth.iter().all(|b| b.canonical.is_none()));
+        assert!(part.predictions.canonical.is_none());
+        assert!(part
+            .predictions
+            .note
+            .as_deref()
+            .is_some_and(|t| t.contains("window")));
+        assert!(full.predictions.note.is_none());
+        // wrong length is an error, not a panic
+        assert!(analyse_window("x", &e, &a[..10], w, "0.4:0.6", Some(n)).is_err());
+    }
+
+    #[test]
     fn canonical_prediction_of_the_energy_is_exact() {
         // A = c·H: ⟨A⟩_β(E) = c·⟨H⟩_β(E) = c·E by the definition of β(E), and the bin mean
         // of c·Eₙ is c·Ē (definitions; no source needed)
