@@ -266,6 +266,11 @@ pub trait ColumnSource: Sync {
     fn field(&self) -> Field;
     /// Reads the eigenvectors of the states `range` as the columns of a `[dim, range.len()]` matrix.
     fn read(&self, range: Range<usize>) -> crate::error::Result<Matrix>;
+    /// Chunk extent of the storage along the state axis, when reads aligned to its
+    /// multiples are cheaper (chunked HDF5 datasets); `None` by default.
+    fn chunk_states(&self) -> Option<usize> {
+        None
+    }
 }
 
 /// Eigenvectors held in memory (columns in ascending-energy order).

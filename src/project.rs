@@ -23,9 +23,19 @@
 //! Several observables share one pass over the eigenvectors.
 //!
 //! The working set for block size `b`, dimension `dim`, `q` observables and element
-//! size `s` bytes is about `(4 + q)·dim·b·s + q·b²·s` (two eigenvector blocks, one
-//! product per observable, two scratch buffers of the sparse product, the blocks of
-//! results); the block size is the largest `b` that fits the budget.
+//! size `s` bytes is about `(4 + q)·dim·b·s + q·b²·s` (two eigenvector blocks in use,
+//! up to two more in the reader thread that fetches the next block while the current
+//! one is multiplied, one product buffer `A V_J` per observable allocated once, the
+//! blocks of results); the block size is the largest `b` that fits the budget. With a
+//! chunked file the block width is a multiple of the chunk extent and the cuts fall on
+//! chunk boundaries.
+//!
+//! **Products.** Dense: `faer::linalg::matmul::matmul` with `Par::rayon(0)` into the
+//! preallocated buffers. CSR: `y = A x` row by row for each eigenvector column,
+//! parallel over groups of columns, with no allocation and no transposition (a column
+//! of `dim` entries stays in cache while the CSR arrays stream). Diagonal elements of
+//! diagonal and CSR operators are formed as `⟨v|A|v⟩` column by column without storing
+//! `A V`.
 
 use crate::data::{c64, ColumnSource, Csr, Field, Matrix, OpData, Operator};
 use crate::error::{Error, Result};
@@ -229,6 +239,19 @@ pub fn for_each_block(
     ops: &[&Operator],
     range: Range<usize>,
     opts: &ProjectOptions,
+    sink: impl FnMut(&BlockPair) -> Result<()>,
+) -> Result<()> {
+    for_each_block_timed(src, ops, range, opts, &mut StageTiming::default(), sink)
+}
+
+/// [`for_each_block`], adding the seconds spent reading, projecting and in the sink
+/// to `timing` (the reading of the next block overlaps the products of the current one).
+pub fn for_each_block_timed(
+    src: &dyn ColumnSource,
+    ops: &[&Operator],
+    range: Range<usize>,
+    opts: &ProjectOptions,
+    timing: &mut StageTiming,
     mut sink: impl FnMut(&BlockPair) -> Result<()>,
 ) -> Result<()> {
     check_inputs(src, ops, &range)?;
@@ -238,11 +261,11 @@ pub fn for_each_block(
     match result_field(src, ops) {
         Field::Real => {
             let prepared = prepare::<f64>(ops)?;
-            stream::<f64>(src, &prepared, range, opts, &mut sink)
+            stream::<f64>(src, &prepared, range, opts, timing, &mut sink)
         }
         Field::Complex => {
             let prepared = prepare::<c64>(ops)?;
-            stream::<c64>(src, &prepared, range, opts, &mut sink)
+            stream::<c64>(src, &prepared, range, opts, timing, &mut sink)
         }
     }
 }
@@ -317,19 +340,64 @@ fn fill_block<T: Copy>(
 /// Diagonal elements `A_nn = Σ_ij conj(V_in) A_ij V_jn` for the states `range`, one
 /// vector per operator, streamed in column blocks (no `W × W` matrix). For Hermitian
 /// operators `A_nn` is real; the real part is returned.
+///
+/// Cost per state: `O(nnz)` for diagonal and CSR operators (`⟨n|A|n⟩` is formed
+/// column by column without storing `A V`), `2·dim²` flops for a dense one.
 pub fn project_diagonal(
     src: &dyn ColumnSource,
     ops: &[&Operator],
     range: Range<usize>,
     opts: &ProjectOptions,
 ) -> Result<Vec<Vec<f64>>> {
+    project_diagonal_timed(src, ops, range, opts, &mut StageTiming::default())
+}
+
+/// [`project_diagonal`], adding the seconds spent reading and projecting to `timing`.
+pub fn project_diagonal_timed(
+    src: &dyn ColumnSource,
+    ops: &[&Operator],
+    range: Range<usize>,
+    opts: &ProjectOptions,
+    timing: &mut StageTiming,
+) -> Result<Vec<Vec<f64>>> {
     check_inputs(src, ops, &range)?;
     if ops.is_empty() {
         return Ok(Vec::new());
     }
     match result_field(src, ops) {
-        Field::Real => diag_stream::<f64>(src, &prepare::<f64>(ops)?, range, opts),
-        Field::Complex => diag_stream::<c64>(src, &prepare::<c64>(ops)?, range, opts),
+        Field::Real => diag_stream::<f64>(src, &prepare::<f64>(ops)?, range, opts, timing),
+        Field::Complex => diag_stream::<c64>(src, &prepare::<c64>(ops)?, range, opts, timing),
+    }
+}
+
+/// Which states' diagonal elements `Aₙₙ` the thermal predictions use.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum PredictionStates {
+    /// Every stored state (microcanonical shells and canonical sums over the spectrum).
+    All,
+    /// The analysis window only (canonical prediction omitted).
+    Window,
+}
+
+/// Flop count above which `auto` keeps the all-state diagonal of a dense operator
+/// out: `2·dim²·n > 2·10¹¹` (a few seconds of dense products on a workstation).
+pub const AUTO_ALL_STATES_MAX_FLOPS: f64 = 2e11;
+
+/// The prediction policy `auto`: all states unless some operator is dense and the
+/// all-state dense projection `Σ_dense 2·dim²·n` would exceed
+/// [`AUTO_ALL_STATES_MAX_FLOPS`] — then the window only. Diagonal, CSR and
+/// energy-basis operators cost `O(nnz)` per state and never limit it.
+pub fn auto_prediction_states(ops: &[&Operator], dim: usize, n: usize) -> PredictionStates {
+    let dense = ops
+        .iter()
+        .filter(|o| o.form() == crate::data::OperatorForm::Dense)
+        .count() as f64;
+    let flops = dense * 2.0 * (dim as f64).powi(2) * n as f64;
+    if flops > AUTO_ALL_STATES_MAX_FLOPS {
+        PredictionStates::Window
+    } else {
+        PredictionStates::All
     }
 }
 
@@ -362,10 +430,25 @@ trait Elem: Copy + Send + Sync + Default + std::fmt::Debug + 'static {
     fn mul(self, o: Self) -> Self;
     fn add(self, o: Self) -> Self;
     fn re(self) -> f64;
-    /// `a · b`, parallel.
-    fn product(a: MatRef<'_, Self>, b: MatRef<'_, Self>) -> Mat<Self>;
+    /// `dst = a · b`, parallel, into a preallocated output.
+    fn product_into(dst: faer::MatMut<'_, Self>, a: MatRef<'_, Self>, b: MatRef<'_, Self>);
     /// `aᴴ · b`, parallel.
     fn adj_product(a: MatRef<'_, Self>, b: MatRef<'_, Self>) -> Mat<Self>;
+    /// `aᴴ · a`-shaped Hermitian block `aᴴ · b` of a diagonal block pair: only the
+    /// upper triangle is computed (half the flops), the lower one is its adjoint.
+    fn adj_product_hermitian(a: MatRef<'_, Self>, b: MatRef<'_, Self>) -> Mat<Self> {
+        let n = a.ncols();
+        let mut d = Mat::from_fn(n, n, |_, _| Self::zero());
+        Self::upper_adj_into(d.as_mut(), a, b);
+        for j in 0..n {
+            for i in j + 1..n {
+                d[(i, j)] = d[(j, i)].conj();
+            }
+        }
+        d
+    }
+    /// Upper triangle (diagonal included) of `dst = aᴴ · b`, parallel.
+    fn upper_adj_into(dst: faer::MatMut<'_, Self>, a: MatRef<'_, Self>, b: MatRef<'_, Self>);
     fn wrap(m: Mat<Self>) -> Matrix;
     fn from_matrix(m: Matrix) -> Result<Mat<Self>>;
     fn from_op(op: &Operator) -> Result<Cow<'_, OpData<Self>>>;
@@ -387,10 +470,8 @@ impl Elem for f64 {
     fn re(self) -> f64 {
         self
     }
-    fn product(a: MatRef<'_, f64>, b: MatRef<'_, f64>) -> Mat<f64> {
-        let mut d = Mat::zeros(a.nrows(), b.ncols());
-        matmul(d.as_mut(), Accum::Replace, a, b, 1.0, Par::rayon(0));
-        d
+    fn product_into(dst: faer::MatMut<'_, f64>, a: MatRef<'_, f64>, b: MatRef<'_, f64>) {
+        matmul(dst, Accum::Replace, a, b, 1.0, Par::rayon(0));
     }
     fn adj_product(a: MatRef<'_, f64>, b: MatRef<'_, f64>) -> Mat<f64> {
         let mut d = Mat::zeros(a.ncols(), b.ncols());
@@ -403,6 +484,20 @@ impl Elem for f64 {
             Par::rayon(0),
         );
         d
+    }
+    fn upper_adj_into(dst: faer::MatMut<'_, f64>, a: MatRef<'_, f64>, b: MatRef<'_, f64>) {
+        use faer::linalg::matmul::triangular::{matmul as tri, BlockStructure as S};
+        tri(
+            dst,
+            S::TriangularUpper,
+            Accum::Replace,
+            a.transpose(),
+            S::Rectangular,
+            b,
+            S::Rectangular,
+            1.0,
+            Par::rayon(0),
+        );
     }
     fn wrap(m: Mat<f64>) -> Matrix {
         Matrix::Real(m)
@@ -441,17 +536,8 @@ impl Elem for c64 {
     fn re(self) -> f64 {
         self.re
     }
-    fn product(a: MatRef<'_, c64>, b: MatRef<'_, c64>) -> Mat<c64> {
-        let mut d = Mat::zeros(a.nrows(), b.ncols());
-        matmul(
-            d.as_mut(),
-            Accum::Replace,
-            a,
-            b,
-            c64::new(1.0, 0.0),
-            Par::rayon(0),
-        );
-        d
+    fn product_into(dst: faer::MatMut<'_, c64>, a: MatRef<'_, c64>, b: MatRef<'_, c64>) {
+        matmul(dst, Accum::Replace, a, b, c64::new(1.0, 0.0), Par::rayon(0));
     }
     fn adj_product(a: MatRef<'_, c64>, b: MatRef<'_, c64>) -> Mat<c64> {
         let mut d = Mat::zeros(a.ncols(), b.ncols());
@@ -464,6 +550,20 @@ impl Elem for c64 {
             Par::rayon(0),
         );
         d
+    }
+    fn upper_adj_into(dst: faer::MatMut<'_, c64>, a: MatRef<'_, c64>, b: MatRef<'_, c64>) {
+        use faer::linalg::matmul::triangular::{matmul as tri, BlockStructure as S};
+        tri(
+            dst,
+            S::TriangularUpper,
+            Accum::Replace,
+            a.adjoint(),
+            S::Rectangular,
+            b,
+            S::Rectangular,
+            c64::new(1.0, 0.0),
+            Par::rayon(0),
+        );
     }
     fn wrap(m: Mat<c64>) -> Matrix {
         Matrix::Complex(m)
@@ -561,38 +661,89 @@ fn op_shape<T>(d: &OpData<T>) -> Result<(usize, usize)> {
     })
 }
 
-/// `A V` for a block of eigenvectors `v` (`dim × b`); `None` for energy-basis operators.
-fn apply<T: Elem>(op: &OpData<T>, v: MatRef<'_, T>) -> Option<Mat<T>> {
-    let (dim, b) = (v.nrows(), v.ncols());
+/// Columns per rayon task in the sparse and diagonal-operator products: each task
+/// reads the CSR arrays once for this many columns.
+const COLS_PER_TASK: usize = 4;
+
+/// `out = A V` for a block of eigenvectors `v` (`dim × w`) into the column-major
+/// buffer `out` (length `≥ dim·w`, columns of stride `dim`). Returns false for
+/// energy-basis operators (nothing to apply). Parallel over groups of columns; no
+/// allocation in the inner loops.
+fn apply_into<T: Elem>(op: &OpData<T>, v: &Mat<T>, out: &mut [T]) -> bool {
+    let (dim, w) = (v.nrows(), v.ncols());
+    if matches!(op, OpData::EnergyBasis(_)) {
+        return false;
+    }
+    if dim == 0 || w == 0 {
+        return true;
+    }
+    let out = &mut out[..dim * w];
     match op {
-        OpData::Diagonal(d) => Some(Mat::from_fn(dim, b, |i, j| d[i].mul(v[(i, j)]))),
-        OpData::Dense(a) => Some(T::product(a.as_ref(), v)),
-        OpData::Csr(s) => {
-            // row-major copy of v so that the inner loop runs over contiguous memory
-            let mut vt = vec![T::zero(); dim * b];
-            vt.par_chunks_mut(b.max(1))
-                .enumerate()
-                .for_each(|(i, row)| {
-                    for (j, x) in row.iter_mut().enumerate() {
-                        *x = v[(i, j)];
-                    }
-                });
-            let mut out = vec![T::zero(); s.nrows * b];
-            out.par_chunks_mut(b.max(1))
-                .enumerate()
-                .for_each(|(i, row)| {
-                    for k in s.indptr[i]..s.indptr[i + 1] {
-                        let a = s.data[k];
-                        let src = &vt[s.indices[k] * b..(s.indices[k] + 1) * b];
-                        for (o, &x) in row.iter_mut().zip(src) {
-                            *o = o.add(a.mul(x));
-                        }
-                    }
-                });
-            drop(vt);
-            Some(Mat::from_fn(s.nrows, b, |i, j| out[i * b + j]))
+        OpData::Diagonal(d) => {
+            out.par_chunks_mut(dim).enumerate().for_each(|(j, o)| {
+                for ((o, &x), &di) in o.iter_mut().zip(v.col_as_slice(j)).zip(d) {
+                    *o = di.mul(x);
+                }
+            });
+            true
         }
-        OpData::EnergyBasis(_) => None,
+        OpData::Dense(a) => {
+            let dst = faer::MatMut::from_column_major_slice_mut(out, dim, w);
+            T::product_into(dst, a.as_ref(), v.as_ref());
+            true
+        }
+        OpData::Csr(s) => {
+            out.par_chunks_mut(dim * COLS_PER_TASK)
+                .enumerate()
+                .for_each(|(g, o)| {
+                    let j0 = g * COLS_PER_TASK;
+                    for (c, oc) in o.chunks_mut(dim).enumerate() {
+                        let x = v.col_as_slice(j0 + c);
+                        csr_matvec(s, x, oc);
+                    }
+                });
+            true
+        }
+        OpData::EnergyBasis(_) => false,
+    }
+}
+
+/// `y = A x` for a CSR matrix (row by row; `x` one contiguous eigenvector).
+#[inline]
+fn csr_matvec<T: Elem>(s: &Csr<T>, x: &[T], y: &mut [T]) {
+    for (i, yi) in y.iter_mut().enumerate().take(s.nrows) {
+        let (lo, hi) = (s.indptr[i], s.indptr[i + 1]);
+        let mut acc = T::zero();
+        for (&a, &k) in s.data[lo..hi].iter().zip(&s.indices[lo..hi]) {
+            acc = acc.add(a.mul(x[k]));
+        }
+        *yi = acc;
+    }
+}
+
+/// `⟨v|A|v⟩` for one eigenvector without forming `A v` (diagonal and CSR operators).
+#[inline]
+fn expectation<T: Elem>(op: &OpData<T>, x: &[T]) -> Option<f64> {
+    match op {
+        OpData::Diagonal(d) => Some(
+            x.iter()
+                .zip(d)
+                .map(|(&xi, &di)| xi.conj().mul(di.mul(xi)).re())
+                .sum(),
+        ),
+        OpData::Csr(s) => {
+            let mut total = 0.0;
+            for (i, &xi) in x.iter().enumerate().take(s.nrows) {
+                let (lo, hi) = (s.indptr[i], s.indptr[i + 1]);
+                let mut acc = T::zero();
+                for (&a, &k) in s.data[lo..hi].iter().zip(&s.indices[lo..hi]) {
+                    acc = acc.add(a.mul(x[k]));
+                }
+                total += xi.conj().mul(acc).re();
+            }
+            Some(total)
+        }
+        _ => None,
     }
 }
 
@@ -613,12 +764,91 @@ fn read_block<T: Elem>(src: &dyn ColumnSource, r: Range<usize>) -> Result<Mat<T>
     T::from_matrix(m)
 }
 
-fn blocks(range: &Range<usize>, b: usize) -> Vec<Range<usize>> {
-    let b = b.max(1);
-    (range.start..range.end)
-        .step_by(b)
-        .map(|s| s..(s + b).min(range.end))
-        .collect()
+/// Cuts `range` into blocks of at most `b` states. With a chunk extent `c ≤ b` along
+/// the state axis, the width is rounded down to a multiple of `c` and the cuts fall on
+/// multiples of `c`, so that every chunk is read by one block only.
+fn blocks(range: &Range<usize>, b: usize, chunk: Option<usize>) -> Vec<Range<usize>> {
+    let mut b = b.max(1);
+    if b >= range.len() {
+        return vec![range.clone()];
+    }
+    let mut first_end = range.start + b;
+    if let Some(c) = chunk.filter(|&c| c > 0 && c <= b) {
+        b = (b / c) * c;
+        first_end = (range.start / c) * c + b;
+    }
+    let mut out = Vec::new();
+    let mut s = range.start;
+    let mut e = first_end.min(range.end);
+    while s < range.end {
+        out.push(s..e);
+        s = e;
+        e = (s + b).min(range.end);
+    }
+    out
+}
+
+/// Seconds spent by the projector, by stage (wall clock, summed over blocks).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
+pub struct StageTiming {
+    /// Waiting for eigenvector blocks: the part of the reading not hidden behind the
+    /// products (a reader thread fetches the next block while the current one is used).
+    pub read_wait_seconds: f64,
+    /// Time the reader thread spent reading (HDF5 and copying), overlapped or not.
+    pub read_seconds: f64,
+    /// Forming `A V_J` and `V_Iᴴ (A V_J)` (or the diagonal elements).
+    pub project_seconds: f64,
+    /// Time spent in the caller's sink (the analysis of each block).
+    pub sink_seconds: f64,
+    /// Columns per block used.
+    pub block_states: usize,
+    /// Number of blocks the window was cut into.
+    pub blocks: usize,
+}
+
+/// Runs `body` with a function that returns the blocks `reads` in order, read ahead by
+/// one block on a separate thread (a rendezvous channel: at most one finished block
+/// waits while the consumer works). Accumulates the waiting and reading times.
+fn with_prefetch<T: Elem, R>(
+    src: &dyn ColumnSource,
+    reads: Vec<Range<usize>>,
+    timing: &mut StageTiming,
+    body: impl FnOnce(&mut dyn FnMut() -> Result<Mat<T>>) -> Result<R>,
+) -> Result<R> {
+    if reads.is_empty() {
+        let mut none = || Err(Error::other("internal: no eigenvector block to read"));
+        return body(&mut none);
+    }
+    let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Mat<T>>>(0);
+    std::thread::scope(|scope| {
+        let reader = scope.spawn(move || {
+            let mut busy = 0.0;
+            for r in reads {
+                let t = std::time::Instant::now();
+                let m = read_block::<T>(src, r);
+                busy += t.elapsed().as_secs_f64();
+                let failed = m.is_err();
+                if tx.send(m).is_err() || failed {
+                    break;
+                }
+            }
+            busy
+        });
+        let mut wait = 0.0;
+        let mut next = || -> Result<Mat<T>> {
+            let t = std::time::Instant::now();
+            let m = rx
+                .recv()
+                .map_err(|_| Error::other("internal: the eigenvector reader stopped early"))?;
+            wait += t.elapsed().as_secs_f64();
+            m
+        };
+        let out = body(&mut next);
+        drop(rx);
+        timing.read_wait_seconds += wait;
+        timing.read_seconds += reader.join().unwrap_or(0.0);
+        out
+    })
 }
 
 fn stream<T: Elem>(
@@ -626,58 +856,100 @@ fn stream<T: Elem>(
     ops: &[Cow<'_, OpData<T>>],
     range: Range<usize>,
     opts: &ProjectOptions,
+    timing: &mut StageTiming,
     sink: &mut impl FnMut(&BlockPair) -> Result<()>,
 ) -> Result<()> {
     let needs_vectors = ops
         .iter()
         .any(|o| !matches!(o.as_ref(), OpData::EnergyBasis(_)));
-    let b = block_size(
-        range.len(),
-        ops.len(),
-        if needs_vectors { src.dim() } else { 0 },
-        std::mem::size_of::<T>(),
-        opts,
+    let dim = if needs_vectors { src.dim() } else { 0 };
+    let b = block_size(range.len(), ops.len(), dim, std::mem::size_of::<T>(), opts);
+    let bl = blocks(
+        &range,
+        b,
+        src.chunk_states().filter(|_| opts.block.is_none()),
     );
-    let bl = blocks(&range, b);
+    let bmax = bl.iter().map(|r| r.len()).max().unwrap_or(0);
+    timing.block_states = bmax;
+    timing.blocks = bl.len();
     let k = bl.len();
+    // read order: block J, then the blocks I < J
+    let reads: Vec<Range<usize>> = if needs_vectors {
+        (0..k)
+            .flat_map(|j| std::iter::once(bl[j].clone()).chain(bl[..j].iter().cloned()))
+            .collect()
+    } else {
+        Vec::new()
+    };
+    // one product buffer per operator that needs vectors, allocated once
+    let mut bufs: Vec<Vec<T>> = ops
+        .iter()
+        .map(|o| match o.as_ref() {
+            OpData::EnergyBasis(_) => Vec::new(),
+            _ => vec![T::zero(); dim * bmax],
+        })
+        .collect();
     let pb = crate::progress::bar((k * (k + 1) / 2) as u64, "projecting");
-    for (jb, cj) in bl.iter().enumerate() {
-        let (vj, bj): (Option<Mat<T>>, Vec<Option<Mat<T>>>) = if needs_vectors {
-            let vj = read_block::<T>(src, cj.clone())?;
-            let bj = ops.iter().map(|o| apply(o.as_ref(), vj.as_ref())).collect();
-            (Some(vj), bj)
-        } else {
-            (None, ops.iter().map(|_| None).collect())
-        };
-        for ri in bl.iter().take(jb + 1) {
-            let vi_owned;
-            let vi: Option<MatRef<'_, T>> = if !needs_vectors {
-                None
-            } else if ri == cj {
-                vj.as_ref().map(|m| m.as_ref())
-            } else {
-                vi_owned = read_block::<T>(src, ri.clone())?;
-                Some(vi_owned.as_ref())
-            };
-            let mut elements = Vec::with_capacity(ops.len());
-            for (op, bjk) in ops.iter().zip(&bj) {
-                let m = match (op.as_ref(), bjk, vi) {
-                    (OpData::EnergyBasis(a), _, _) => {
-                        Mat::from_fn(ri.len(), cj.len(), |i, j| a[(ri.start + i, cj.start + j)])
-                    }
-                    (_, Some(bm), Some(vi)) => T::adj_product(vi, bm.as_ref()),
-                    _ => return Err(Error::other("internal: missing eigenvector block")),
-                };
-                elements.push(T::wrap(m));
+    let mut project_s = 0.0;
+    let mut sink_s = 0.0;
+    with_prefetch::<T, ()>(src, reads, timing, |next| {
+        for (jb, cj) in bl.iter().enumerate() {
+            let vj = if needs_vectors { Some(next()?) } else { None };
+            let t = std::time::Instant::now();
+            if let Some(vj) = &vj {
+                for (op, buf) in ops.iter().zip(bufs.iter_mut()) {
+                    apply_into(op.as_ref(), vj, buf);
+                }
             }
-            sink(&BlockPair {
-                rows: ri.clone(),
-                cols: cj.clone(),
-                elements,
-            })?;
-            pb.inc(1);
+            project_s += t.elapsed().as_secs_f64();
+            for ri in bl.iter().take(jb + 1) {
+                let vi_owned;
+                let vi: Option<&Mat<T>> = if !needs_vectors {
+                    None
+                } else if ri == cj {
+                    vj.as_ref()
+                } else {
+                    vi_owned = next()?;
+                    Some(&vi_owned)
+                };
+                let t = std::time::Instant::now();
+                let mut elements = Vec::with_capacity(ops.len());
+                for (op, buf) in ops.iter().zip(&bufs) {
+                    let m = match (op.as_ref(), vi) {
+                        (OpData::EnergyBasis(a), _) => {
+                            Mat::from_fn(ri.len(), cj.len(), |i, j| a[(ri.start + i, cj.start + j)])
+                        }
+                        (_, Some(vi)) => {
+                            let bm = MatRef::from_column_major_slice(
+                                &buf[..dim * cj.len()],
+                                dim,
+                                cj.len(),
+                            );
+                            if ri == cj {
+                                T::adj_product_hermitian(vi.as_ref(), bm)
+                            } else {
+                                T::adj_product(vi.as_ref(), bm)
+                            }
+                        }
+                        _ => return Err(Error::other("internal: missing eigenvector block")),
+                    };
+                    elements.push(T::wrap(m));
+                }
+                project_s += t.elapsed().as_secs_f64();
+                let t = std::time::Instant::now();
+                sink(&BlockPair {
+                    rows: ri.clone(),
+                    cols: cj.clone(),
+                    elements,
+                })?;
+                sink_s += t.elapsed().as_secs_f64();
+                pb.inc(1);
+            }
         }
-    }
+        Ok(())
+    })?;
+    timing.project_seconds += project_s;
+    timing.sink_seconds += sink_s;
     pb.finish_and_clear();
     Ok(())
 }
@@ -687,6 +959,7 @@ fn diag_stream<T: Elem>(
     ops: &[Cow<'_, OpData<T>>],
     range: Range<usize>,
     opts: &ProjectOptions,
+    timing: &mut StageTiming,
 ) -> Result<Vec<Vec<f64>>> {
     let mut out: Vec<Vec<f64>> = ops
         .iter()
@@ -695,44 +968,71 @@ fn diag_stream<T: Elem>(
     let needs_vectors = ops
         .iter()
         .any(|o| !matches!(o.as_ref(), OpData::EnergyBasis(_)));
-    let b = block_size(
-        range.len(),
-        ops.len(),
-        if needs_vectors { src.dim() } else { 0 },
-        std::mem::size_of::<T>(),
-        opts,
+    let dim = if needs_vectors { src.dim() } else { 0 };
+    // only dense operators need a product buffer
+    let n_dense = ops
+        .iter()
+        .filter(|o| matches!(o.as_ref(), OpData::Dense(_)))
+        .count();
+    let b = block_size(range.len(), n_dense, dim, std::mem::size_of::<T>(), opts);
+    let bl = blocks(
+        &range,
+        b,
+        src.chunk_states().filter(|_| opts.block.is_none()),
     );
-    let bl = blocks(&range, b);
+    let bmax = bl.iter().map(|r| r.len()).max().unwrap_or(0);
+    timing.block_states = bmax;
+    timing.blocks = bl.len();
+    let reads = if needs_vectors {
+        bl.clone()
+    } else {
+        Vec::new()
+    };
+    let mut buf: Vec<T> = if n_dense > 0 {
+        vec![T::zero(); dim * bmax]
+    } else {
+        Vec::new()
+    };
     let pb = crate::progress::bar(bl.len() as u64, "diagonal");
-    for r in &bl {
-        let v = if needs_vectors {
-            Some(read_block::<T>(src, r.clone())?)
-        } else {
-            None
-        };
-        for (op, o) in ops.iter().zip(out.iter_mut()) {
-            match (op.as_ref(), &v) {
-                (OpData::EnergyBasis(a), _) => o.extend(r.clone().map(|n| a[(n, n)].re())),
-                (opd, Some(v)) => {
-                    if let Some(av) = apply(opd, v.as_ref()) {
+    let mut project_s = 0.0;
+    with_prefetch::<T, ()>(src, reads, timing, |next| {
+        for r in &bl {
+            let v = if needs_vectors { Some(next()?) } else { None };
+            let t = std::time::Instant::now();
+            for (op, o) in ops.iter().zip(out.iter_mut()) {
+                match (op.as_ref(), &v) {
+                    (OpData::EnergyBasis(a), _) => o.extend(r.clone().map(|n| a[(n, n)].re())),
+                    (OpData::Dense(_), Some(v)) => {
+                        apply_into(op.as_ref(), v, &mut buf);
+                        let av = &buf[..dim * r.len()];
                         let d: Vec<f64> = (0..r.len())
                             .into_par_iter()
                             .map(|j| {
-                                let mut s = T::zero();
-                                for i in 0..v.nrows() {
-                                    s = s.add(v[(i, j)].conj().mul(av[(i, j)]));
-                                }
-                                s.re()
+                                v.col_as_slice(j)
+                                    .iter()
+                                    .zip(&av[j * dim..(j + 1) * dim])
+                                    .fold(T::zero(), |s, (&x, &y)| s.add(x.conj().mul(y)))
+                                    .re()
                             })
                             .collect();
                         o.extend(d);
                     }
+                    (opd, Some(v)) => {
+                        let d: Vec<f64> = (0..r.len())
+                            .into_par_iter()
+                            .map(|j| expectation(opd, v.col_as_slice(j)).unwrap_or(f64::NAN))
+                            .collect();
+                        o.extend(d);
+                    }
+                    _ => return Err(Error::other("internal: missing eigenvector block")),
                 }
-                _ => return Err(Error::other("internal: missing eigenvector block")),
             }
+            project_s += t.elapsed().as_secs_f64();
+            pb.inc(1);
         }
-        pb.inc(1);
-    }
+        Ok(())
+    })?;
+    timing.project_seconds += project_s;
     pb.finish_and_clear();
     Ok(out)
 }
@@ -769,6 +1069,38 @@ mod tests {
             block: Some(3),
         };
         assert_eq!(block_size(10, 1, 10, 8, &fixed), 3);
+    }
+
+    #[test]
+    fn blocks_fall_on_chunk_boundaries() {
+        // cuts at multiples of the chunk after the first block (common practice, no source)
+        assert_eq!(
+            blocks(&(30..135), 33, Some(16)),
+            vec![30..48, 48..80, 80..112, 112..135]
+        );
+        assert_eq!(blocks(&(30..135), 200, Some(16)), vec![30..135]);
+        assert_eq!(blocks(&(0..10), 4, None), vec![0..4, 4..8, 8..10]);
+        // a chunk wider than the block is ignored
+        assert_eq!(blocks(&(0..10), 4, Some(8)), vec![0..4, 4..8, 8..10]);
+    }
+
+    #[test]
+    fn auto_policy_limits_dense_all_state_projections() {
+        // 2·dim²·n against 2e11 flops (the documented policy; no source)
+        let dense = Operator::Real(OpData::Dense(Mat::zeros(2, 2)));
+        let diag = Operator::Real(OpData::Diagonal(vec![0.0; 2]));
+        assert_eq!(
+            auto_prediction_states(&[&dense], 2048, 2048),
+            PredictionStates::All
+        );
+        assert_eq!(
+            auto_prediction_states(&[&dense], 8192, 8192),
+            PredictionStates::Window
+        );
+        assert_eq!(
+            auto_prediction_states(&[&diag], 32768, 32768),
+            PredictionStates::All
+        );
     }
 
     #[test]

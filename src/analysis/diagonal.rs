@@ -150,19 +150,81 @@ pub fn analyse(
             diag.len()
         )));
     }
+    analyse_impl(name, energies, diag, 0, window, window_label, dim)
+}
+
+/// Diagonal analysis of one observable from the window's `Aₙₙ` only.
+///
+/// Same figures as [`analyse`], with `diag_window[k] = A_{w₀+k, w₀+k}` for the states
+/// `window = w₀..w₁` of the ascending `energies` (all states). The predictions are
+/// restricted to what the window supports: the microcanonical shell `|Eₙ − Ē| ≤ δ`
+/// averages over the window's states only (shells that reach past the window's edges
+/// are cut), and the canonical prediction — a Boltzmann sum over every state — is not
+/// computed (`None`); `predictions.note` says so.
+pub fn analyse_window(
+    name: &str,
+    energies: &[f64],
+    diag_window: &[f64],
+    window: Range<usize>,
+    window_label: &str,
+    dim: Option<usize>,
+) -> Result<DiagonalResult> {
+    if diag_window.len() != window.len() || window.end > energies.len() {
+        return Err(Error::other(format!(
+            "observable '{name}': {} diagonal elements for the window {}..{} of {} states",
+            diag_window.len(),
+            window.start,
+            window.end,
+            energies.len()
+        )));
+    }
+    let start = window.start;
+    analyse_impl(
+        name,
+        energies,
+        diag_window,
+        start,
+        window,
+        window_label,
+        dim,
+    )
+}
+
+/// Common body: `diag[k]` is `A_nn` of state `offset + k`; the predictions use every
+/// state `diag` covers (all of them when `offset = 0` and `diag.len() = n`).
+fn analyse_impl(
+    name: &str,
+    energies: &[f64],
+    diag: &[f64],
+    offset: usize,
+    window: Range<usize>,
+    window_label: &str,
+    dim: Option<usize>,
+) -> Result<DiagonalResult> {
+    let n = energies.len();
+    let covered = offset..offset + diag.len();
+    let all_states = covered == (0..n);
     if window.end > n || window.len() < 2 {
         return Err(Error::other(format!(
             "observable '{name}': the window {window_label} holds {} state(s) of {n}; at least 2 are needed",
             window.len().min(n)
         )));
     }
+    if covered.end > n || window.start < covered.start || window.end > covered.end {
+        return Err(Error::other(format!(
+            "observable '{name}': diagonal elements of states {}..{} do not cover the window {}..{}",
+            covered.start, covered.end, window.start, window.end
+        )));
+    }
     if let Some(k) = diag.iter().position(|x| !x.is_finite()) {
+        let k = k + offset;
         return Err(Error::other(format!(
             "observable '{name}': diagonal element {k} is not finite"
         )));
     }
     let e_w = &energies[window.clone()];
-    let a_w = &diag[window.clone()];
+    let a_w = &diag[window.start - offset..window.end - offset];
+    let e_cov = &energies[covered.clone()];
     let w = a_w.len();
     let mean = a_w.iter().sum::<f64>() / w as f64;
     let (diff_mean_abs, diff_max_abs, fluct_variance, fluct_variance_stderr) = fluctuations(a_w);
@@ -197,9 +259,13 @@ pub fn analyse(
         let stderr = (c >= 2).then(|| ((saa - cf * m * m).max(0.0) / (cf - 1.0) / cf).sqrt());
         let energy = se / cf;
         let microcanonical =
-            thermo::microcanonical_average(energies, diag, energy, half_width).map(|x| x.0);
+            thermo::microcanonical_average(e_cov, diag, energy, half_width).map(|x| x.0);
         let beta = thermo::beta_of_energy(energies, energy);
-        let canonical = beta.map(|b| thermo::canonical_average(energies, diag, b));
+        let canonical = if all_states {
+            beta.map(|b| thermo::canonical_average(energies, diag, b))
+        } else {
+            None
+        };
         smooth.push(SmoothBin {
             energy,
             energy_lo: elo + k as f64 * width,
@@ -236,12 +302,20 @@ pub fn analyse(
         })
     };
     let partial = dim.is_some_and(|d| n < d);
-    let note = partial.then(|| {
-        format!(
+    let mut notes = Vec::new();
+    if partial {
+        notes.push(format!(
             "partial eigenbasis ({n} of {} states): the canonical prediction sums over the available states only and is unreliable",
             dim.unwrap_or(n)
-        )
-    });
+        ));
+    }
+    if !all_states {
+        notes.push(format!(
+            "predictions from the window's {} states only: the microcanonical shell is cut at the window's edges and the canonical prediction (a sum over all {n} states) is not computed",
+            diag.len()
+        ));
+    }
+    let note = (!notes.is_empty()).then(|| notes.join("; "));
     Ok(DiagonalResult {
         name: name.to_string(),
         window: window_label.to_string(),
@@ -278,6 +352,39 @@ mod tests {
         assert!((m - 1.0).abs() < 1e-15); // |1| + |−2| + |0| over 3
         assert_eq!(x, 2.0);
         assert!((v - 0.5 * 5.0 / 3.0).abs() < 1e-15);
+    }
+
+    #[test]
+    fn window_only_analysis_keeps_the_window_figures() {
+        // same window figures from the window's A_nn alone; canonical omitted, the
+        // microcanonical shell cut to the window (definitions of this module; no source)
+        let n = 200;
+        let e: Vec<f64> = (0..n)
+            .map(|i| -1.0 + 2.0 * i as f64 / (n - 1) as f64)
+            .collect();
+        let a: Vec<f64> = e
+            .iter()
+            .enumerate()
+            .map(|(i, &x)| 0.3 * x + if i % 2 == 0 { 0.01 } else { -0.01 })
+            .collect();
+        let w = 80..120;
+        let full = analyse("x", &e, &a, w.clone(), "0.4:0.6", Some(n)).unwrap();
+        let part = analyse_window("x", &e, &a[w.clone()], w.clone(), "0.4:0.6", Some(n)).unwrap();
+        assert_eq!(full.mean, part.mean);
+        assert_eq!(full.fluct_variance, part.fluct_variance);
+        assert_eq!(full.diff_max_abs, part.diff_max_abs);
+        assert_eq!(full.smooth.len(), part.smooth.len());
+        assert!(full.smooth.iter().any(|b| b.canonical.is_some()));
+        assert!(part.smooth.iter().all(|b| b.canonical.is_none()));
+        assert!(part.predictions.canonical.is_none());
+        assert!(part
+            .predictions
+            .note
+            .as_deref()
+            .is_some_and(|t| t.contains("window")));
+        assert!(full.predictions.note.is_none());
+        // wrong length is an error, not a panic
+        assert!(analyse_window("x", &e, &a[..10], w, "0.4:0.6", Some(n)).is_err());
     }
 
     #[test]

@@ -2,8 +2,21 @@
 //! eigenstate-to-eigenstate fluctuations in a window, and the thermal predictions
 //! (see [`crate::analysis::diagonal`]).
 //!
-//! For each file, sector and observable: `Aₙₙ` of ALL available states (the
-//! predictions need them; streamed under `--memory`), then the window's figures.
+//! For each file, sector and observable: `Aₙₙ` of the states the predictions use
+//! (streamed under `--memory`), then the window's figures.
+//!
+//! **Prediction policy (`--predictions`).** The microcanonical and canonical
+//! predictions need `Aₙₙ` of every state. For diagonal, CSR and energy-basis
+//! observables that costs `O(nnz)` per state and is always done. For a dense observable
+//! it costs `2·dim²` flops per state, i.e. `n/W` times the window's own projection
+//! (5× for the default window). `auto` (the default) projects all states unless the
+//! dense all-state projection would exceed `2·10¹¹` flops
+//! ([`project::AUTO_ALL_STATES_MAX_FLOPS`]); then only the window is projected, the
+//! microcanonical shell is cut to the window and the canonical prediction is omitted
+//! (the result's `predictions.note` says so). `all` and `window` force either choice.
+//!
+//! The JSON of each sector carries `prediction_states` and a `timing` object (seconds
+//! per stage: reading not hidden behind the products, projection, analysis).
 
 use crate::analysis::diagonal::{self, DiagonalResult};
 use crate::commands::common::{InputArgs, SelectArgs};
@@ -13,6 +26,7 @@ use crate::input::{EigenFile, Sector};
 use crate::project::{self, NoVectors, ProjectOptions};
 use crate::window::{Window, WindowSpec};
 use serde::Serialize;
+use std::time::Instant;
 
 /// Options of `eigentherm diagonal`.
 #[derive(Debug, clap::Args)]
@@ -29,6 +43,55 @@ pub struct Args {
     /// Working-memory budget of the projector, e.g. 6G or 512M (default: half the machine's memory).
     #[arg(long, value_name = "SIZE")]
     pub memory: Option<String>,
+    /// States whose A_nn feed the thermal predictions: all, window, or auto (all, except
+    /// for dense observables whose all-state projection would exceed 2e11 flops).
+    #[arg(long, value_name = "all|window|auto", default_value = "auto")]
+    pub predictions: String,
+}
+
+/// Wall-clock seconds per stage of one sector's analysis.
+#[derive(Debug, Clone, Copy, Default, Serialize)]
+pub struct Timing {
+    /// Reading the spectrum and the observables.
+    pub load_seconds: f64,
+    /// Waiting for eigenvector blocks (reading not hidden behind the products).
+    pub read_seconds: f64,
+    /// Time the eigenvector reader thread was busy (overlapped with the products).
+    pub read_busy_seconds: f64,
+    /// Matrix products of the projection.
+    pub project_seconds: f64,
+    /// Reductions and statistics of the analysis.
+    pub analyse_seconds: f64,
+    /// Whole sector, from opening to the last figure.
+    pub total_seconds: f64,
+    /// Eigenvector columns per block.
+    pub block_states: usize,
+    /// Number of blocks.
+    pub blocks: usize,
+}
+
+impl Timing {
+    /// Adds the projector's stage times.
+    pub fn add_projector(&mut self, t: &project::StageTiming) {
+        self.read_seconds += t.read_wait_seconds;
+        self.read_busy_seconds += t.read_seconds;
+        self.project_seconds += t.project_seconds;
+        self.analyse_seconds += t.sink_seconds;
+        self.block_states = t.block_states;
+        self.blocks = t.blocks;
+    }
+}
+
+/// Parses `--predictions`: `None` for `auto`.
+fn parse_predictions(s: &str) -> Result<Option<project::PredictionStates>> {
+    match s.to_ascii_lowercase().as_str() {
+        "auto" => Ok(None),
+        "all" => Ok(Some(project::PredictionStates::All)),
+        "window" => Ok(Some(project::PredictionStates::Window)),
+        _ => Err(Error::usage(format!(
+            "--predictions '{s}': expected all, window or auto"
+        ))),
+    }
 }
 
 /// Diagonal results of one sector.
@@ -42,6 +105,10 @@ pub struct SectorReport {
     pub n_states: usize,
     /// Hilbert-space dimension, when eigenvectors are stored.
     pub dim: Option<usize>,
+    /// States whose `Aₙₙ` fed the predictions (`all` or `window`).
+    pub prediction_states: project::PredictionStates,
+    /// Seconds per stage.
+    pub timing: Timing,
     /// One result per observable.
     pub observables: Vec<DiagonalResult>,
 }
@@ -98,35 +165,64 @@ pub(crate) fn load_sector(
 pub fn compute(args: &Args) -> Result<Report> {
     let opts = ProjectOptions::from_memory_arg(args.memory.as_deref())?;
     let wspec: WindowSpec = args.select.window_spec(Window::MATRIX_ELEMENTS)?;
+    let policy = parse_predictions(&args.predictions)?;
     let files = args.input.open()?;
     let mut sectors = Vec::new();
     for f in &files {
         for s in f.select(args.select.sector.as_deref())? {
+            let t0 = Instant::now();
+            let mut timing = Timing::default();
+            let in_sector = |e: Error| Error::dataset(f.path(), s.group.clone(), e.to_string());
             let spectrum = f.spectrum(s)?;
             let (ops, src) = load_sector(f, s, &args.observables, &spectrum)?;
             let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
             let n = spectrum.len();
-            let diags = project::project_diagonal(src.as_ref(), &refs, 0..n, &opts)
-                .map_err(|e| Error::dataset(f.path(), s.group.clone(), e.to_string()))?;
             let range = wspec.indices(&spectrum.energies);
+            let which = policy
+                .unwrap_or_else(|| project::auto_prediction_states(&refs, s.dim.unwrap_or(0), n));
+            let states = match which {
+                project::PredictionStates::All => 0..n,
+                project::PredictionStates::Window => range.clone(),
+            };
+            timing.load_seconds = t0.elapsed().as_secs_f64();
+            let mut st = project::StageTiming::default();
+            let diags =
+                project::project_diagonal_timed(src.as_ref(), &refs, states, &opts, &mut st)
+                    .map_err(in_sector)?;
+            timing.add_projector(&st);
+            let t_an = Instant::now();
             let mut observables = Vec::new();
             for ((name, _), d) in ops.iter().zip(&diags) {
-                let r = diagonal::analyse(
-                    name,
-                    &spectrum.energies,
-                    d,
-                    range.clone(),
-                    &wspec.label(),
-                    s.dim,
-                )
-                .map_err(|e| Error::dataset(f.path(), s.group.clone(), e.to_string()))?;
+                let r = match which {
+                    project::PredictionStates::All => diagonal::analyse(
+                        name,
+                        &spectrum.energies,
+                        d,
+                        range.clone(),
+                        &wspec.label(),
+                        s.dim,
+                    ),
+                    project::PredictionStates::Window => diagonal::analyse_window(
+                        name,
+                        &spectrum.energies,
+                        d,
+                        range.clone(),
+                        &wspec.label(),
+                        s.dim,
+                    ),
+                }
+                .map_err(in_sector)?;
                 observables.push(r);
             }
+            timing.analyse_seconds += t_an.elapsed().as_secs_f64();
+            timing.total_seconds = t0.elapsed().as_secs_f64();
             sectors.push(SectorReport {
                 file: f.path().display().to_string(),
                 name: s.name.clone(),
                 n_states: n,
                 dim: s.dim,
+                prediction_states: which,
+                timing,
                 observables,
             });
         }
@@ -153,6 +249,17 @@ pub fn render_text(r: &Report) -> String {
             s.name,
             s.n_states,
             s.dim.map_or(String::new(), |d| format!(", dimension {d}"))
+        );
+        let _ = writeln!(
+            t,
+            "  predictions from {} states; time: read {:.2} s (waited), project {:.2} s, analyse {:.2} s",
+            match s.prediction_states {
+                project::PredictionStates::All => "all",
+                project::PredictionStates::Window => "the window's",
+            },
+            s.timing.read_seconds,
+            s.timing.project_seconds,
+            s.timing.analyse_seconds
         );
         for o in &s.observables {
             let _ = writeln!(

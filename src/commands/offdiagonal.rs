@@ -8,12 +8,13 @@
 
 use crate::analysis::offdiagonal::{Accumulator, OffdiagonalOptions, OffdiagonalResult};
 use crate::commands::common::{InputArgs, SelectArgs};
-use crate::commands::diagonal::load_sector;
+use crate::commands::diagonal::{load_sector, Timing};
 use crate::data::Operator;
 use crate::error::{Error, Result};
 use crate::project::{self, ProjectOptions};
 use crate::window::{Window, WindowSpec};
 use serde::Serialize;
+use std::time::Instant;
 
 /// Options of `eigentherm offdiagonal`.
 #[derive(Debug, clap::Args)]
@@ -46,6 +47,8 @@ pub struct SectorReport {
     pub n_states: usize,
     /// Hilbert-space dimension, when eigenvectors are stored.
     pub dim: Option<usize>,
+    /// Seconds per stage (`analyse_seconds` includes the per-block accumulation).
+    pub timing: Timing,
     /// One result per observable.
     pub observables: Vec<OffdiagonalResult>,
 }
@@ -70,6 +73,8 @@ pub fn compute(args: &Args) -> Result<Report> {
     let mut sectors = Vec::new();
     for f in &files {
         for s in f.select(args.select.sector.as_deref())? {
+            let t0 = Instant::now();
+            let mut timing = Timing::default();
             let in_sector = |e: Error| Error::dataset(f.path(), s.group.clone(), e.to_string());
             let spectrum = f.spectrum(s)?;
             let (ops, src) = load_sector(f, s, &args.observables, &spectrum)?;
@@ -83,23 +88,37 @@ pub fn compute(args: &Args) -> Result<Report> {
                 })
                 .collect::<Result<Vec<_>>>()
                 .map_err(in_sector)?;
-            project::for_each_block(src.as_ref(), &refs, range.clone(), &opts, |blk| {
-                for (acc, m) in accs.iter_mut().zip(&blk.elements) {
-                    acc.add_block(blk, m)?;
-                }
-                Ok(())
-            })
+            timing.load_seconds = t0.elapsed().as_secs_f64();
+            let mut st = project::StageTiming::default();
+            project::for_each_block_timed(
+                src.as_ref(),
+                &refs,
+                range.clone(),
+                &opts,
+                &mut st,
+                |blk| {
+                    for (acc, m) in accs.iter_mut().zip(&blk.elements) {
+                        acc.add_block(blk, m)?;
+                    }
+                    Ok(())
+                },
+            )
             .map_err(in_sector)?;
+            timing.add_projector(&st);
+            let t_an = Instant::now();
             let observables = accs
                 .into_iter()
                 .map(Accumulator::finish)
                 .collect::<Result<Vec<_>>>()
                 .map_err(in_sector)?;
+            timing.analyse_seconds += t_an.elapsed().as_secs_f64();
+            timing.total_seconds = t0.elapsed().as_secs_f64();
             sectors.push(SectorReport {
                 file: f.path().display().to_string(),
                 name: s.name.clone(),
                 n_states: spectrum.len(),
                 dim: s.dim,
+                timing,
                 observables,
             });
         }

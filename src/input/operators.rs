@@ -16,7 +16,7 @@ use std::path::Path;
 pub const HERMITIAN_TOL: f64 = 1e-10;
 
 /// Scalars an operator can hold: `f64` or [`c64`].
-trait Scalar: Copy + hdf5::H5Type + std::fmt::Display + 'static {
+trait Scalar: Copy + Send + Sync + hdf5::H5Type + std::fmt::Display + 'static {
     fn conj(self) -> Self;
     fn abs(self) -> f64;
     fn sub(self, o: Self) -> Self;
@@ -132,7 +132,7 @@ fn read_typed<T: Scalar>(
                 Some(o) if info.form == OperatorForm::EnergyBasis => {
                     Mat::from_fn(r, c, |a, b| v[o[a] * c + o[b]])
                 }
-                _ => Mat::from_fn(r, c, |i, j| v[i * c + j]),
+                _ => super::vectors::transpose_c_order(&v, r, c),
             };
             check_hermitian_dense(file, path, &m)?;
             if info.form == OperatorForm::Dense {

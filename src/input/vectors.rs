@@ -11,7 +11,7 @@ use super::h5::{self, Element};
 use super::{Layout, Sector};
 use crate::data::{c64, ColumnSource, Field, Matrix, Spectrum};
 use crate::error::{Error, Result};
-use faer::Mat;
+use faer::{Mat, MatMut};
 use ndarray::{s, Array2};
 use std::ops::Range;
 use std::path::{Path, PathBuf};
@@ -29,6 +29,7 @@ pub struct VectorReader {
     /// `order[k]` = file index of the k-th lowest state; `None` when sorted.
     order: Option<Vec<usize>>,
     chunk_states: Option<usize>,
+    piece_bytes: usize,
 }
 
 impl std::fmt::Debug for VectorReader {
@@ -92,6 +93,7 @@ impl VectorReader {
             element,
             order: (!spectrum.was_sorted()).then(|| spectrum.order.clone()),
             chunk_states,
+            piece_bytes: PIECE_BYTES,
         })
     }
 
@@ -109,6 +111,13 @@ impl VectorReader {
             Some(c) if c > 0 => (max_cols / c).max(1) * c,
             _ => max_cols,
         }
+    }
+
+    /// Sets the size in bytes of the pieces a chunked column-layout read is cut into
+    /// (rounded to whole chunks, at least one; default 16 MiB). Smaller pieces lower the
+    /// reader's transient memory, larger ones mean fewer HDF5 calls.
+    pub fn set_piece_bytes(&mut self, bytes: usize) {
+        self.piece_bytes = bytes;
     }
 
     /// Element type as stored.
@@ -133,12 +142,70 @@ impl VectorReader {
         }
     }
 
-    fn read_span_t<T: hdf5::H5Type + Copy + std::fmt::Display>(
+    fn read_span_t<T: hdf5::H5Type + Copy + Send + Sync + std::fmt::Display>(
         &self,
         a: usize,
         b: usize,
         finite: impl Fn(&T) -> bool,
     ) -> Result<Mat<T>> {
+        // Column layout of a chunked dataset: read chunk-aligned pieces (each piece a run
+        // of whole chunks, read straight into a small buffer) and transpose each into its
+        // columns of the result, so that no second full-size copy of the block exists.
+        if let (Layout::Columns, Some(c)) = (self.layout, self.chunk_states) {
+            if c > 0 && b - a > c {
+                let piece = c
+                    * (self.piece_bytes / (self.dim.max(1) * c * std::mem::size_of::<T>())).max(1);
+                let mut out: Option<Mat<T>> = None;
+                let mut s0 = a;
+                while s0 < b {
+                    let s1 = ((s0 / piece + 1) * piece).min(b);
+                    let arr = self.read_checked::<T>(s0, s1, &finite)?;
+                    let (rows, cols) = arr.dim();
+                    let m = out.get_or_insert_with(|| {
+                        let fill = arr[[0, 0]];
+                        Mat::from_fn(rows, b - a, |_, _| fill)
+                    });
+                    let dst = m.as_mut().subcols_mut(s0 - a, cols);
+                    match arr.as_slice() {
+                        Some(v) => transpose_into(v, rows, cols, dst),
+                        None => {
+                            let mut dst = dst;
+                            for j in 0..cols {
+                                for i in 0..rows {
+                                    dst[(i, j)] = arr[[i, j]];
+                                }
+                            }
+                        }
+                    }
+                    s0 = s1;
+                }
+                if let Some(m) = out {
+                    return Ok(m);
+                }
+            }
+        }
+        let arr = self.read_checked::<T>(a, b, &finite)?;
+        let (rows, cols) = arr.dim();
+        // A freshly read array is in standard (C) order; fall back to indexing otherwise.
+        let m = match (self.layout, arr.as_slice()) {
+            // C-order [dim, w]: entry (i, j) at i * w + j; cache-blocked transpose.
+            (Layout::Columns, Some(v)) => transpose_c_order(v, rows, cols),
+            // C-order [w, dim] is column-major [dim, w]: entry (i, j) at j * dim + i.
+            (Layout::Rows, Some(v)) => Mat::from_fn(cols, rows, |i, j| v[j * cols + i]),
+            (Layout::Columns, None) => Mat::from_fn(rows, cols, |i, j| arr[[i, j]]),
+            (Layout::Rows, None) => Mat::from_fn(cols, rows, |i, j| arr[[j, i]]),
+        };
+        Ok(m)
+    }
+
+    /// Reads the file's states `a..b` (`a < b`) as stored (`[dim, w]` or `[w, dim]`) and
+    /// checks that every value is finite.
+    fn read_checked<T: hdf5::H5Type + Copy + std::fmt::Display>(
+        &self,
+        a: usize,
+        b: usize,
+        finite: &impl Fn(&T) -> bool,
+    ) -> Result<Array2<T>> {
         let arr: Array2<T> = match self.layout {
             Layout::Columns => self.ds.read_slice_2d(s![.., a..b]),
             Layout::Rows => self.ds.read_slice_2d(s![a..b, ..]),
@@ -151,31 +218,82 @@ impl VectorReader {
                 e,
             )
         })?;
-        let (rows, cols) = arr.dim();
-        // Check values in storage order (fast), then copy.
-        if let Some((k, x)) = arr.iter().enumerate().find(|(_, x)| !finite(x)) {
-            let (r, c) = (k / cols.max(1), k % cols.max(1));
-            let (state, comp) = match self.layout {
-                Layout::Columns => (a + c, r),
-                Layout::Rows => (a + r, c),
-            };
-            return Err(Error::dataset(
-                &self.file,
-                &self.path,
-                format!("non-finite value {x} in component {comp} of the eigenvector of state {state} (file order)"),
-            ));
-        }
-        // A freshly read array is in standard (C) order; fall back to indexing otherwise.
-        let m = match (self.layout, arr.as_slice()) {
-            // C-order [dim, w]: entry (i, j) at i * w + j.
-            (Layout::Columns, Some(v)) => Mat::from_fn(rows, cols, |i, j| v[i * cols + j]),
-            // C-order [w, dim] is column-major [dim, w]: entry (i, j) at j * dim + i.
-            (Layout::Rows, Some(v)) => Mat::from_fn(cols, rows, |i, j| v[j * cols + i]),
-            (Layout::Columns, None) => Mat::from_fn(rows, cols, |i, j| arr[[i, j]]),
-            (Layout::Rows, None) => Mat::from_fn(cols, rows, |i, j| arr[[j, i]]),
+        let cols = arr.dim().1;
+        // Check values in storage order (fast path without early exit), then locate.
+        let all_finite = match arr.as_slice() {
+            Some(v) => v.iter().fold(true, |ok, x| ok & finite(x)),
+            None => arr.iter().all(finite),
         };
-        Ok(m)
+        if !all_finite {
+            if let Some((k, x)) = arr.iter().enumerate().find(|(_, x)| !finite(x)) {
+                let (r, c) = (k / cols.max(1), k % cols.max(1));
+                let (state, comp) = match self.layout {
+                    Layout::Columns => (a + c, r),
+                    Layout::Rows => (a + r, c),
+                };
+                return Err(Error::dataset(
+                    &self.file,
+                    &self.path,
+                    format!("non-finite value {x} in component {comp} of the eigenvector of state {state} (file order)"),
+                ));
+            }
+        }
+        Ok(arr)
     }
+}
+
+/// Default bytes per piece of a chunked column-layout read (rounded to whole chunks).
+const PIECE_BYTES: usize = 16 << 20;
+
+/// Column-major `rows × cols` matrix of a C-order (row-major) slice `v` (a transpose
+/// of the storage order); see [`transpose_into`].
+pub(crate) fn transpose_c_order<T: Copy + Send + Sync>(
+    v: &[T],
+    rows: usize,
+    cols: usize,
+) -> Mat<T> {
+    let Some(&fill) = v.first() else {
+        // empty: the closure is never called
+        return Mat::from_fn(rows, cols, |i, j| v[i * cols + j]);
+    };
+    let mut m = Mat::from_fn(rows, cols, |_, _| fill);
+    transpose_into(v, rows, cols, m.as_mut());
+    m
+}
+
+/// Writes the C-order `rows × cols` slice `v` into `dst` (`rows × cols`), in tiles of
+/// 8 columns × 256 rows so that each source cache line is read once, parallel over
+/// strips of columns.
+fn transpose_into<T: Copy + Send + Sync>(v: &[T], rows: usize, cols: usize, dst: MatMut<'_, T>) {
+    use rayon::prelude::*;
+    const STRIP: usize = 8;
+    const ROWS: usize = 256;
+    dst.par_col_chunks_mut(STRIP)
+        .enumerate()
+        .for_each(|(s, mut strip)| {
+            let j0 = s * STRIP;
+            for i0 in (0..rows).step_by(ROWS) {
+                let i1 = (i0 + ROWS).min(rows);
+                for c in 0..strip.ncols() {
+                    let j = j0 + c;
+                    let col = strip.as_mut().col_mut(c);
+                    match col.try_as_col_major_mut() {
+                        Some(col) => {
+                            let d = &mut col.as_slice_mut()[i0..i1];
+                            for (d, i) in d.iter_mut().zip(i0..i1) {
+                                *d = v[i * cols + j];
+                            }
+                        }
+                        None => {
+                            let mut col = strip.as_mut().col_mut(c);
+                            for i in i0..i1 {
+                                col[i] = v[i * cols + j];
+                            }
+                        }
+                    }
+                }
+            }
+        });
 }
 
 /// Copies column `src_col` of `src` into column `dst_col` of `dst` (same field).
@@ -197,6 +315,10 @@ impl ColumnSource for VectorReader {
     }
     fn field(&self) -> Field {
         self.field
+    }
+    fn chunk_states(&self) -> Option<usize> {
+        // state indices are file indices only when the spectrum was stored sorted
+        self.chunk_states.filter(|_| self.order.is_none())
     }
     fn read(&self, range: Range<usize>) -> Result<Matrix> {
         if range.start > range.end || range.end > self.n {
