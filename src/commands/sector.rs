@@ -123,10 +123,19 @@ pub fn analyse_sector(
     }
     let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
     let n = spectrum.len();
-    let diags = project::project_diagonal(src.as_ref(), &refs, 0..n, &settings.project)
-        .map_err(in_sector)?;
     let range = settings.window.indices(&spectrum.energies);
     let label = settings.window.label();
+    // Aₙₙ of every state feeds the thermal predictions; for dense operators whose all-state
+    // projection would be expensive, only the window is projected (see
+    // `project::auto_prediction_states`) and the canonical prediction is left out.
+    let policy = project::auto_prediction_states(&refs, sector.dim.unwrap_or(n), n);
+    let diag_range = match policy {
+        project::PredictionStates::All => 0..n,
+        project::PredictionStates::Window => range.clone(),
+    };
+    let diags =
+        project::project_diagonal(src.as_ref(), &refs, diag_range.clone(), &settings.project)
+            .map_err(in_sector)?;
 
     // Off-diagonal accumulators, all observables in one pass over the eigenvectors.
     let mut accs = Vec::with_capacity(ops.len());
@@ -166,14 +175,24 @@ pub fn analyse_sector(
 
     let mut observables = Vec::with_capacity(ops.len());
     for (k, (((name, _), d), acc)) in ops.iter().zip(&diags).zip(accs).enumerate() {
-        let diagonal = diagonal::analyse(
-            name,
-            &spectrum.energies,
-            d,
-            range.clone(),
-            &label,
-            sector.dim,
-        )
+        let diagonal = match policy {
+            project::PredictionStates::All => diagonal::analyse(
+                name,
+                &spectrum.energies,
+                d,
+                range.clone(),
+                &label,
+                sector.dim,
+            ),
+            project::PredictionStates::Window => diagonal::analyse_window(
+                name,
+                &spectrum.energies,
+                d,
+                range.clone(),
+                &label,
+                sector.dim,
+            ),
+        }
         .map_err(in_sector)?;
         let offdiagonal = match acc.map(Accumulator::finish) {
             Some(Ok(r)) => Some(r),
@@ -183,7 +202,7 @@ pub fn analyse_sector(
             }
             None => None,
         };
-        let window_values = &d[range.clone()];
+        let window_values = &d[range.start - diag_range.start..range.end - diag_range.start];
         let diffs: Vec<f64> = window_values.windows(2).map(|w| w[1] - w[0]).collect();
         let block = default_block_length(diffs.len());
         let (_, e_abs) = block_bootstrap(&diffs, mean_abs, block, RESAMPLES, DEFAULT_SEED);
@@ -226,8 +245,7 @@ pub fn analyse_sector(
             },
             diagonal_vanishes: vanishes,
             low_omega_vanishes,
-            points: spectrum
-                .energies
+            points: spectrum.energies[diag_range.clone()]
                 .iter()
                 .copied()
                 .zip(d.iter().copied())

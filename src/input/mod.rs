@@ -222,8 +222,42 @@ fn open_h5(path: &Path) -> Result<hdf5::File> {
     if let Err(e) = std::fs::File::open(path) {
         return Err(Error::file(path, format!("cannot read: {e}")));
     }
-    hdf5::File::open(path)
-        .map_err(|_| Error::file(path, "not an HDF5 file (the HDF5 library cannot open it)"))
+    hdf5::File::open(path).map_err(|e| {
+        if has_hdf5_signature(path) {
+            Error::file(
+                path,
+                format!(
+                    "the HDF5 library cannot open this HDF5 file ({e}); if another program holds \
+                     it open for writing, wait for it to finish (or set HDF5_USE_FILE_LOCKING=FALSE)"
+                ),
+            )
+        } else {
+            Error::file(path, "not an HDF5 file (the HDF5 library cannot open it)")
+        }
+    })
+}
+
+/// True when the HDF5 format signature `\x89HDF\r\n\x1a\n` stands at offset 0, 512, 1024,
+/// 2048, ... (the places the format allows, after a user block).
+fn has_hdf5_signature(path: &Path) -> bool {
+    use std::io::{Read, Seek, SeekFrom};
+    const SIG: [u8; 8] = [0x89, b'H', b'D', b'F', b'\r', b'\n', 0x1a, b'\n'];
+    let Ok(mut f) = std::fs::File::open(path) else {
+        return false;
+    };
+    let len = f.metadata().map(|m| m.len()).unwrap_or(0);
+    let mut offset = 0u64;
+    while offset + 8 <= len {
+        let mut buf = [0u8; 8];
+        if f.seek(SeekFrom::Start(offset)).is_err() || f.read_exact(&mut buf).is_err() {
+            return false;
+        }
+        if buf == SIG {
+            return true;
+        }
+        offset = if offset == 0 { 512 } else { offset * 2 };
+    }
+    false
 }
 
 impl EigenFile {

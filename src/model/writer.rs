@@ -105,10 +105,17 @@ impl Ctx<'_> {
 
 fn write_all(tmp: &Path, final_path: &Path, sectors: &[SectorData]) -> Result<()> {
     let ctx = Ctx { file: final_path };
-    let file = hdf5::File::create(tmp).map_err(|e| Error::file(final_path, e.to_string()))?;
+    // Strong close degree: closing the file closes every object still open in it and
+    // flushes, so the file is complete on disk before it is renamed and read elsewhere.
+    let file = hdf5::File::with_options()
+        .with_fapl(|p| p.fclose_degree(hdf5::file::FileCloseDegree::Strong))
+        .create(tmp)
+        .map_err(|e| Error::file(final_path, e.to_string()))?;
     for s in sectors {
         write_sector(&ctx, &file, s)?;
     }
+    file.flush()
+        .map_err(|e| Error::file(final_path, e.to_string()))?;
     file.close()
         .map_err(|e| Error::file(final_path, e.to_string()))?;
     Ok(())
