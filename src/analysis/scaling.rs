@@ -751,7 +751,7 @@ fn fluctuation_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Crite
         return Criterion {
             name,
             outcome: Outcome::Unclear,
-            reason: "no fluctuation exponent (needs two or more sizes)".into(),
+            reason: "no fluctuation exponent (needs two or more sizes with non-vanishing fluctuations)".into(),
         };
     };
     let head = format!(
