@@ -751,7 +751,9 @@ fn fluctuation_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Crite
         return Criterion {
             name,
             outcome: Outcome::Unclear,
-            reason: "no fluctuation exponent (needs two or more sizes with non-vanishing fluctuations)".into(),
+            reason:
+                "no fluctuation exponent (needs two or more sizes with non-vanishing fluctuations)"
+                    .into(),
         };
     };
     let head = format!(
