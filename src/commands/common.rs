@@ -112,3 +112,14 @@ impl InputArgs {
             .collect()
     }
 }
+
+/// Observables and projector memory of the matrix-element subcommands.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct ObservableArgs {
+    /// Observable to analyse (repeatable); default: every observable of the sector.
+    #[arg(long = "observable", value_name = "NAME")]
+    pub observables: Vec<String>,
+    /// Working-memory budget of the projector, e.g. 6G or 512M (default: half the machine's memory).
+    #[arg(long, value_name = "SIZE")]
+    pub memory: Option<String>,
+}

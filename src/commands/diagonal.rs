@@ -37,12 +37,9 @@ pub struct Args {
     /// Sector, window (default 0.4:0.6) and output format.
     #[command(flatten)]
     pub select: SelectArgs,
-    /// Observable to analyse (repeatable); default: every observable of the sector.
-    #[arg(long = "observable", value_name = "NAME")]
-    pub observables: Vec<String>,
-    /// Working-memory budget of the projector, e.g. 6G or 512M (default: half the machine's memory).
-    #[arg(long, value_name = "SIZE")]
-    pub memory: Option<String>,
+    /// Observables and projector memory.
+    #[command(flatten)]
+    pub ops: crate::commands::common::ObservableArgs,
     /// States whose A_nn feed the thermal predictions: all, window, or auto (all, except
     /// for dense observables whose all-state projection would exceed 2e11 flops).
     #[arg(long, value_name = "all|window|auto", default_value = "auto")]
@@ -163,7 +160,7 @@ pub(crate) fn load_sector(
 
 /// Runs the diagonal analysis on every selected file, sector and observable.
 pub fn compute(args: &Args) -> Result<Report> {
-    let opts = ProjectOptions::from_memory_arg(args.memory.as_deref())?;
+    let opts = ProjectOptions::from_memory_arg(args.ops.memory.as_deref())?;
     let wspec: WindowSpec = args.select.window_spec(Window::MATRIX_ELEMENTS)?;
     let policy = parse_predictions(&args.predictions)?;
     let files = args.input.open()?;
@@ -174,7 +171,7 @@ pub fn compute(args: &Args) -> Result<Report> {
             let mut timing = Timing::default();
             let in_sector = |e: Error| Error::dataset(f.path(), s.group.clone(), e.to_string());
             let spectrum = f.spectrum(s)?;
-            let (ops, src) = load_sector(f, s, &args.observables, &spectrum)?;
+            let (ops, src) = load_sector(f, s, &args.ops.observables, &spectrum)?;
             let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
             let n = spectrum.len();
             let range = wspec.indices(&spectrum.energies);

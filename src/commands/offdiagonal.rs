@@ -25,15 +25,12 @@ pub struct Args {
     /// Sector, window (default 0.4:0.6) and output format.
     #[command(flatten)]
     pub select: SelectArgs,
-    /// Observable to analyse (repeatable); default: every observable of the sector.
-    #[arg(long = "observable", value_name = "NAME")]
-    pub observables: Vec<String>,
+    /// Observables and projector memory.
+    #[command(flatten)]
+    pub ops: crate::commands::common::ObservableArgs,
     /// Frequency cut of the low-ω statistics (default: 10 mean level spacings of the window).
     #[arg(long, value_name = "W")]
     pub omega_max: Option<f64>,
-    /// Working-memory budget of the projector, e.g. 6G or 512M (default: half the machine's memory).
-    #[arg(long, value_name = "SIZE")]
-    pub memory: Option<String>,
 }
 
 /// Off-diagonal results of one sector.
@@ -64,7 +61,7 @@ pub struct Report {
 
 /// Runs the off-diagonal analysis on every selected file, sector and observable.
 pub fn compute(args: &Args) -> Result<Report> {
-    let opts = ProjectOptions::from_memory_arg(args.memory.as_deref())?;
+    let opts = ProjectOptions::from_memory_arg(args.ops.memory.as_deref())?;
     let wspec: WindowSpec = args.select.window_spec(Window::MATRIX_ELEMENTS)?;
     let aopts = OffdiagonalOptions {
         omega_max: args.omega_max,
@@ -77,7 +74,7 @@ pub fn compute(args: &Args) -> Result<Report> {
             let mut timing = Timing::default();
             let in_sector = |e: Error| Error::dataset(f.path(), s.group.clone(), e.to_string());
             let spectrum = f.spectrum(s)?;
-            let (ops, src) = load_sector(f, s, &args.observables, &spectrum)?;
+            let (ops, src) = load_sector(f, s, &args.ops.observables, &spectrum)?;
             let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
             let range = wspec.indices(&spectrum.energies);
             let label = wspec.label();
