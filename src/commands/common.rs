@@ -123,3 +123,32 @@ pub struct ObservableArgs {
     #[arg(long, value_name = "SIZE")]
     pub memory: Option<String>,
 }
+
+/// Results of one sector of a matrix-element subcommand (`diagonal`, `offdiagonal`).
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct SectorReport<T> {
+    /// The file.
+    pub file: String,
+    /// Sector name.
+    pub name: String,
+    /// Number of stored states.
+    pub n_states: usize,
+    /// Hilbert-space dimension, when eigenvectors are stored.
+    pub dim: Option<usize>,
+    /// States whose `Aₙₙ` fed the thermal predictions (`all` or `window`; `diagonal` only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub prediction_states: Option<crate::project::PredictionStates>,
+    /// Seconds per stage.
+    pub timing: crate::commands::diagonal::Timing,
+    /// One result per observable.
+    pub observables: Vec<T>,
+}
+
+/// JSON document of a matrix-element subcommand.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct Report<T> {
+    /// Projector memory budget in bytes.
+    pub memory_budget: usize,
+    /// All sectors of all files.
+    pub sectors: Vec<SectorReport<T>>,
+}

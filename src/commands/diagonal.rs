@@ -91,33 +91,11 @@ fn parse_predictions(s: &str) -> Result<Option<project::PredictionStates>> {
     }
 }
 
-/// Diagonal results of one sector.
-#[derive(Debug, Clone, Serialize)]
-pub struct SectorReport {
-    /// The file.
-    pub file: String,
-    /// Sector name.
-    pub name: String,
-    /// Number of stored states.
-    pub n_states: usize,
-    /// Hilbert-space dimension, when eigenvectors are stored.
-    pub dim: Option<usize>,
-    /// States whose `Aₙₙ` fed the predictions (`all` or `window`).
-    pub prediction_states: project::PredictionStates,
-    /// Seconds per stage.
-    pub timing: Timing,
-    /// One result per observable.
-    pub observables: Vec<DiagonalResult>,
-}
+/// Results of one sector of this command.
+pub type SectorReport = crate::commands::common::SectorReport<DiagonalResult>;
 
-/// JSON document of `eigentherm diagonal`.
-#[derive(Debug, Clone, Serialize)]
-pub struct Report {
-    /// Projector memory budget in bytes.
-    pub memory_budget: usize,
-    /// All sectors of all files.
-    pub sectors: Vec<SectorReport>,
-}
+/// JSON document of this command.
+pub type Report = crate::commands::common::Report<DiagonalResult>;
 
 /// Named operators of a sector with the column source they need.
 pub(crate) type SectorOperators = (Vec<(String, Operator)>, Box<dyn ColumnSource>);
@@ -218,7 +196,7 @@ pub fn compute(args: &Args) -> Result<Report> {
                 name: s.name.clone(),
                 n_states: n,
                 dim: s.dim,
-                prediction_states: which,
+                prediction_states: Some(which),
                 timing,
                 observables,
             });
@@ -250,7 +228,7 @@ pub fn render_text(r: &Report) -> String {
         let _ = writeln!(
             t,
             "  predictions from {} states; time: read {:.2} s (waited), project {:.2} s, analyse {:.2} s",
-            match s.prediction_states {
+            match s.prediction_states.unwrap_or(project::PredictionStates::All) {
                 project::PredictionStates::All => "all",
                 project::PredictionStates::Window => "the window's",
             },

@@ -13,7 +13,6 @@ use crate::data::Operator;
 use crate::error::{Error, Result};
 use crate::project::{self, ProjectOptions};
 use crate::window::{Window, WindowSpec};
-use serde::Serialize;
 use std::time::Instant;
 
 /// Options of `eigentherm offdiagonal`.
@@ -33,31 +32,11 @@ pub struct Args {
     pub omega_max: Option<f64>,
 }
 
-/// Off-diagonal results of one sector.
-#[derive(Debug, Clone, Serialize)]
-pub struct SectorReport {
-    /// The file.
-    pub file: String,
-    /// Sector name.
-    pub name: String,
-    /// Number of stored states.
-    pub n_states: usize,
-    /// Hilbert-space dimension, when eigenvectors are stored.
-    pub dim: Option<usize>,
-    /// Seconds per stage (`analyse_seconds` includes the per-block accumulation).
-    pub timing: Timing,
-    /// One result per observable.
-    pub observables: Vec<OffdiagonalResult>,
-}
+/// Results of one sector of this command.
+pub type SectorReport = crate::commands::common::SectorReport<OffdiagonalResult>;
 
-/// JSON document of `eigentherm offdiagonal`.
-#[derive(Debug, Clone, Serialize)]
-pub struct Report {
-    /// Projector memory budget in bytes.
-    pub memory_budget: usize,
-    /// All sectors of all files.
-    pub sectors: Vec<SectorReport>,
-}
+/// JSON document of this command.
+pub type Report = crate::commands::common::Report<OffdiagonalResult>;
 
 /// Runs the off-diagonal analysis on every selected file, sector and observable.
 pub fn compute(args: &Args) -> Result<Report> {
@@ -115,6 +94,7 @@ pub fn compute(args: &Args) -> Result<Report> {
                 name: s.name.clone(),
                 n_states: spectrum.len(),
                 dim: s.dim,
+                prediction_states: None,
                 timing,
                 observables,
             });
