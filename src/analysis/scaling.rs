@@ -690,11 +690,7 @@ fn level_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
         .iter()
         .max_by(|a, b| a.dimension.total_cmp(&b.dimension))
     else {
-        return Criterion {
-            name,
-            outcome: Outcome::Unclear,
-            reason: "no level statistics".into(),
-        };
+        return crit(name, Outcome::Unclear, "no level statistics");
     };
     let smallest = pts
         .iter()
@@ -706,18 +702,18 @@ fn level_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
         largest.mean_r, largest.dimension, e_l
     );
     if e_l >= t.level_chaotic {
-        return Criterion {
+        return crit(
             name,
-            outcome: Outcome::Pass,
-            reason: format!("{head} >= {}", t.level_chaotic),
-        };
+            Outcome::Pass,
+            format!("{head} >= {}", t.level_chaotic),
+        );
     }
     if e_l <= t.level_poisson {
-        return Criterion {
+        return crit(
             name,
-            outcome: Outcome::Fail,
-            reason: format!("{head} <= {}", t.level_poisson),
-        };
+            Outcome::Fail,
+            format!("{head} <= {}", t.level_poisson),
+        );
     }
     if smallest.dimension < largest.dimension {
         let e_s = eta(smallest.mean_r);
@@ -725,36 +721,39 @@ fn level_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
         let err = (smallest.stderr.powi(2) + largest.stderr.powi(2)).sqrt() / span;
         let err = if err.is_finite() { err } else { 0.0 };
         if drop > t.level_drift && drop > t.sigmas * err {
-            return Criterion {
-                name,
-                outcome: Outcome::Fail,
-                reason: format!(
+            return crit(name, Outcome::Fail, format!(
                     "{head}, falling from {:.2} at D = {} (by {:.2} > {} and > {} x {:.2}): flows towards Poisson",
                     e_s, smallest.dimension, drop, t.level_drift, t.sigmas, err
-                ),
-            };
+                ));
         }
     }
-    Criterion {
+    crit(
         name,
-        outcome: Outcome::Unclear,
-        reason: format!(
+        Outcome::Unclear,
+        format!(
             "{head}, between {} and {}",
             t.level_poisson, t.level_chaotic
         ),
+    )
+}
+
+/// A criterion with its outcome and reason.
+fn crit(name: &'static str, outcome: Outcome, reason: impl Into<String>) -> Criterion {
+    Criterion {
+        name,
+        outcome,
+        reason: reason.into(),
     }
 }
 
 fn fluctuation_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
     let name = "fluctuations";
     let Some(f) = inputs.fluctuation else {
-        return Criterion {
+        return crit(
             name,
-            outcome: Outcome::Unclear,
-            reason:
-                "no fluctuation exponent (needs two or more sizes with non-vanishing fluctuations)"
-                    .into(),
-        };
+            Outcome::Unclear,
+            "no fluctuation exponent (needs two or more sizes with non-vanishing fluctuations)",
+        );
     };
     let head = format!(
         "alpha = {:.3} +- {:.3} (ETH: {})",
@@ -763,65 +762,57 @@ fn fluctuation_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Crite
     if !(f.alpha.is_finite() && f.stderr.is_finite())
         || f.stderr > t.exponent_max_rel_err * f.expected
     {
-        return Criterion {
+        return crit(
             name,
-            outcome: Outcome::Unclear,
-            reason: format!(
+            Outcome::Unclear,
+            format!(
                 "{head}: error larger than {} x {}",
                 t.exponent_max_rel_err, f.expected
             ),
-        };
+        );
     }
     let upper = f.alpha + t.sigmas * f.stderr;
     if upper >= t.exponent_pass * f.expected {
-        Criterion {
+        crit(
             name,
-            outcome: Outcome::Pass,
-            reason: format!(
+            Outcome::Pass,
+            format!(
                 "{head}: alpha + {}sigma = {upper:.3} >= {} x {}",
                 t.sigmas, t.exponent_pass, f.expected
             ),
-        }
+        )
     } else if upper < t.exponent_fail * f.expected {
-        Criterion {
-            name,
-            outcome: Outcome::Fail,
-            reason: format!(
+        crit(name, Outcome::Fail, format!(
                 "{head}: alpha + {}sigma = {upper:.3} < {} x {}: fluctuations do not decay like ETH",
                 t.sigmas, t.exponent_fail, f.expected
-            ),
-        }
+            ))
     } else {
-        Criterion {
+        crit(
             name,
-            outcome: Outcome::Unclear,
-            reason: format!(
+            Outcome::Unclear,
+            format!(
                 "{head}: alpha + {}sigma = {upper:.3} between {} and {} x {}",
                 t.sigmas, t.exponent_fail, t.exponent_pass, f.expected
             ),
-        }
+        )
     }
 }
 
 fn canonical_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
     let name = "canonical";
     let Some(c) = inputs.canonical else {
-        return Criterion {
-            name,
-            outcome: Outcome::Unclear,
-            reason: "no canonical comparison".into(),
-        };
+        return crit(name, Outcome::Unclear, "no canonical comparison");
     };
     let rel = c.deviation.abs() / c.scale;
     if !rel.is_finite() {
-        return Criterion {
+        return crit(
             name,
-            outcome: Outcome::Unclear,
-            reason: format!(
+            Outcome::Unclear,
+            format!(
                 "relative deviation {} / {} is not a number",
                 c.deviation, c.scale
             ),
-        };
+        );
     }
     let head = format!(
         "|A - A_can| / scale = {:.3e} / {:.3e} = {:.3}",
@@ -830,48 +821,44 @@ fn canonical_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criteri
         rel
     );
     if rel <= t.canonical_pass {
-        Criterion {
+        crit(
             name,
-            outcome: Outcome::Pass,
-            reason: format!("{head} <= {}", t.canonical_pass),
-        }
+            Outcome::Pass,
+            format!("{head} <= {}", t.canonical_pass),
+        )
     } else if rel > t.canonical_fail {
-        Criterion {
+        crit(
             name,
-            outcome: Outcome::Fail,
-            reason: format!("{head} > {}", t.canonical_fail),
-        }
+            Outcome::Fail,
+            format!("{head} > {}", t.canonical_fail),
+        )
     } else {
-        Criterion {
+        crit(
             name,
-            outcome: Outcome::Unclear,
-            reason: format!(
+            Outcome::Unclear,
+            format!(
                 "{head}, between {} and {}",
                 t.canonical_pass, t.canonical_fail
             ),
-        }
+        )
     }
 }
 
 fn ratio_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
     let name = "low_omega_ratio";
     let Some(r) = inputs.low_omega_ratio else {
-        return Criterion {
-            name,
-            outcome: Outcome::Unclear,
-            reason: "no low-omega ratio".into(),
-        };
+        return crit(name, Outcome::Unclear, "no low-omega ratio");
     };
     let rho0 = match inputs.symmetry {
         Symmetry::Real => 2.0,
         Symmetry::Complex => 1.0,
     };
     if !r.ratio.is_finite() {
-        return Criterion {
+        return crit(
             name,
-            outcome: Outcome::Unclear,
-            reason: format!("ratio {} is not a number", r.ratio),
-        };
+            Outcome::Unclear,
+            format!("ratio {} is not a number", r.ratio),
+        );
     }
     let sig = if r.stderr.is_finite() { r.stderr } else { 0.0 };
     let dev = (r.ratio - rho0).abs();
@@ -882,23 +869,15 @@ fn ratio_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Criterion {
     let pass_band = (t.sigmas * sig).max(t.ratio_pass * rho0);
     let fail_band = t.ratio_fail * rho0 + t.sigmas * sig;
     if dev <= pass_band {
-        Criterion {
-            name,
-            outcome: Outcome::Pass,
-            reason: format!("{head} <= {pass_band:.3}"),
-        }
+        crit(name, Outcome::Pass, format!("{head} <= {pass_band:.3}"))
     } else if dev > fail_band {
-        Criterion {
-            name,
-            outcome: Outcome::Fail,
-            reason: format!("{head} > {fail_band:.3}"),
-        }
+        crit(name, Outcome::Fail, format!("{head} > {fail_band:.3}"))
     } else {
-        Criterion {
+        crit(
             name,
-            outcome: Outcome::Unclear,
-            reason: format!("{head} between {pass_band:.3} and {fail_band:.3}"),
-        }
+            Outcome::Unclear,
+            format!("{head} between {pass_band:.3} and {fail_band:.3}"),
+        )
     }
 }
 
