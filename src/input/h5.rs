@@ -111,15 +111,14 @@ fn classify(desc: &TypeDescriptor) -> Option<Element> {
     }
 }
 
-/// Reads a string attribute `name` of `loc` (variable or fixed length, ASCII or UTF-8).
-/// `Ok(None)` when the attribute does not exist.
-pub fn attr_string(
+/// Opens attribute `name` of `loc` with its type and the path used in errors
+/// (`"{path} (attribute {name})"`); `Ok(None)` when the attribute does not exist.
+fn open_attr(
     file: &Path,
     path: &str,
     loc: &hdf5::Location,
     name: &str,
-) -> Result<Option<String>> {
-    use hdf5::types::{FixedAscii, FixedUnicode, VarLenAscii, VarLenUnicode};
+) -> Result<Option<(hdf5::Attribute, TypeDescriptor, String)>> {
     if !loc.attr_names().is_ok_and(|n| n.iter().any(|a| a == name)) {
         return Ok(None);
     }
@@ -131,6 +130,21 @@ pub fn attr_string(
         .dtype()
         .and_then(|t| t.to_descriptor())
         .map_err(|e| h5err(file, &apath, "unreadable type", e))?;
+    Ok(Some((attr, desc, apath)))
+}
+
+/// Reads a string attribute `name` of `loc` (variable or fixed length, ASCII or UTF-8).
+/// `Ok(None)` when the attribute does not exist.
+pub fn attr_string(
+    file: &Path,
+    path: &str,
+    loc: &hdf5::Location,
+    name: &str,
+) -> Result<Option<String>> {
+    use hdf5::types::{FixedAscii, FixedUnicode, VarLenAscii, VarLenUnicode};
+    let Some((attr, desc, apath)) = open_attr(file, path, loc, name)? else {
+        return Ok(None);
+    };
     if attr.size() != 1 {
         return Err(Error::dataset(
             file,
@@ -198,17 +212,9 @@ pub fn attr_counts(
     loc: &hdf5::Location,
     name: &str,
 ) -> Result<Option<Vec<usize>>> {
-    if !loc.attr_names().is_ok_and(|n| n.iter().any(|a| a == name)) {
+    let Some((attr, desc, apath)) = open_attr(file, path, loc, name)? else {
         return Ok(None);
-    }
-    let apath = format!("{path} (attribute {name})");
-    let attr = loc
-        .attr(name)
-        .map_err(|e| h5err(file, &apath, "cannot open", e))?;
-    let desc = attr
-        .dtype()
-        .and_then(|t| t.to_descriptor())
-        .map_err(|e| h5err(file, &apath, "unreadable type", e))?;
+    };
     let read = |e: hdf5::Error| h5err(file, &apath, "cannot read", e);
     let bad = |v: String| {
         Error::dataset(
