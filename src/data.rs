@@ -266,6 +266,14 @@ pub trait ColumnSource: Sync {
     fn field(&self) -> Field;
     /// Reads the eigenvectors of the states `range` as the columns of a `[dim, range.len()]` matrix.
     fn read(&self, range: Range<usize>) -> crate::error::Result<Matrix>;
+    /// Reads the states `range` into `out`, reusing its storage when it already is a
+    /// `[dim, range.len()]` matrix of the right field (the default reads a new one).
+    /// Streaming passes hand back consumed blocks this way, so that a long pass does
+    /// not touch fresh memory for every block.
+    fn read_into(&self, range: Range<usize>, out: &mut Matrix) -> crate::error::Result<()> {
+        *out = self.read(range)?;
+        Ok(())
+    }
     /// Chunk extent of the storage along the state axis, when reads aligned to its
     /// multiples are cheaper (chunked HDF5 datasets); `None` by default.
     fn chunk_states(&self) -> Option<usize> {

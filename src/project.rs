@@ -28,7 +28,11 @@
 //! one is multiplied, one product buffer `A V_J` per observable allocated once, the
 //! blocks of results); the block size is the largest `b` that fits the budget. With a
 //! chunked file the block width is a multiple of the chunk extent and the cuts fall on
-//! chunk boundaries.
+//! chunk boundaries. Consumed blocks go back to the reader thread, which refills them
+//! in place: a long pass touches fresh memory for a few blocks only (first-touch page
+//! faults cost as much as the read itself on some virtual machines). The diagonal
+//! pass ([`project_diagonal`]) needs no `b²` term and gains nothing from wide blocks,
+//! so its blocks are also kept near [`DIAG_BLOCK_BYTES`].
 //!
 //! **Products.** Dense: `faer::linalg::matmul::matmul` with `Par::rayon(0)` into the
 //! preallocated buffers. CSR: `y = A x` row by row for each eigenvector column,
@@ -569,7 +573,10 @@ impl Elem for c64 {
         Matrix::Complex(m)
     }
     fn from_matrix(m: Matrix) -> Result<Mat<c64>> {
-        Ok(m.to_complex())
+        match m {
+            Matrix::Complex(m) => Ok(m),
+            real => Ok(real.to_complex()),
+        }
     }
     fn from_op(op: &Operator) -> Result<Cow<'_, OpData<c64>>> {
         Ok(match op {
@@ -747,9 +754,21 @@ fn expectation<T: Elem>(op: &OpData<T>, x: &[T]) -> Option<f64> {
     }
 }
 
-/// Reads columns `r` and checks their shape and element type.
-fn read_block<T: Elem>(src: &dyn ColumnSource, r: Range<usize>) -> Result<Mat<T>> {
-    let m = src.read(r.clone())?;
+/// Reads columns `r` and checks their shape and element type, refilling `spare` when
+/// it has the block's shape (no fresh memory) and reading a new matrix otherwise.
+fn read_block<T: Elem>(
+    src: &dyn ColumnSource,
+    r: Range<usize>,
+    spare: Option<Mat<T>>,
+) -> Result<Mat<T>> {
+    let m = match spare {
+        Some(s) if s.nrows() == src.dim() && s.ncols() == r.len() => {
+            let mut m = T::wrap(s);
+            src.read_into(r.clone(), &mut m)?;
+            m
+        }
+        _ => src.read(r.clone())?,
+    };
     if m.nrows() != src.dim() || m.ncols() != r.len() {
         return Err(Error::other(format!(
             "eigenvector reader returned a {}×{} block for states {}..{} (expected {}×{})",
@@ -806,26 +825,62 @@ pub struct StageTiming {
     pub blocks: usize,
 }
 
-/// Runs `body` with a function that returns the blocks `reads` in order, read ahead by
+/// Eigenvector blocks handed out in order by [`with_prefetch`]: read ahead by one block
+/// on a reader thread; blocks given back with [`Fetch::recycle`] are refilled by the
+/// reader instead of new ones being allocated.
+struct Fetch<T> {
+    rx: std::sync::mpsc::Receiver<Result<Mat<T>>>,
+    back: std::sync::mpsc::Sender<Mat<T>>,
+    wait: f64,
+}
+
+impl<T: Elem> Fetch<T> {
+    /// The next block (waiting for the reader when it is not ready yet).
+    fn next(&mut self) -> Result<Mat<T>> {
+        let t = std::time::Instant::now();
+        let m = self
+            .rx
+            .recv()
+            .map_err(|_| Error::other("internal: the eigenvector reader stopped early"))?;
+        self.wait += t.elapsed().as_secs_f64();
+        m
+    }
+
+    /// Gives a consumed block back to the reader for reuse.
+    fn recycle(&self, m: Mat<T>) {
+        // the reader may have finished; then the block is simply dropped
+        let _ = self.back.send(m);
+    }
+}
+
+/// Runs `body` with a [`Fetch`] that returns the blocks `reads` in order, read ahead by
 /// one block on a separate thread (a rendezvous channel: at most one finished block
 /// waits while the consumer works). Accumulates the waiting and reading times.
 fn with_prefetch<T: Elem, R>(
     src: &dyn ColumnSource,
     reads: Vec<Range<usize>>,
     timing: &mut StageTiming,
-    body: impl FnOnce(&mut dyn FnMut() -> Result<Mat<T>>) -> Result<R>,
+    body: impl FnOnce(&mut Fetch<T>) -> Result<R>,
 ) -> Result<R> {
-    if reads.is_empty() {
-        let mut none = || Err(Error::other("internal: no eigenvector block to read"));
-        return body(&mut none);
-    }
     let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Mat<T>>>(0);
+    let (back, back_rx) = std::sync::mpsc::channel::<Mat<T>>();
+    let mut fetch = Fetch {
+        rx,
+        back,
+        wait: 0.0,
+    };
+    if reads.is_empty() {
+        drop(tx);
+        return body(&mut fetch);
+    }
     std::thread::scope(|scope| {
         let reader = scope.spawn(move || {
             let mut busy = 0.0;
             for r in reads {
+                // keep one given-back block (the latest), free any others
+                let spare = back_rx.try_iter().last();
                 let t = std::time::Instant::now();
-                let m = read_block::<T>(src, r);
+                let m = read_block::<T>(src, r, spare);
                 busy += t.elapsed().as_secs_f64();
                 let failed = m.is_err();
                 if tx.send(m).is_err() || failed {
@@ -834,17 +889,9 @@ fn with_prefetch<T: Elem, R>(
             }
             busy
         });
-        let mut wait = 0.0;
-        let mut next = || -> Result<Mat<T>> {
-            let t = std::time::Instant::now();
-            let m = rx
-                .recv()
-                .map_err(|_| Error::other("internal: the eigenvector reader stopped early"))?;
-            wait += t.elapsed().as_secs_f64();
-            m
-        };
-        let out = body(&mut next);
-        drop(rx);
+        let out = body(&mut fetch);
+        let wait = fetch.wait;
+        drop(fetch);
         timing.read_wait_seconds += wait;
         timing.read_seconds += reader.join().unwrap_or(0.0);
         out
@@ -892,9 +939,13 @@ fn stream<T: Elem>(
     let pb = crate::progress::bar((k * (k + 1) / 2) as u64, "projecting");
     let mut project_s = 0.0;
     let mut sink_s = 0.0;
-    with_prefetch::<T, ()>(src, reads, timing, |next| {
+    with_prefetch::<T, ()>(src, reads, timing, |fetch| {
         for (jb, cj) in bl.iter().enumerate() {
-            let vj = if needs_vectors { Some(next()?) } else { None };
+            let vj = if needs_vectors {
+                Some(fetch.next()?)
+            } else {
+                None
+            };
             let t = std::time::Instant::now();
             if let Some(vj) = &vj {
                 for (op, buf) in ops.iter().zip(bufs.iter_mut()) {
@@ -903,14 +954,14 @@ fn stream<T: Elem>(
             }
             project_s += t.elapsed().as_secs_f64();
             for ri in bl.iter().take(jb + 1) {
-                let vi_owned;
+                let mut vi_owned: Option<Mat<T>> = None;
                 let vi: Option<&Mat<T>> = if !needs_vectors {
                     None
                 } else if ri == cj {
                     vj.as_ref()
                 } else {
-                    vi_owned = next()?;
-                    Some(&vi_owned)
+                    vi_owned = Some(fetch.next()?);
+                    vi_owned.as_ref()
                 };
                 let t = std::time::Instant::now();
                 let mut elements = Vec::with_capacity(ops.len());
@@ -936,6 +987,9 @@ fn stream<T: Elem>(
                     elements.push(T::wrap(m));
                 }
                 project_s += t.elapsed().as_secs_f64();
+                if let Some(m) = vi_owned.take() {
+                    fetch.recycle(m);
+                }
                 let t = std::time::Instant::now();
                 sink(&BlockPair {
                     rows: ri.clone(),
@@ -945,6 +999,9 @@ fn stream<T: Elem>(
                 sink_s += t.elapsed().as_secs_f64();
                 pb.inc(1);
             }
+            if let Some(m) = vj {
+                fetch.recycle(m);
+            }
         }
         Ok(())
     })?;
@@ -953,6 +1010,10 @@ fn stream<T: Elem>(
     pb.finish_and_clear();
     Ok(())
 }
+
+/// Eigenvector bytes per block of the diagonal pass ([`project_diagonal`]) when no
+/// block size is forced: 64 MiB.
+pub const DIAG_BLOCK_BYTES: usize = 64 << 20;
 
 fn diag_stream<T: Elem>(
     src: &dyn ColumnSource,
@@ -974,7 +1035,17 @@ fn diag_stream<T: Elem>(
         .iter()
         .filter(|o| matches!(o.as_ref(), OpData::Dense(_)))
         .count();
-    let b = block_size(range.len(), n_dense, dim, std::mem::size_of::<T>(), opts);
+    let elem = std::mem::size_of::<T>();
+    let mut b = block_size(range.len(), n_dense, dim, elem, opts);
+    if opts.block.is_none() {
+        // Only diagonal elements are formed, so a wider block saves no work: keep
+        // blocks near DIAG_BLOCK_BYTES (at least one chunk), whose memory the reader
+        // then refills, instead of one huge block of fresh memory.
+        let cap = (DIAG_BLOCK_BYTES / (dim.max(1) * elem))
+            .max(src.chunk_states().unwrap_or(1))
+            .max(1);
+        b = b.min(cap);
+    }
     let bl = blocks(
         &range,
         b,
@@ -995,9 +1066,13 @@ fn diag_stream<T: Elem>(
     };
     let pb = crate::progress::bar(bl.len() as u64, "diagonal");
     let mut project_s = 0.0;
-    with_prefetch::<T, ()>(src, reads, timing, |next| {
+    with_prefetch::<T, ()>(src, reads, timing, |fetch| {
         for r in &bl {
-            let v = if needs_vectors { Some(next()?) } else { None };
+            let v = if needs_vectors {
+                Some(fetch.next()?)
+            } else {
+                None
+            };
             let t = std::time::Instant::now();
             for (op, o) in ops.iter().zip(out.iter_mut()) {
                 match (op.as_ref(), &v) {
@@ -1028,6 +1103,9 @@ fn diag_stream<T: Elem>(
                 }
             }
             project_s += t.elapsed().as_secs_f64();
+            if let Some(m) = v {
+                fetch.recycle(m);
+            }
             pb.inc(1);
         }
         Ok(())

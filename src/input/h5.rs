@@ -362,6 +362,138 @@ pub fn format_shape(shape: &[usize]) -> String {
     )
 }
 
+/// Bytes of the temporary buffer a slab read of [`read_transposed`] uses (about; at
+/// least one chunk row or column).
+pub const SLAB_BYTES: usize = 32 << 20;
+
+/// Reads a whole 2-D dataset `X` of shape `[r, c]` (C order) as its transpose: a
+/// column-major `c × r` matrix `M` with `M[j, i] = X[i, j]`, so that column `i` of `M`
+/// is row `i` of `X`, copied as one contiguous run.
+///
+/// The dataset is read in slabs of about `slab_bytes` ([`SLAB_BYTES`] by default) that
+/// never cut a chunk: row
+/// slabs `X[i₀..i₁, :]` (each a contiguous block of `M`) when a row of chunks fits the
+/// slab size, otherwise column slabs `X[:, j₀..j₁]` on chunk boundaries, whose rows
+/// land in `M` as runs of `j₁ − j₀` entries. Every chunk is read once, no copy of the
+/// whole dataset in file order is made, and every value is checked with `finite`
+/// (the first bad one is reported with its `[i, j]` index).
+///
+/// For a Hermitian operator `A` stored in C order, `M = Aᵀ = conj(A)`: the real
+/// symmetric case needs no transposition at all.
+pub fn read_transposed<T>(
+    file: &Path,
+    path: &str,
+    ds: &hdf5::Dataset,
+    slab_bytes: usize,
+    finite: impl Fn(&T) -> bool,
+) -> Result<faer::Mat<T>>
+where
+    T: hdf5::H5Type + Copy + Default + Send + Sync + std::fmt::Display,
+{
+    let shape = ds.shape();
+    let (r, c) = match shape.as_slice() {
+        [r, c] => (*r, *c),
+        _ => {
+            return Err(Error::dataset(
+                file,
+                path,
+                format!(
+                    "expected a 2-D dataset, found shape {}",
+                    format_shape(&shape)
+                ),
+            ))
+        }
+    };
+    let elem = std::mem::size_of::<T>().max(1);
+    let (cr, cc) = match ds.chunk().as_deref() {
+        Some([a, b]) => ((*a).max(1), (*b).max(1)),
+        _ => (1, c.max(1)),
+    };
+    let mut m = faer::Mat::from_fn(c, r, |_, _| T::default());
+    let check = |block: &ndarray::Array2<T>, i0: usize, j0: usize| -> Result<()> {
+        let w = block.ncols().max(1);
+        let bad = match block.as_slice() {
+            Some(v) if v.iter().fold(true, |ok, x| ok & finite(x)) => None,
+            _ => block.iter().position(|x| !finite(x)),
+        };
+        match bad {
+            None => Ok(()),
+            Some(k) => Err(Error::dataset(
+                file,
+                path,
+                format!(
+                    "non-finite value {} at index [{}, {}]",
+                    block
+                        .iter()
+                        .nth(k)
+                        .map(|x| x.to_string())
+                        .unwrap_or_default(),
+                    i0 + k / w,
+                    j0 + k % w
+                ),
+            )),
+        }
+    };
+    let read = |sel: (std::ops::Range<usize>, std::ops::Range<usize>)| {
+        let (a, b) = sel;
+        ds.read_slice_2d::<T, _>(ndarray::s![a.clone(), b.clone()])
+            .map_err(|e| {
+                h5err(
+                    file,
+                    path,
+                    &format!(
+                        "cannot read [{}..{}, {}..{}]",
+                        a.start, a.end, b.start, b.end
+                    ),
+                    e,
+                )
+            })
+    };
+    if r == 0 || c == 0 {
+        return Ok(m);
+    }
+    if cr * c * elem <= slab_bytes || cc >= c {
+        // row slabs: X[i0..i1, :] is, in C order, exactly the columns i0..i1 of M
+        let step = cr * (slab_bytes / (cr * c * elem)).max(1);
+        let mut i0 = 0;
+        while i0 < r {
+            let i1 = (i0 + step).min(r);
+            let block = read((i0..i1, 0..c))?;
+            check(&block, i0, 0)?;
+            for (k, row) in block.rows().into_iter().enumerate() {
+                for (d, &x) in m.col_as_slice_mut(i0 + k).iter_mut().zip(row.iter()) {
+                    *d = x;
+                }
+            }
+            i0 = i1;
+        }
+    } else {
+        // column slabs on chunk boundaries: row i of X[:, j0..j1] is M[j0..j1, i]
+        let step = cc * (slab_bytes / (cc * r * elem)).max(1);
+        let mut j0 = 0;
+        while j0 < c {
+            let j1 = (j0 + step).min(c);
+            let block = read((0..r, j0..j1))?;
+            check(&block, 0, j0)?;
+            use rayon::prelude::*;
+            m.as_mut()
+                .par_col_chunks_mut(64)
+                .enumerate()
+                .for_each(|(g, mut cols)| {
+                    for k in 0..cols.ncols() {
+                        let row = block.row(g * 64 + k);
+                        let mut col = cols.as_mut().col_mut(k);
+                        for (t, &x) in row.iter().enumerate() {
+                            col[j0 + t] = x;
+                        }
+                    }
+                });
+            j0 = j1;
+        }
+    }
+    Ok(m)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -371,5 +503,100 @@ mod tests {
         // common practice, no source: C (row-major) order of HDF5 datasets
         assert_eq!(format_index(&[3, 4], 7), "[1, 3]");
         assert_eq!(format_shape(&[100, 7]), "[100, 7]");
+    }
+
+    /// A scratch HDF5 file path unique to this test process and `tag`.
+    fn scratch(tag: &str) -> std::path::PathBuf {
+        std::env::temp_dir().join(format!("eigentherm-h5-{}-{tag}.h5", std::process::id()))
+    }
+
+    fn write_2d<T: hdf5::H5Type>(
+        path: &Path,
+        x: &ndarray::Array2<T>,
+        chunk: Option<(usize, usize)>,
+    ) -> hdf5::Result<()> {
+        let f = hdf5::File::create(path)?;
+        let b = f.new_dataset_builder();
+        match chunk {
+            Some(c) => b.chunk(c).with_data(x).create("x")?,
+            None => b.with_data(x).create("x")?,
+        };
+        Ok(())
+    }
+
+    #[test]
+    fn transposed_reads_are_exact_for_every_slab_direction() {
+        // exact identity, no source needed: M[j, i] = X[i, j] is a copy, so equality is
+        // bitwise; contiguous, row-chunked, column-chunked and tiled storage, with slab
+        // sizes that force one slab per chunk row/column and one slab for everything.
+        let (r, c) = (37, 53);
+        let x = ndarray::Array2::from_shape_fn((r, c), |(i, j)| (i * 1000 + j) as f64 + 0.25);
+        let z = ndarray::Array2::from_shape_fn((r, c), |(i, j)| c64::new(i as f64, -(j as f64)));
+        for (k, chunk) in [None, Some((r, 8)), Some((5, c)), Some((6, 7))]
+            .into_iter()
+            .enumerate()
+        {
+            let p = scratch(&format!("t{k}"));
+            write_2d(&p, &x, chunk).unwrap();
+            let pz = scratch(&format!("z{k}"));
+            write_2d(&pz, &z, chunk).unwrap();
+            for slab in [1usize, 4096, SLAB_BYTES] {
+                let f = hdf5::File::open(&p).unwrap();
+                let m = read_transposed::<f64>(&p, "/x", &f.dataset("x").unwrap(), slab, |v| {
+                    v.is_finite()
+                })
+                .unwrap();
+                assert_eq!((m.nrows(), m.ncols()), (c, r));
+                for i in 0..r {
+                    for j in 0..c {
+                        assert_eq!(
+                            m[(j, i)],
+                            x[[i, j]],
+                            "chunk {chunk:?} slab {slab} [{i}, {j}]"
+                        );
+                    }
+                }
+                let fz = hdf5::File::open(&pz).unwrap();
+                let mz =
+                    read_transposed::<c64>(&pz, "/x", &fz.dataset("x").unwrap(), slab, |_| true)
+                        .unwrap();
+                for i in 0..r {
+                    for j in 0..c {
+                        assert_eq!(
+                            mz[(j, i)],
+                            z[[i, j]],
+                            "complex, chunk {chunk:?} slab {slab}"
+                        );
+                    }
+                }
+            }
+            let _ = std::fs::remove_file(&p);
+            let _ = std::fs::remove_file(&pz);
+        }
+    }
+
+    #[test]
+    fn transposed_reads_name_the_first_non_finite_entry() {
+        // common practice, no source: bad values are reported by their [i, j] index
+        let (r, c) = (20, 30);
+        let mut x = ndarray::Array2::from_elem((r, c), 1.0f64);
+        x[[13, 17]] = f64::NAN;
+        for (k, chunk) in [None, Some((r, 4))].into_iter().enumerate() {
+            let p = scratch(&format!("nan{k}"));
+            write_2d(&p, &x, chunk).unwrap();
+            let f = hdf5::File::open(&p).unwrap();
+            for slab in [1usize, SLAB_BYTES] {
+                let e = read_transposed::<f64>(&p, "/x", &f.dataset("x").unwrap(), slab, |v| {
+                    v.is_finite()
+                })
+                .unwrap_err()
+                .to_string();
+                assert!(
+                    e.contains("/x") && e.contains("[13, 17]") && e.contains("NaN"),
+                    "{e}"
+                );
+            }
+            let _ = std::fs::remove_file(&p);
+        }
     }
 }

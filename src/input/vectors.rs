@@ -142,12 +142,28 @@ impl VectorReader {
         }
     }
 
-    fn read_span_t<T: hdf5::H5Type + Copy + Send + Sync + std::fmt::Display>(
+    fn read_span_t<T: hdf5::H5Type + Copy + Default + Send + Sync + std::fmt::Display>(
         &self,
         a: usize,
         b: usize,
         finite: impl Fn(&T) -> bool,
     ) -> Result<Mat<T>> {
+        let mut m = Mat::from_fn(self.dim, b - a, |_, _| T::default());
+        self.read_span_into(a, b, m.as_mut(), finite)?;
+        Ok(m)
+    }
+
+    /// Reads the file's states `a..b` into `dst` (`dim × (b − a)`).
+    fn read_span_into<T: hdf5::H5Type + Copy + Send + Sync + std::fmt::Display>(
+        &self,
+        a: usize,
+        b: usize,
+        mut dst: MatMut<'_, T>,
+        finite: impl Fn(&T) -> bool,
+    ) -> Result<()> {
+        if b <= a {
+            return Ok(());
+        }
         // Column layout of a chunked dataset: read chunk-aligned pieces (each piece a run
         // of whole chunks, read straight into a small buffer) and transpose each into its
         // columns of the result, so that no second full-size copy of the block exists.
@@ -155,47 +171,19 @@ impl VectorReader {
             if c > 0 && b - a > c {
                 let piece = c
                     * (self.piece_bytes / (self.dim.max(1) * c * std::mem::size_of::<T>())).max(1);
-                let mut out: Option<Mat<T>> = None;
                 let mut s0 = a;
                 while s0 < b {
                     let s1 = ((s0 / piece + 1) * piece).min(b);
                     let arr = self.read_checked::<T>(s0, s1, &finite)?;
-                    let (rows, cols) = arr.dim();
-                    let m = out.get_or_insert_with(|| {
-                        let fill = arr[[0, 0]];
-                        Mat::from_fn(rows, b - a, |_, _| fill)
-                    });
-                    let dst = m.as_mut().subcols_mut(s0 - a, cols);
-                    match arr.as_slice() {
-                        Some(v) => transpose_into(v, rows, cols, dst),
-                        None => {
-                            let mut dst = dst;
-                            for j in 0..cols {
-                                for i in 0..rows {
-                                    dst[(i, j)] = arr[[i, j]];
-                                }
-                            }
-                        }
-                    }
+                    put_block(&arr, self.layout, dst.as_mut().subcols_mut(s0 - a, s1 - s0));
                     s0 = s1;
                 }
-                if let Some(m) = out {
-                    return Ok(m);
-                }
+                return Ok(());
             }
         }
         let arr = self.read_checked::<T>(a, b, &finite)?;
-        let (rows, cols) = arr.dim();
-        // A freshly read array is in standard (C) order; fall back to indexing otherwise.
-        let m = match (self.layout, arr.as_slice()) {
-            // C-order [dim, w]: entry (i, j) at i * w + j; cache-blocked transpose.
-            (Layout::Columns, Some(v)) => transpose_c_order(v, rows, cols),
-            // C-order [w, dim] is column-major [dim, w]: entry (i, j) at j * dim + i.
-            (Layout::Rows, Some(v)) => Mat::from_fn(cols, rows, |i, j| v[j * cols + i]),
-            (Layout::Columns, None) => Mat::from_fn(rows, cols, |i, j| arr[[i, j]]),
-            (Layout::Rows, None) => Mat::from_fn(cols, rows, |i, j| arr[[j, i]]),
-        };
-        Ok(m)
+        put_block(&arr, self.layout, dst);
+        Ok(())
     }
 
     /// Reads the file's states `a..b` (`a < b`) as stored (`[dim, w]` or `[w, dim]`) and
@@ -242,24 +230,41 @@ impl VectorReader {
     }
 }
 
+/// Copies a block read as stored (`[dim, w]` for the column layout, `[w, dim]` for
+/// the row layout) into the column-major `dim × w` destination.
+fn put_block<T: Copy + Send + Sync>(arr: &Array2<T>, layout: Layout, mut dst: MatMut<'_, T>) {
+    let (rows, cols) = arr.dim();
+    match (layout, arr.as_slice()) {
+        // C-order [dim, w]: entry (i, j) at i * w + j; cache-blocked transpose.
+        (Layout::Columns, Some(v)) => transpose_into(v, rows, cols, dst),
+        // C-order [w, dim] is column-major [dim, w]: column j is row j, one run.
+        (Layout::Rows, Some(_)) => {
+            for (j, row) in arr.rows().into_iter().enumerate() {
+                let mut col = dst.as_mut().col_mut(j);
+                for (i, &x) in row.iter().enumerate() {
+                    col[i] = x;
+                }
+            }
+        }
+        (Layout::Columns, None) => {
+            for j in 0..cols {
+                for i in 0..rows {
+                    dst[(i, j)] = arr[[i, j]];
+                }
+            }
+        }
+        (Layout::Rows, None) => {
+            for j in 0..rows {
+                for i in 0..cols {
+                    dst[(i, j)] = arr[[j, i]];
+                }
+            }
+        }
+    }
+}
+
 /// Default bytes per piece of a chunked column-layout read (rounded to whole chunks).
 const PIECE_BYTES: usize = 16 << 20;
-
-/// Column-major `rows × cols` matrix of a C-order (row-major) slice `v` (a transpose
-/// of the storage order); see [`transpose_into`].
-pub(crate) fn transpose_c_order<T: Copy + Send + Sync>(
-    v: &[T],
-    rows: usize,
-    cols: usize,
-) -> Mat<T> {
-    let Some(&fill) = v.first() else {
-        // empty: the closure is never called
-        return Mat::from_fn(rows, cols, |i, j| v[i * cols + j]);
-    };
-    let mut m = Mat::from_fn(rows, cols, |_, _| fill);
-    transpose_into(v, rows, cols, m.as_mut());
-    m
-}
 
 /// Writes the C-order `rows × cols` slice `v` into `dst` (`rows × cols`), in tiles of
 /// 8 columns × 256 rows so that each source cache line is read once, parallel over
@@ -319,6 +324,28 @@ impl ColumnSource for VectorReader {
     fn chunk_states(&self) -> Option<usize> {
         // state indices are file indices only when the spectrum was stored sorted
         self.chunk_states.filter(|_| self.order.is_none())
+    }
+    fn read_into(&self, range: Range<usize>, out: &mut Matrix) -> Result<()> {
+        let reusable = out.nrows() == self.dim
+            && out.ncols() == range.len()
+            && out.field() == self.field
+            && self.order.is_none()
+            && range.start <= range.end
+            && range.end <= self.n;
+        if !reusable {
+            *out = self.read(range)?;
+            return Ok(());
+        }
+        match out {
+            Matrix::Real(m) => {
+                self.read_span_into(range.start, range.end, m.as_mut(), |x: &f64| x.is_finite())
+            }
+            Matrix::Complex(m) => {
+                self.read_span_into(range.start, range.end, m.as_mut(), |x: &c64| {
+                    x.re.is_finite() && x.im.is_finite()
+                })
+            }
+        }
     }
     fn read(&self, range: Range<usize>) -> Result<Matrix> {
         if range.start > range.end || range.end > self.n {
