@@ -668,9 +668,10 @@ fn op_shape<T>(d: &OpData<T>) -> Result<(usize, usize)> {
     })
 }
 
-/// Columns per rayon task in the sparse and diagonal-operator products: each task
-/// reads the CSR arrays once for this many columns.
-const COLS_PER_TASK: usize = 4;
+/// Columns a sparse (CSR) product handles at once: they are interleaved so that the
+/// `GROUP` values `x_k` one stored entry `A_ik` multiplies share a cache line, and the
+/// CSR arrays are streamed once per group instead of once per column.
+const GROUP: usize = 8;
 
 /// `out = A V` for a block of eigenvectors `v` (`dim × w`) into the column-major
 /// buffer `out` (length `≥ dim·w`, columns of stride `dim`). Returns false for
@@ -700,57 +701,86 @@ fn apply_into<T: Elem>(op: &OpData<T>, v: &Mat<T>, out: &mut [T]) -> bool {
             true
         }
         OpData::Csr(s) => {
-            out.par_chunks_mut(dim * COLS_PER_TASK)
-                .enumerate()
-                .for_each(|(g, o)| {
-                    let j0 = g * COLS_PER_TASK;
-                    for (c, oc) in o.chunks_mut(dim).enumerate() {
-                        let x = v.col_as_slice(j0 + c);
-                        csr_matvec(s, x, oc);
-                    }
-                });
+            out.par_chunks_mut(dim * GROUP).enumerate().for_each_init(
+                || vec![T::zero(); dim * GROUP],
+                |x, (g, o)| {
+                    let cols: Vec<&[T]> = (g * GROUP..(g * GROUP + GROUP).min(w))
+                        .map(|j| v.col_as_slice(j))
+                        .collect();
+                    csr_apply_group(s, &cols, x, |i, acc| {
+                        for (c, oc) in o.chunks_mut(dim).enumerate() {
+                            oc[i] = acc[c];
+                        }
+                    });
+                },
+            );
             true
         }
         OpData::EnergyBasis(_) => false,
     }
 }
 
-/// `y = A x` for a CSR matrix (row by row; `x` one contiguous eigenvector).
+/// `y_c = A x_c` for up to [`GROUP`] columns `cols` (each a contiguous eigenvector) of
+/// a CSR matrix, row by row: `emit(i, y[i, ·])` receives row `i` of the results. The
+/// columns are first interleaved into `x` (row-major `dim × GROUP`), so the sums
+/// `y_ic = Σ_k A_ik x_kc` run over the stored entries of row `i` in storage order for
+/// all columns together (each column's sum is the same as a one-column product's).
 #[inline]
-fn csr_matvec<T: Elem>(s: &Csr<T>, x: &[T], y: &mut [T]) {
-    for (i, yi) in y.iter_mut().enumerate().take(s.nrows) {
-        let (lo, hi) = (s.indptr[i], s.indptr[i + 1]);
-        let mut acc = T::zero();
-        for (&a, &k) in s.data[lo..hi].iter().zip(&s.indices[lo..hi]) {
-            acc = acc.add(a.mul(x[k]));
+fn csr_apply_group<T: Elem>(
+    s: &Csr<T>,
+    cols: &[&[T]],
+    x: &mut [T],
+    mut emit: impl FnMut(usize, &[T; GROUP]),
+) {
+    let g = cols.len().min(GROUP);
+    for (c, col) in cols.iter().take(g).enumerate() {
+        for (k, &val) in col.iter().enumerate() {
+            x[k * GROUP + c] = val;
         }
-        *yi = acc;
+    }
+    for i in 0..s.nrows {
+        let (lo, hi) = (s.indptr[i], s.indptr[i + 1]);
+        let mut acc = [T::zero(); GROUP];
+        for (&a, &k) in s.data[lo..hi].iter().zip(&s.indices[lo..hi]) {
+            let xr = &x[k * GROUP..k * GROUP + GROUP];
+            for (acc, &xv) in acc.iter_mut().zip(xr) {
+                *acc = acc.add(a.mul(xv));
+            }
+        }
+        emit(i, &acc);
     }
 }
 
-/// `⟨v|A|v⟩` for one eigenvector without forming `A v` (diagonal and CSR operators).
-#[inline]
-fn expectation<T: Elem>(op: &OpData<T>, x: &[T]) -> Option<f64> {
+/// `⟨v_c|A|v_c⟩ = Σ_i conj(v_ic) (A v_c)_i` for the columns `cols` of a block, without
+/// storing `A v`: diagonal operators column by column, CSR operators [`GROUP`] columns
+/// at a time ([`csr_apply_group`]).
+fn expectations<T: Elem>(op: &OpData<T>, cols: &[&[T]], x: &mut Vec<T>) -> Vec<f64> {
     match op {
-        OpData::Diagonal(d) => Some(
-            x.iter()
-                .zip(d)
-                .map(|(&xi, &di)| xi.conj().mul(di.mul(xi)).re())
-                .sum(),
-        ),
         OpData::Csr(s) => {
-            let mut total = 0.0;
-            for (i, &xi) in x.iter().enumerate().take(s.nrows) {
-                let (lo, hi) = (s.indptr[i], s.indptr[i + 1]);
-                let mut acc = T::zero();
-                for (&a, &k) in s.data[lo..hi].iter().zip(&s.indices[lo..hi]) {
-                    acc = acc.add(a.mul(x[k]));
-                }
-                total += xi.conj().mul(acc).re();
+            let mut out = Vec::with_capacity(cols.len());
+            x.resize(s.ncols * GROUP, T::zero());
+            for group in cols.chunks(GROUP) {
+                let mut total = [0.0f64; GROUP];
+                csr_apply_group(s, group, x, |i, acc| {
+                    for (c, col) in group.iter().enumerate() {
+                        total[c] += col[i].conj().mul(acc[c]).re();
+                    }
+                });
+                out.extend_from_slice(&total[..group.len()]);
             }
-            Some(total)
+            out
         }
-        _ => None,
+        OpData::Diagonal(d) => cols
+            .iter()
+            .map(|col| {
+                col.iter()
+                    .zip(d)
+                    .map(|(&xi, &di)| xi.conj().mul(di.mul(xi)).re())
+                    .sum()
+            })
+            .collect(),
+        // dense and energy-basis operators are handled by the caller
+        _ => vec![f64::NAN; cols.len()],
     }
 }
 
@@ -1094,8 +1124,14 @@ fn diag_stream<T: Elem>(
                     }
                     (opd, Some(v)) => {
                         let d: Vec<f64> = (0..r.len())
-                            .into_par_iter()
-                            .map(|j| expectation(opd, v.col_as_slice(j)).unwrap_or(f64::NAN))
+                            .collect::<Vec<_>>()
+                            .par_chunks(GROUP)
+                            .map_init(Vec::new, |x, js| {
+                                let cols: Vec<&[T]> =
+                                    js.iter().map(|&j| v.col_as_slice(j)).collect();
+                                expectations(opd, &cols, x)
+                            })
+                            .flatten_iter()
                             .collect();
                         o.extend(d);
                     }
