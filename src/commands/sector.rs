@@ -133,10 +133,6 @@ pub fn analyse_sector(
         project::PredictionStates::All => 0..n,
         project::PredictionStates::Window => range.clone(),
     };
-    let diags =
-        project::project_diagonal(src.as_ref(), &refs, diag_range.clone(), &settings.project)
-            .map_err(in_sector)?;
-
     // Off-diagonal accumulators, all observables in one pass over the eigenvectors.
     let mut accs = Vec::with_capacity(ops.len());
     let mut notes: Vec<Vec<String>> = vec![Vec::new(); ops.len()];
@@ -155,7 +151,11 @@ pub fn analyse_sector(
             }
         }
     }
-    if accs.iter().any(Option::is_some) {
+    // The block pass over the window also yields the window's Aₙₙ (its diagonal blocks),
+    // so the diagonal pass then reads only the states outside the window.
+    let mut window_diag: Vec<Vec<f64>> = vec![vec![f64::NAN; range.len()]; ops.len()];
+    let block_pass = accs.iter().any(Option::is_some);
+    if block_pass {
         project::for_each_block(
             src.as_ref(),
             &refs,
@@ -167,11 +167,37 @@ pub fn analyse_sector(
                         a.add_block(blk, m)?;
                     }
                 }
+                if blk.is_diagonal() {
+                    let at = blk.rows.start - range.start;
+                    for (wd, m) in window_diag.iter_mut().zip(&blk.elements) {
+                        for i in 0..blk.rows.len() {
+                            wd[at + i] = m.get_c(i, i).re;
+                        }
+                    }
+                }
                 Ok(())
             },
         )
         .map_err(in_sector)?;
     }
+    let diagonal_pass = |r: std::ops::Range<usize>| {
+        if r.is_empty() {
+            return Ok(vec![Vec::new(); refs.len()]);
+        }
+        project::project_diagonal(src.as_ref(), &refs, r, &settings.project).map_err(in_sector)
+    };
+    let diags: Vec<Vec<f64>> = if block_pass {
+        let below = diagonal_pass(diag_range.start..range.start)?;
+        let above = diagonal_pass(range.end..diag_range.end)?;
+        below
+            .into_iter()
+            .zip(window_diag)
+            .zip(above)
+            .map(|((b, w), a)| [b, w, a].concat())
+            .collect()
+    } else {
+        diagonal_pass(diag_range.clone())?
+    };
 
     let mut observables = Vec::with_capacity(ops.len());
     for (k, (((name, _), d), acc)) in ops.iter().zip(&diags).zip(accs).enumerate() {
