@@ -535,14 +535,20 @@ fn quench_figures(quench: &[QuenchStudy]) -> Vec<Named> {
                 format!(" ({fam})")
             };
             let o = &big.overall;
+            // the values in the labels tell close lines apart (their labels are stacked in
+            // the order of the values)
+            let value = crate::report::table::format_value;
             let mut fig = Figure::new("t (ħ / energy unit)", format!("⟨{}(t)⟩", q.observable))
                 .legend(Legend::UpperRight)
-                .reference(o.diagonal_ensemble, "diagonal ensemble");
+                .reference(
+                    o.diagonal_ensemble,
+                    format!("diagonal ensemble {}", value(o.diagonal_ensemble)),
+                );
             if let Some(m) = o.microcanonical {
-                fig = fig.reference(m, "microcanonical");
+                fig = fig.reference(m, format!("microcanonical {}", value(m)));
             }
             if let Some(c) = o.canonical {
-                fig = fig.reference(c, "canonical");
+                fig = fig.reference(c, format!("canonical {}", value(c)));
             }
             for (k, r) in runs.iter().enumerate() {
                 fig = fig.series(
