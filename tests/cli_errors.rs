@@ -191,3 +191,53 @@ fn good_file_verifies_and_prints_json() {
         }
     }
 }
+
+#[test]
+fn bad_unfolding_options_are_one_line_usage_errors() {
+    fails_with(
+        &["levels", "fixtures/good.h5", "--unfold", "spline:3"],
+        "--unfold spline:3: unknown unfolding 'spline:3': expected poly:D, kernel:K or kernel-energy:SIGMA",
+    );
+    fails_with(
+        &["levels", "fixtures/good.h5", "--unfold", "kernel:-2"],
+        "--unfold kernel:-2: kernel width (in mean spacings) '-2' must be a positive number",
+    );
+    fails_with(
+        &[
+            "levels",
+            "fixtures/good.h5",
+            "--unfold",
+            "poly:3",
+            "--unfold-degree",
+            "3",
+        ],
+        "--unfold and --unfold-degree both given: use one (--unfold-degree D is --unfold poly:D)",
+    );
+}
+
+#[test]
+fn levels_reports_the_unfolding_used() {
+    // our own option syntax and JSON keys (common practice, no source)
+    let spec = |args: &[&str]| -> Vec<String> {
+        let mut full = vec!["levels", "fixtures/good.h5", "--sector", "chain", "--json"];
+        full.extend(args);
+        let (code, out, err) = run(&full);
+        assert_eq!(code, Some(0), "{err}");
+        let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+        v["sectors"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|s| s["unfolding"]["spec"].as_str().unwrap().to_string())
+            .collect()
+    };
+    // 16 levels in the window: the degree is lowered to n/10 = 1 whatever is asked
+    assert_eq!(spec(&[]), ["poly:1"]);
+    assert_eq!(spec(&["--unfold-degree", "3"]), ["poly:1"]);
+    assert_eq!(spec(&["--unfold", "kernel:6"]), ["kernel:6"]);
+    assert_eq!(spec(&["--unfold", "kernel"]), ["kernel:32"]);
+    assert_eq!(
+        spec(&["--unfold", "kernel-energy:0.25"]),
+        ["kernel-energy:0.25"]
+    );
+}

@@ -510,3 +510,295 @@ fn json_has_the_stable_keys_and_text_states_references() {
         assert!(text.contains(want), "text lacks {want}:\n{text}");
     }
 }
+
+// ---- kernel (density-of-states) unfolding ----
+
+use eigentherm::analysis::levels::{unfold, UnfoldMethod};
+
+fn kernel_opts(k: f64) -> LevelOptions {
+    LevelOptions {
+        unfold: UnfoldMethod::Kernel { spacings: k },
+        ..LevelOptions::default()
+    }
+}
+
+/// 20000 independent levels with the exponential density e^(−E) (E = −ln(1 − u), u uniform):
+/// Poisson statistics on a density that falls by a factor 3 across the window 0.25:0.75.
+fn poisson_exponential(seed: u64) -> Vec<f64> {
+    use rand::Rng;
+    let mut rng = rmt::rng(seed);
+    let mut e: Vec<f64> = (0..20000)
+        .map(|_| -(1.0 - rng.random::<f64>()).ln())
+        .collect();
+    e.sort_by(f64::total_cmp);
+    e
+}
+
+/// 20000 independent levels with the semicircle density ∝ √(1 − E²) (rejection sampling).
+fn poisson_semicircle(seed: u64) -> Vec<f64> {
+    use rand::Rng;
+    let mut rng = rmt::rng(seed);
+    let mut e: Vec<f64> = (0..20000)
+        .map(|_| loop {
+            let x = 2.0 * rng.random::<f64>() - 1.0;
+            let y: f64 = rng.random();
+            if x * x + y * y <= 1.0 {
+                break x;
+            }
+        })
+        .collect();
+    e.sort_by(f64::total_cmp);
+    e
+}
+
+#[test]
+fn kernel_unfolded_goe_is_wigner_with_unit_spacing_and_the_same_ratio() {
+    let e = goe_levels(2000, 11);
+    let r = analyze(&e, &default_window(), &kernel_opts(32.0)).unwrap();
+    eprintln!(
+        "GOE 2000, kernel: mean spacing {} KS P {} GOE {} GUE {}",
+        r.unfolding.mean_unfolded_spacing, r.ks_poisson, r.ks_goe, r.ks_gue
+    );
+    // common practice, no source: N̄ follows the staircase, so the unfolded levels of the
+    // window span (nearly) as many units as there are spacings; GOE staircases fluctuate by
+    // O(log n) levels (Mehta 2004), so 1 % over 1000 spacings is ample
+    assert!(
+        (r.unfolding.mean_unfolded_spacing - 1.0).abs() < 0.01,
+        "{}",
+        r.unfolding.mean_unfolded_spacing
+    );
+    assert_eq!(r.unfolding.negative_spacings, 0);
+    // Atas et al., PRL 110, 084101 (2013): ⟨r̃⟩ needs no unfolding, so it is the same number
+    // whatever the unfolding, and it is the GOE value 0.5307 within its error
+    assert_eq!(r.mean_r, goe_2000().mean_r);
+    assert_eq!(r.mean_r_stderr, goe_2000().mean_r_stderr);
+    assert!(
+        (r.mean_r - 0.5307).abs() < 3.0 * r.mean_r_stderr,
+        "{}",
+        r.mean_r
+    );
+    // Mehta (2004): GOE spacings follow the Wigner surmise; KS noise for 1000 spacings ≈ 0.045
+    assert!(r.ks_goe < 0.05, "KS to GOE {}", r.ks_goe);
+    assert!(r.ks_goe < r.ks_poisson / 3.0);
+    assert_eq!(r.nearest_ensemble, Ensemble::Goe);
+    assert!(r.warnings.is_empty(), "{:?}", r.warnings);
+}
+
+#[test]
+fn kernel_unfolds_dense_goe_matrix_spectra() {
+    // the GOE matrix of src/model/rmt.rs, diagonalised densely (dimension 1000, window of 500)
+    let mut rng = rmt::rng(21);
+    let e = eigvalsh_real(rmt::goe(1000, &mut rng).as_ref()).unwrap();
+    for m in [
+        UnfoldMethod::Kernel { spacings: 32.0 },
+        UnfoldMethod::Kernel { spacings: 8.0 },
+        // fixed width: 8 mean spacings of the window
+        UnfoldMethod::KernelEnergy {
+            sigma: 8.0 * (e[750] - e[250]) / 500.0,
+        },
+    ] {
+        let o = LevelOptions {
+            unfold: m,
+            ..LevelOptions::default()
+        };
+        let r = analyze(&e, &default_window(), &o).unwrap();
+        eprintln!(
+            "dense GOE 1000, {m}: mean spacing {} KS P {} GOE {}",
+            r.unfolding.mean_unfolded_spacing, r.ks_poisson, r.ks_goe
+        );
+        // common practice, no source: unit mean unfolded spacing (see above)
+        assert!(
+            (r.unfolding.mean_unfolded_spacing - 1.0).abs() < 0.02,
+            "{m}"
+        );
+        // Mehta (2004): Wigner surmise; the 99 % KS quantile for 500 spacings is 1.63/√500 ≈ 0.073
+        assert!(r.ks_goe < 0.073, "{m}: KS to GOE {}", r.ks_goe);
+        assert!(r.ks_goe < r.ks_poisson / 3.0, "{m}");
+        assert_eq!(r.nearest_ensemble, Ensemble::Goe, "{m}");
+        // Atas et al. (2013): GOE ⟨r̃⟩ = 0.5307, with no unfolding involved
+        assert!(
+            (r.mean_r - 0.5307).abs() < 3.0 * r.mean_r_stderr,
+            "{}",
+            r.mean_r
+        );
+    }
+}
+
+#[test]
+fn kernel_unfolds_poisson_levels_on_a_varying_density_to_exponential_spacings() {
+    for (name, e) in [
+        ("exponential", poisson_exponential(41)),
+        ("semicircle", poisson_semicircle(42)),
+    ] {
+        let r = analyze(&e, &default_window(), &kernel_opts(32.0)).unwrap();
+        eprintln!(
+            "Poisson on a {name} density, kernel: mean spacing {} KS P {} GOE {} <r> {} ± {}",
+            r.unfolding.mean_unfolded_spacing, r.ks_poisson, r.ks_goe, r.mean_r, r.mean_r_stderr
+        );
+        // common practice, no source: unit mean unfolded spacing; the Poisson staircase
+        // fluctuates by ~√n levels over n, i.e. ~1 % over the 10⁴ spacings of the window
+        assert!(
+            (r.unfolding.mean_unfolded_spacing - 1.0).abs() < 0.03,
+            "{name}: {}",
+            r.unfolding.mean_unfolded_spacing
+        );
+        // Mehta (2004): uncorrelated levels have P(s) = e^(−s). KS noise for 10⁴ spacings is
+        // ≈ 0.009 (mean) to 0.016 (99 %); a kernel of 32 spacings adds ≈ 0.003 (measured,
+        // see the unfold module documentation)
+        assert!(
+            r.ks_poisson < 0.02,
+            "{name}: KS to Poisson {}",
+            r.ks_poisson
+        );
+        assert!(r.ks_poisson < r.ks_goe / 5.0, "{name}");
+        assert_eq!(r.nearest_ensemble, Ensemble::Poisson, "{name}");
+        // Atas et al. (2013): Poisson ⟨r̃⟩ = 2 ln 2 − 1 whatever the density
+        let want = 2.0 * std::f64::consts::LN_2 - 1.0;
+        assert!(
+            (r.mean_r - want).abs() < 3.0 * r.mean_r_stderr,
+            "{name}: {}",
+            r.mean_r
+        );
+    }
+}
+
+#[test]
+fn kernel_follows_the_local_density() {
+    // common practice, no source: after unfolding, the mean spacing is 1 everywhere in the
+    // window, although the raw mean spacing grows by a factor 3 across it (exponential
+    // density e^(−E): the quantiles 0.25 and 0.75 have densities 0.75 and 0.25), and by a
+    // factor ≈ 2 between the first and the last third (densities ≈ 2/3 and 1/3 there)
+    let e = poisson_exponential(43);
+    let range = 5000..15000;
+    let (u, info) =
+        unfold::unfold(&e, range.clone(), UnfoldMethod::Kernel { spacings: 32.0 }).unwrap();
+    assert_eq!(u.len(), 10000);
+    assert_eq!(info.negative_spacings, 0);
+    let third = |v: &[f64], k: usize| -> f64 {
+        let s: Vec<f64> = v.windows(2).map(|w| w[1] - w[0]).collect();
+        let t = s.len() / 3;
+        s[k * t..(k + 1) * t].iter().sum::<f64>() / t as f64
+    };
+    let raw = &e[range];
+    let raw_ratio = third(raw, 2) / third(raw, 0);
+    assert!(raw_ratio > 1.8 && raw_ratio < 2.2, "raw ratio {raw_ratio}");
+    // the mean of ~3300 exponential spacings has a standard error of ≈ 0.017: 4 σ
+    for k in 0..3 {
+        let m = third(&u, k);
+        assert!(
+            (m - 1.0).abs() < 0.07,
+            "third {k}: mean unfolded spacing {m}"
+        );
+    }
+    // the polynomial does the same on this smooth density
+    let (p, _) = unfold::unfold(&e, 5000..15000, UnfoldMethod::Polynomial { degree: 5 }).unwrap();
+    for k in 0..3 {
+        let m = third(&p, k);
+        assert!((m - 1.0).abs() < 0.07, "poly third {k}: {m}");
+    }
+}
+
+#[test]
+fn both_unfoldings_agree_on_the_nearest_ensemble() {
+    // Mehta (2004): each spectrum is nearest to its own ensemble's spacing law, whichever
+    // way it is unfolded; ⟨r̃⟩ and its class do not depend on the unfolding (Atas et al. 2013)
+    let cases = [
+        ("GOE", goe_levels(2000, 11), Ensemble::Goe),
+        ("GUE", beta_hermite_levels(2000, 2.0, 12), Ensemble::Gue),
+        ("Poisson exp", poisson_exponential(44), Ensemble::Poisson),
+        (
+            "Poisson semicircle",
+            poisson_semicircle(45),
+            Ensemble::Poisson,
+        ),
+    ];
+    for (name, e, want) in cases {
+        let poly = analyze(&e, &default_window(), &LevelOptions::default()).unwrap();
+        let kern = analyze(&e, &default_window(), &kernel_opts(32.0)).unwrap();
+        eprintln!(
+            "{name}: poly KS {:.4} {:.4} {:.4}, kernel KS {:.4} {:.4} {:.4}",
+            poly.ks_poisson, poly.ks_goe, poly.ks_gue, kern.ks_poisson, kern.ks_goe, kern.ks_gue
+        );
+        assert_eq!(poly.nearest_ensemble, want, "{name} poly");
+        assert_eq!(kern.nearest_ensemble, want, "{name} kernel");
+        assert_eq!(poly.mean_r, kern.mean_r, "{name}");
+        assert_eq!(poly.ratio_class.nearest, kern.ratio_class.nearest, "{name}");
+        assert_eq!(poly.unfolding.spec, "poly:5");
+        assert_eq!(kern.unfolding.spec, "kernel:32");
+    }
+}
+
+#[test]
+fn unfolding_json_names_method_and_parameters() {
+    // DESIGN.md: keys are added, none renamed (common practice, no source)
+    let e = goe_levels(400, 8);
+    let poly = analyze(&e, &default_window(), &LevelOptions::default()).unwrap();
+    let kern = analyze(&e, &default_window(), &kernel_opts(6.0)).unwrap();
+    let fixed = analyze(
+        &e,
+        &default_window(),
+        &LevelOptions {
+            unfold: UnfoldMethod::KernelEnergy { sigma: 0.5 },
+            ..LevelOptions::default()
+        },
+    )
+    .unwrap();
+    let p = serde_json::to_value(&poly.unfolding).unwrap();
+    let k = serde_json::to_value(&kern.unfolding).unwrap();
+    let f = serde_json::to_value(&fixed.unfolding).unwrap();
+    for v in [&p, &k, &f] {
+        for key in [
+            "method",
+            "spec",
+            "degree",
+            "kernel_width_spacings",
+            "kernel_width_energy",
+            "levels",
+            "rms_residual",
+            "negative_spacings",
+            "mean_unfolded_spacing",
+        ] {
+            assert!(v.get(key).is_some(), "missing {key} in {v}");
+        }
+    }
+    assert_eq!(p["spec"], "poly:5");
+    assert_eq!(p["degree"], 5);
+    assert!(p["kernel_width_spacings"].is_null());
+    assert_eq!(k["spec"], "kernel:6");
+    assert!(k["degree"].is_null());
+    assert_eq!(k["kernel_width_spacings"], 6.0);
+    assert_eq!(k["kernel_neighbours"], 12);
+    assert!(k["method"].as_str().unwrap().contains("Gaussian"));
+    assert_eq!(f["spec"], "kernel-energy:0.5");
+    assert_eq!(f["kernel_width_energy"], 0.5);
+    assert_eq!(f["kernel_sigma_range"][0], 0.5);
+    // the options record the method too
+    let o = serde_json::to_value(kernel_opts(6.0)).unwrap();
+    assert_eq!(o["unfold"]["method"], "kernel");
+    assert_eq!(o["unfold"]["spacings"], 6.0);
+}
+
+#[test]
+fn narrow_kernels_and_spectrum_ends_are_warned_about() {
+    // common practice, no source: a kernel narrower than 2 spacings follows single levels;
+    // a window reaching the end of the spectrum sees the kernel's end bias
+    let e = goe_levels(400, 9);
+    let r = analyze(&e, &default_window(), &kernel_opts(1.0)).unwrap();
+    assert!(
+        r.warnings.iter().any(|w| w.contains("narrower than 2")),
+        "{:?}",
+        r.warnings
+    );
+    let all = WindowSpec::Fraction(Window { lo: 0.0, hi: 1.0 });
+    let r = analyze(&e, &all, &kernel_opts(4.0)).unwrap();
+    assert!(r.unfolding.kernel_end_levels.unwrap() > 0);
+    assert!(
+        r.warnings
+            .iter()
+            .any(|w| w.contains("end of the whole spectrum")),
+        "{:?}",
+        r.warnings
+    );
+    let r = analyze(&e, &default_window(), &kernel_opts(4.0)).unwrap();
+    assert_eq!(r.unfolding.kernel_end_levels, Some(0));
+}

@@ -274,3 +274,92 @@ fn study_with_a_state_reports_quench_dynamics() {
     assert_eq!(svgs.len(), 2, "{svgs:?}");
     assert!(out.join("quench_product_y.csv").exists());
 }
+
+#[test]
+fn study_with_several_observables_matches_single_observable_runs() {
+    // `study` computes each file's coefficients cₙ = ⟨n|ψ⟩ (and every observable's Aₙₙ) once
+    // per state and sector and reuses them for every observable; the numbers and figures
+    // must be exactly those of one run per observable (same arithmetic; no source needed)
+    use eigentherm::commands::common::{InputArgs, PathArgs, SelectArgs};
+    use eigentherm::commands::{scaling::PipelineArgs, study};
+    use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
+    let dir = tempfile::tempdir().unwrap();
+    let mut files = Vec::new();
+    for l in [6, 8] {
+        let path = dir.path().join(format!("mfi{l}.h5"));
+        let sectors = build_chain(&ChainSpec {
+            model: ChainModel::MixedFieldIsing {
+                j: 1.0,
+                g: 0.9045,
+                h: 0.8090,
+            },
+            sites: l,
+            boundary: Boundary::Open,
+            reflection: Reflection::Resolve,
+            site: None,
+        })
+        .unwrap();
+        write_file(&path, &sectors).unwrap();
+        files.push(path);
+    }
+    let states = vec!["product:x+".to_string(), "product:y+".to_string()];
+    let run = |observables: &[&str], out: &str| -> (serde_json::Value, std::path::PathBuf) {
+        let out = dir.path().join(out);
+        let args = study::Args {
+            input: InputArgs {
+                files: files.clone(),
+                paths: PathArgs::default(),
+            },
+            select: SelectArgs::default(),
+            pipeline: PipelineArgs {
+                observables: observables.iter().map(|s| s.to_string()).collect(),
+                ..Default::default()
+            },
+            out: out.clone(),
+            states: states.clone(),
+            times: "lin:0:10:21".to_string(),
+            // the default drop leaves a scattered set of kept states, whose eigenvectors are
+            // gathered once and shared by the observables
+            drop_weight: eigentherm::analysis::quench::DEFAULT_DROP_WEIGHT,
+        };
+        let res = study::study(&args).unwrap();
+        (serde_json::to_value(&res.results.quench).unwrap(), out)
+    };
+    let all = ["sz_site", "sx_site", "bond_energy"];
+    let (multi, multi_dir) = run(&all, "multi");
+    let q = multi.as_array().unwrap();
+    // one entry per (observable, state), observables outermost, as before
+    assert_eq!(q.len(), 6);
+    for (k, e) in q.iter().enumerate() {
+        assert_eq!(e["observable"], all[k / 2]);
+        assert_eq!(e["state"], states[k % 2].as_str());
+        assert_eq!(e["runs"].as_array().unwrap().len(), 2);
+    }
+    let figures = |d: &std::path::Path, obs: &str| -> Vec<(String, String)> {
+        let mut v: Vec<(String, String)> = std::fs::read_dir(d)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .filter(|n| n.starts_with("quench_") && n.ends_with(".svg") && n.contains(obs))
+            .map(|n| {
+                let text = std::fs::read_to_string(d.join(&n)).unwrap();
+                (n, text)
+            })
+            .collect();
+        v.sort();
+        v
+    };
+    for (k, obs) in all.iter().enumerate() {
+        let (single, single_dir) = run(&[obs], obs);
+        // identical numbers, to the last bit (serde_json compares the f64 values)
+        assert_eq!(single.as_array().unwrap()[..], q[2 * k..2 * k + 2], "{obs}");
+        // identical figures: trace and fluctuations for both states
+        let (a, b) = (figures(&single_dir, obs), figures(&multi_dir, obs));
+        assert_eq!(
+            a.len(),
+            4,
+            "{obs}: {:?}",
+            a.iter().map(|x| &x.0).collect::<Vec<_>>()
+        );
+        assert_eq!(a, b, "{obs}");
+    }
+}

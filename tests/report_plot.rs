@@ -167,3 +167,105 @@ fn lin_log_axes_and_bad_input() {
         .to_svg()
         .is_err());
 }
+
+/// The `y` attribute of the `<text>` element whose content is `label`.
+fn text_y(svg: &str, label: &str) -> f64 {
+    svg.split("<text")
+        .skip(1)
+        .find_map(|t| {
+            let (attrs, body) = t.split_once('>')?;
+            if body.split("</text>").next()?.trim() != label {
+                return None;
+            }
+            let y = attrs.split(" y=\"").nth(1)?.split('"').next()?;
+            y.parse().ok()
+        })
+        .unwrap_or_else(|| panic!("no text '{label}'"))
+}
+
+#[test]
+fn close_reference_labels_do_not_overlap() {
+    // Common practice, no source: a quench trace relaxing to three nearly equal long-time
+    // values (invented numbers); the three labels must be at least one text height (the
+    // 14.5 px font) apart and keep the top-to-bottom order of their lines.
+    let trace: Vec<(f64, f64)> = (0..=50)
+        .map(|k| {
+            let t = k as f64 * 0.4;
+            (t, 0.2 + 0.3 * (-t / 3.0).exp() * (2.0 * t).cos())
+        })
+        .collect();
+    let fig = Figure::new("t (ħ / energy unit)", "⟨A(t)⟩")
+        .legend(Legend::UpperRight)
+        .reference(0.2010, "diagonal ensemble")
+        .reference(0.2000, "microcanonical")
+        .reference(0.2005, "canonical")
+        .series(Series::line("L = 12", trace));
+    let svg = fig.to_svg().unwrap();
+    save("close_references.svg", &svg);
+    let de = text_y(&svg, "diagonal ensemble");
+    let can = text_y(&svg, "canonical");
+    let mc = text_y(&svg, "microcanonical");
+    // higher value, higher on the page (smaller y)
+    assert!(de < can && can < mc, "{de} {can} {mc}");
+    assert!(can - de >= 14.5 && mc - can >= 14.5, "{de} {can} {mc}");
+    // and every label stays inside the figure
+    for y in [de, can, mc] {
+        assert!(y > 0.0 && y < 360.0, "{y}");
+    }
+
+    // Well separated references keep their labels beside their own lines: the label
+    // spacing equals the line spacing (to pixel rounding).
+    let fig = Figure::new("t", "⟨A(t)⟩")
+        .y_range(0.0, 1.0)
+        .reference(0.8, "upper")
+        .reference(0.3, "lower")
+        .series(Series::line("", vec![(0.0, 0.5), (1.0, 0.5)]));
+    let svg = fig.to_svg().unwrap();
+    let (up, low) = (text_y(&svg, "upper"), text_y(&svg, "lower"));
+    let fig_far = Figure::new("t", "⟨A(t)⟩")
+        .y_range(0.0, 1.0)
+        .reference(0.8, "upper")
+        .reference(0.7, "lower")
+        .series(Series::line("", vec![(0.0, 0.5), (1.0, 0.5)]));
+    let svg_far = fig_far.to_svg().unwrap();
+    let low2 = text_y(&svg_far, "lower");
+    // moving a line by 0.4 of the axis moves its label by 0.4 of the plot height, and
+    // the unmoved label stays put
+    assert_eq!(text_y(&svg_far, "upper"), up);
+    let per_unit = (low - low2) / 0.4;
+    assert!(per_unit > 200.0 && per_unit < 320.0, "{per_unit}");
+    assert!(low - up > 100.0);
+}
+
+#[test]
+fn label_spreading_keeps_order_separation_and_bounds() {
+    use eigentherm::report::plot::spread_labels;
+    // Common practice, no source: properties of the placement, checked directly.
+    // Far apart: unchanged.
+    assert_eq!(
+        spread_labels(&[10.0, 50.0, 90.0], 17.0, 0.0, 100.0),
+        vec![10.0, 50.0, 90.0]
+    );
+    // Three equal wishes: stacked upwards from the wish, in the given order.
+    assert_eq!(
+        spread_labels(&[50.0, 50.0, 50.0], 17.0, 0.0, 100.0),
+        vec![16.0, 33.0, 50.0]
+    );
+    // Crowded at the bottom, wishes out of order: pushed inside the bounds, order kept.
+    let p = spread_labels(&[99.0, 98.0, 97.0], 17.0, 0.0, 100.0);
+    assert_eq!(p, vec![63.0, 80.0, 97.0]);
+    // Crowded at the top: pushed down inside the bounds.
+    let p = spread_labels(&[3.0, 4.0, 5.0], 17.0, 0.0, 100.0);
+    assert_eq!(p, vec![0.0, 17.0, 34.0]);
+    // More labels than fit: packed from the top, still `sep` apart.
+    let p = spread_labels(&[5.0; 8], 17.0, 0.0, 100.0);
+    assert_eq!(p[0], 0.0);
+    assert!(p.windows(2).all(|w| w[1] - w[0] == 17.0));
+    // A chain reaction: merging one pair makes it overlap the previous label.
+    let p = spread_labels(&[30.0, 40.0, 41.0], 17.0, 0.0, 200.0);
+    assert_eq!(p, vec![7.0, 24.0, 41.0]);
+    let mut s = p.clone();
+    s.sort_by(f64::total_cmp);
+    assert!(s.windows(2).all(|w| w[1] - w[0] >= 17.0 - 1e-12), "{p:?}");
+    assert!(p[0] < p[1] && p[1] < p[2]);
+}

@@ -14,8 +14,9 @@
 //!    J. Chem. Phys. 91, 461 (1989)): the series is averaged in pairs repeatedly and
 //!    σ_blocks/√N_blocks computed at each level; the largest value over the levels with
 //!    at least 32 blocks is reported (the naive value is reported too).
-//! 2. **Unfolding** by a polynomial fit of the staircase N(E) over the window
-//!    ([`unfold`]); spacings of the unfolded levels, divided by their mean, give the
+//! 2. **Unfolding** by a polynomial fit of the staircase N(E) over the window, or by the
+//!    integral of a Gaussian-broadened density of states, N̄(E) = Σⱼ Φ((E − Eⱼ)/σⱼ)
+//!    ([`unfold`], chosen by [`LevelOptions::unfold`]); spacings of the unfolded levels, divided by their mean, give the
 //!    nearest-neighbour spacing distribution P(s), compared with Poisson e^(−s) and the
 //!    GOE and GUE Wigner surmises (Mehta 2004) by the Kolmogorov–Smirnov distance
 //!    D = supₛ |F_emp(s) − F_ref(s)|. `nearest_ensemble` is the ensemble with the smallest
@@ -43,7 +44,7 @@ use crate::window::WindowSpec;
 use serde::Serialize;
 pub use spectral::{FormFactor, NumberVariancePoint, SffPoint};
 pub use surmise::Ensemble;
-pub use unfold::Unfolding;
+pub use unfold::{UnfoldMethod, Unfolding};
 
 /// Blocks needed at a blocking level for its standard error to count.
 const MIN_BLOCKS: usize = 32;
@@ -58,6 +59,10 @@ pub const DEGENERATE_FRACTION: f64 = 0.01;
 /// significantly below the GOE reference.
 pub const RATIO_MARGIN: f64 = 0.01;
 
+/// Kernel widths below this many mean spacings give a warning: the smooth staircase then
+/// follows individual levels (common practice, no source).
+pub const MIN_KERNEL_SPACINGS: f64 = 2.0;
+
 /// Density of unfolded spacings below [`SMALL_SPACING`] under which a spectrum without level
 /// repulsion is still clearly not Poisson (0.88): with ⟨r̃⟩ below GOE, the mark of a few
 /// superposed chaotic spectra rather than of an integrable one.
@@ -66,8 +71,8 @@ pub const POISSON_LIKE_DENSITY: f64 = 0.8;
 /// Options of the level-statistics analysis.
 #[derive(Debug, Clone, Serialize)]
 pub struct LevelOptions {
-    /// Degree of the staircase polynomial used for unfolding (default 5).
-    pub unfold_degree: usize,
+    /// Unfolding method and its parameter (default: polynomial of degree 5).
+    pub unfold: UnfoldMethod,
     /// Number of bins of the r̃ histogram on [0, 1] (default 20).
     pub ratio_bins: usize,
     /// Number of bins of the spacing histogram on [0, `spacing_max`] (default 30).
@@ -96,7 +101,7 @@ pub struct LevelOptions {
 impl Default for LevelOptions {
     fn default() -> Self {
         LevelOptions {
-            unfold_degree: 5,
+            unfold: UnfoldMethod::default(),
             ratio_bins: 20,
             spacing_bins: 30,
             spacing_max: 3.0,
@@ -379,7 +384,7 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
     let degenerate_pairs = e.windows(2).filter(|w| (w[1] - w[0]).abs() < tol).count();
 
     // 2. unfolding and spacings
-    let (unfolded, unfolding) = unfold::polynomial(e, opts.unfold_degree)?;
+    let (unfolded, unfolding) = unfold::unfold(energies, range.clone(), opts.unfold)?;
     let raw_s: Vec<f64> = unfolded.windows(2).map(|w| w[1] - w[0]).collect();
     let mean_s = raw_s.iter().sum::<f64>() / raw_s.len() as f64;
     if mean_s.is_nan() || mean_s <= 0.0 {
@@ -403,8 +408,26 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
     let small_spacing_density = small as f64 / (s.len() as f64 * SMALL_SPACING);
     if unfolding.negative_spacings > 0 {
         warnings.push(format!(
-            "the unfolding polynomial (degree {}) decreases between {} pair(s) of levels; try a lower --unfold-degree",
-            unfolding.degree, unfolding.negative_spacings
+            "the unfolding ({}) decreases between {} pair(s) of levels; try a lower degree or --unfold kernel",
+            unfolding.spec, unfolding.negative_spacings
+        ));
+    }
+
+    let kernel_spacings = match opts.unfold {
+        UnfoldMethod::Kernel { spacings } => Some(spacings),
+        UnfoldMethod::KernelEnergy { sigma } => Some(sigma / mean_spacing),
+        UnfoldMethod::Polynomial { .. } => None,
+    };
+    if let Some(k) = kernel_spacings.filter(|&k| k < MIN_KERNEL_SPACINGS) {
+        warnings.push(format!(
+            "the unfolding kernel ({}) is {k:.3} mean spacings wide, narrower than {MIN_KERNEL_SPACINGS}: the smooth staircase follows individual levels and pulls the unfolded spacings towards 1 (use several spacings, e.g. --unfold kernel:32)",
+            unfolding.spec
+        ));
+    }
+    if let Some(k) = unfolding.kernel_end_levels.filter(|&k| k > 0) {
+        warnings.push(format!(
+            "{k} level(s) of the window lie within 2 kernel widths of an end of the whole spectrum, where the kernel staircase ({}) is biased (the broadened density spills past the last level); choose a window away from the ends or a narrower kernel",
+            unfolding.spec
         ));
     }
 
@@ -459,8 +482,8 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
     }
     if ratio_nearest != nearest_ensemble {
         warnings.push(format!(
-            "the mean ratio points to {} but the unfolded spacing distribution is closest to {}; the unfolding (degree {}) or the window may be inadequate, or the statistics are intermediate",
-            ratio_nearest, nearest_ensemble, unfolding.degree
+            "the mean ratio points to {} but the unfolded spacing distribution is closest to {}; the unfolding ({}) or the window may be inadequate, or the statistics are intermediate",
+            ratio_nearest, nearest_ensemble, unfolding.spec
         ));
     }
 

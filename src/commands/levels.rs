@@ -5,7 +5,7 @@
 //! either JSON (`--json`: `{"options": …, "sectors": [{"file", "name", …}]}`) or a
 //! compact text table per sector.
 
-use crate::analysis::levels::{self, LevelOptions, LevelReport};
+use crate::analysis::levels::{self, LevelOptions, LevelReport, UnfoldMethod};
 use crate::commands::common::{InputArgs, SelectArgs};
 use crate::error::{Error, Result};
 use crate::window::Window;
@@ -21,9 +21,16 @@ pub struct Args {
     /// Sector, window and output format (default window 0.25:0.75).
     #[command(flatten)]
     pub select: SelectArgs,
-    /// Degree of the polynomial fitted to the staircase N(E) for unfolding.
-    #[arg(long, default_value_t = 5, value_name = "D")]
-    pub unfold_degree: usize,
+    /// Unfolding: `poly:D` (least-squares polynomial of degree D fitted to the staircase N(E);
+    /// the default, D = 5), `kernel:K` (Gaussian-broadened density of states with widths of K
+    /// local mean spacings; `kernel` alone means K = 32) or `kernel-energy:SIGMA` (fixed width
+    /// SIGMA in energy units).
+    #[arg(long, value_name = "METHOD")]
+    pub unfold: Option<String>,
+    /// Degree of the polynomial fitted to the staircase N(E) for unfolding (same as
+    /// `--unfold poly:D`; default 5).
+    #[arg(long, value_name = "D")]
+    pub unfold_degree: Option<usize>,
     /// Bins of the r̃ histogram on [0, 1].
     #[arg(long, default_value_t = 20, value_name = "N")]
     pub bins: usize,
@@ -77,8 +84,20 @@ impl Args {
         if self.bins == 0 {
             return Err(Error::usage("--bins must be at least 1"));
         }
+        let unfold = match (&self.unfold, self.unfold_degree) {
+            (Some(_), Some(_)) => {
+                return Err(Error::usage(
+                    "--unfold and --unfold-degree both given: use one (--unfold-degree D is --unfold poly:D)",
+                ))
+            }
+            (Some(m), None) => m
+                .parse::<UnfoldMethod>()
+                .map_err(|e| Error::usage(format!("--unfold {m}: {e}")))?,
+            (None, Some(degree)) => UnfoldMethod::Polynomial { degree },
+            (None, None) => UnfoldMethod::default(),
+        };
         Ok(LevelOptions {
-            unfold_degree: self.unfold_degree,
+            unfold,
             ratio_bins: self.bins,
             sff_eta: self.sff_eta,
             degeneracy_tol: self.degeneracy_tol,

@@ -102,8 +102,8 @@ pub struct FileResult {
 /// What to run on one file (see [`quench_file`]).
 #[derive(Debug, Clone)]
 pub struct Job<'a> {
-    /// Observable name.
-    pub observable: &'a str,
+    /// Observable names (one result per observable, in this order).
+    pub observables: &'a [String],
     /// The state SPEC as given.
     pub state: &'a str,
     /// The parsed state.
@@ -141,7 +141,7 @@ pub fn run(args: &Args) -> Result<()> {
     };
     let overrides = overrides(&args.input.paths)?;
     let job = Job {
-        observable: &args.observable,
+        observables: std::slice::from_ref(&args.observable),
         state: &args.state,
         spec: &spec,
         sector: args.sector.as_deref(),
@@ -150,11 +150,12 @@ pub fn run(args: &Args) -> Result<()> {
     };
     let mut results = Vec::new();
     for path in &args.input.files {
-        let r = quench_file(path, &overrides, &job)?;
-        if !args.json {
-            print_text(&r);
+        for r in quench_file(path, &overrides, &job)? {
+            if !args.json {
+                print_text(&r);
+            }
+            results.push(r);
         }
-        results.push(r);
     }
     if args.json {
         let out = serde_json::json!({ "files": results });
@@ -415,11 +416,21 @@ fn state_vector(spec: &StateSpec, full_dim: usize) -> Result<Vec<c64>> {
     }
 }
 
-/// Runs the quench on one file: the state's sector components (through the embeddings for
-/// a full-space state), the analysis of each sector with weight, their combination, and
-/// the whole-state figures.
-pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<FileResult> {
+/// Runs the quench on one file for every observable of the job: the state's sector
+/// components (through the embeddings for a full-space state), the analysis of each sector
+/// with weight, their combination, and the whole-state figures. One result per observable,
+/// in the order of `job.observables` (at least one).
+///
+/// Per sector, the eigenvectors are streamed once for the coefficients `cₙ = ⟨n|ψ⟩` and the
+/// diagonal elements of every observable, and the kept eigenvectors are gathered at most once
+/// ([`quench::prepare_sector`]); each observable then only forms its own `A_KK`. The results
+/// are those of one run per observable. All the observables of a sector are held in memory
+/// together, as in the per-sector pipeline of `study`.
+pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<Vec<FileResult>> {
     let (spec, grid, opts) = (job.spec, job.grid, job.opts);
+    if job.observables.is_empty() {
+        return Err(Error::usage("the quench needs at least one observable"));
+    }
     let file = EigenFile::open(path, overrides)?;
     let sectors = file.select(job.sector)?;
     let comps = components(&file, &sectors, spec, job.sector.is_some())?;
@@ -428,8 +439,10 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         .map(|(_, c)| c.iter().map(|x| x.norm_sqr()).sum::<f64>())
         .sum();
     let times = grid.points();
-    let mut results = Vec::new();
-    let mut diags = Vec::new();
+    let nobs = job.observables.len();
+    // per observable: sector results and diagonals; shared: spectra
+    let mut results: Vec<Vec<SectorResult>> = vec![Vec::new(); nobs];
+    let mut diags: Vec<Vec<Vec<f64>>> = vec![Vec::new(); nobs];
     let mut spectra = Vec::new();
     let mut without = Vec::new();
     let mut size = None;
@@ -444,32 +457,53 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         let group = s.group.trim_end_matches('/');
         let spectrum = file.spectrum(s)?;
         let vectors = file.vectors(s, &spectrum)?;
-        let op = file.observable(s, job.observable)?;
-        let obs_path = format!("{group}/observables/{}", job.observable);
+        let obs_path = |name: &str| format!("{group}/observables/{name}");
+        let mut ops = Vec::with_capacity(nobs);
+        for name in job.observables {
+            let op = file.observable(s, name)?;
+            quench::basis::check_operator(&op, &vectors)
+                .map_err(|e| ctx(e, path, &obs_path(name)))?;
+            ops.push(op);
+        }
         size = size.or(s.size);
         model = model.or_else(|| s.model.clone());
         dimension += s.dim.unwrap_or(0);
-        let sq = quench::quench_sector(&vectors, &spectrum.energies, &op, &c, &times, opts)
-            .map_err(|e| ctx(e, path, &obs_path))?;
-        let captured = sq.report.norm / weight;
-        if captured < 1.0 - 1e-6 {
+        let refs: Vec<&crate::data::Operator> = ops.iter().collect();
+        // errors of the shared pass concern the eigenvectors (the operators are checked)
+        let (mut prepared, sector_diags) =
+            quench::prepare_sector(&vectors, &spectrum.energies, &refs, &c, opts)
+                .map_err(|e| ctx(e, path, &format!("{group}/eigenvectors")))?;
+        let mut captured = None;
+        for (k, ((name, op), diag)) in job
+            .observables
+            .iter()
+            .zip(&ops)
+            .zip(sector_diags)
+            .enumerate()
+        {
+            let sq = prepared
+                .quench(&vectors, &spectrum.energies, op, diag, &times, opts)
+                .map_err(|e| ctx(e, path, &obs_path(name)))?;
+            let cap = *captured.get_or_insert(sq.report.norm / weight);
+            diags[k].push(sq.diag_all);
+            results[k].push(SectorResult {
+                name: s.name.clone(),
+                weight,
+                captured: cap,
+                report: sq.report,
+            });
+        }
+        if let Some(cap) = captured.filter(|&c| c < 1.0 - 1e-6) {
             eprintln!(
                 "warning: {}: sector '{}': the stored eigenstates hold only {:.6} of the state's weight (partial eigenbasis); the analysis uses the normalised projection",
                 path.display(),
                 s.name,
-                captured
+                cap
             );
         }
-        diags.push(sq.diag_all);
         spectra.push(spectrum.energies);
-        results.push(SectorResult {
-            name: s.name.clone(),
-            weight,
-            captured,
-            report: sq.report,
-        });
     }
-    if results.is_empty() {
+    if results.first().is_none_or(|r| r.is_empty()) {
         return Err(Error::file(
             path,
             format!(
@@ -478,39 +512,44 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
             ),
         ));
     }
-    let combined = if results.len() > 1 {
-        let parts: Vec<SectorPart<'_>> = results
-            .iter()
-            .zip(&diags)
-            .zip(&spectra)
-            .map(|((r, d), e)| SectorPart {
-                weight: r.weight,
-                energies: e,
-                diag_all: d,
-                report: &r.report,
-            })
-            .collect();
-        Some(quench::combine(&parts, opts).map_err(|e| ctx(e, path, "/"))?)
-    } else {
-        None
-    };
-    let parts: Vec<(f64, &QuenchReport)> = results.iter().map(|r| (r.weight, &r.report)).collect();
-    let overall = quench::overall(&parts, combined.as_ref()).map_err(|e| ctx(e, path, "/"))?;
-    Ok(FileResult {
-        file: path.display().to_string(),
-        observable: job.observable.to_string(),
-        state: job.state.to_string(),
-        state_spec: spec.clone(),
-        times: grid,
-        options: opts.clone(),
-        sectors: results,
-        sectors_without_weight: without,
-        combined,
-        size,
-        model,
-        dimension,
-        overall,
-    })
+    let mut out = Vec::with_capacity(nobs);
+    for ((name, results), diags) in job.observables.iter().zip(results).zip(diags) {
+        let combined = if results.len() > 1 {
+            let parts: Vec<SectorPart<'_>> = results
+                .iter()
+                .zip(&diags)
+                .zip(&spectra)
+                .map(|((r, d), e)| SectorPart {
+                    weight: r.weight,
+                    energies: e,
+                    diag_all: d,
+                    report: &r.report,
+                })
+                .collect();
+            Some(quench::combine(&parts, opts).map_err(|e| ctx(e, path, "/"))?)
+        } else {
+            None
+        };
+        let parts: Vec<(f64, &QuenchReport)> =
+            results.iter().map(|r| (r.weight, &r.report)).collect();
+        let overall = quench::overall(&parts, combined.as_ref()).map_err(|e| ctx(e, path, "/"))?;
+        out.push(FileResult {
+            file: path.display().to_string(),
+            observable: name.clone(),
+            state: job.state.to_string(),
+            state_spec: spec.clone(),
+            times: grid,
+            options: opts.clone(),
+            sectors: results,
+            sectors_without_weight: without.clone(),
+            combined,
+            size,
+            model: model.clone(),
+            dimension,
+            overall,
+        });
+    }
+    Ok(out)
 }
 
 fn opt(x: Option<f64>) -> String {

@@ -466,22 +466,41 @@ fn quench_all(args: &Args, project: crate::project::ProjectOptions) -> Result<Ve
         ..QuenchOptions::default()
     };
     let overrides = args.input.paths.overrides()?;
-    let mut out = Vec::new();
-    for obs in &args.pipeline.observables {
-        for (state, spec) in args.states.iter().zip(&specs) {
-            let job = Job {
-                observable: obs,
-                state,
-                spec,
-                sector: args.select.sector.as_deref(),
-                grid,
-                opts: &opts,
-            };
-            let runs = args
-                .input
+    let observables = &args.pipeline.observables;
+    if observables.is_empty() {
+        return Ok(Vec::new());
+    }
+    // runs[state][file][observable]: each file is read once per state for every observable
+    // (the coefficients cₙ = ⟨n|ψ⟩ do not depend on the observable; see `quench_file`)
+    let mut runs: Vec<Vec<std::vec::IntoIter<crate::commands::quench::FileResult>>> = Vec::new();
+    for (state, spec) in args.states.iter().zip(&specs) {
+        let job = Job {
+            observables,
+            state,
+            spec,
+            sector: args.select.sector.as_deref(),
+            grid,
+            opts: &opts,
+        };
+        runs.push(
+            args.input
                 .files
                 .iter()
-                .map(|f| quench_file(f, &overrides, &job))
+                .map(|f| quench_file(f, &overrides, &job).map(Vec::into_iter))
+                .collect::<Result<Vec<_>>>()?,
+        );
+    }
+    // one QuenchStudy per (observable, state), observables outermost
+    let mut out = Vec::new();
+    for obs in observables {
+        for (state, per_file) in args.states.iter().zip(runs.iter_mut()) {
+            let runs = per_file
+                .iter_mut()
+                .map(|r| {
+                    r.next().ok_or_else(|| {
+                        Error::other(format!("internal: no quench result for {obs}"))
+                    })
+                })
                 .collect::<Result<Vec<_>>>()?;
             out.push(QuenchStudy {
                 observable: obs.clone(),
@@ -535,14 +554,20 @@ fn quench_figures(quench: &[QuenchStudy]) -> Vec<Named> {
                 format!(" ({fam})")
             };
             let o = &big.overall;
+            // the values in the labels tell close lines apart (their labels are stacked in
+            // the order of the values)
+            let value = crate::report::table::format_value;
             let mut fig = Figure::new("t (ħ / energy unit)", format!("⟨{}(t)⟩", q.observable))
                 .legend(Legend::UpperRight)
-                .reference(o.diagonal_ensemble, "diagonal ensemble");
+                .reference(
+                    o.diagonal_ensemble,
+                    format!("diagonal ensemble {}", value(o.diagonal_ensemble)),
+                );
             if let Some(m) = o.microcanonical {
-                fig = fig.reference(m, "microcanonical");
+                fig = fig.reference(m, format!("microcanonical {}", value(m)));
             }
             if let Some(c) = o.canonical {
-                fig = fig.reference(c, "canonical");
+                fig = fig.reference(c, format!("canonical {}", value(c)));
             }
             for (k, r) in runs.iter().enumerate() {
                 fig = fig.series(

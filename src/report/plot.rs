@@ -129,7 +129,8 @@ impl Series {
 }
 
 /// A labelled horizontal reference line at `y`, drawn dashed in grey with its label at the
-/// right end just above the line.
+/// right end just above the line; labels of close lines are moved apart so that they do not
+/// overlap, in the order of the lines ([`spread_labels`]).
 #[derive(Debug, Clone, Serialize)]
 pub struct RefLine {
     /// Height.
@@ -510,8 +511,14 @@ impl Figure {
             chart.draw_series(outline).map_err(|x| e(&x))?;
         }
 
-        // Reference lines with their labels.
+        // Reference lines, then their labels at the right end: each wants to sit just above
+        // its line (below it when the line is near the top), and labels that would overlap
+        // are spread apart by `spread_labels`, keeping the order of the lines.
         let grey = RGBColor(90, 90, 90);
+        let area = chart.plotting_area().get_pixel_range();
+        let (top, bottom) = (f64::from(area.1.start), f64::from(area.1.end));
+        let half = 0.5 * REF_LABEL_HEIGHT;
+        let mut labels = Vec::new();
         for r in self.ref_lines.iter().filter(|r| ok(r.y, ylog)) {
             chart
                 .draw_series(DashedLineSeries::new(
@@ -521,18 +528,24 @@ impl Figure {
                     ShapeStyle::from(&grey).stroke_width(1),
                 ))
                 .map_err(|x| e(&x))?;
-            let style = TextStyle::from(("sans-serif", TICK_FONT).into_font())
-                .color(&grey)
-                .pos(Pos::new(HPos::Right, VPos::Bottom));
-            // Above the line, or below it when the line is near the top of the plot.
             let (px, py) = chart.backend_coord(&(x1, r.y));
-            let top = chart.plotting_area().get_pixel_range().1.start;
-            let (style, py) = if py - top < 22 {
-                (style.pos(Pos::new(HPos::Right, VPos::Top)), py + 3)
+            let py = f64::from(py);
+            let centre = if py - top < REF_LABEL_HEIGHT + 7.0 {
+                py + 3.0 + half
             } else {
-                (style, py - 2)
+                py - 2.0 - half
             };
-            root.draw(&Text::new(r.label.clone(), (px - 4, py), style))
+            labels.push((r.y, px - 4, centre, r.label.clone()));
+        }
+        // top to bottom: by value, highest first (ties keep the order they were added in)
+        labels.sort_by(|a, b| b.0.total_cmp(&a.0));
+        let wanted: Vec<f64> = labels.iter().map(|l| l.2).collect();
+        let placed = spread_labels(&wanted, REF_LABEL_HEIGHT + 2.0, top + half, bottom - half);
+        let style = TextStyle::from(("sans-serif", TICK_FONT).into_font())
+            .color(&grey)
+            .pos(Pos::new(HPos::Right, VPos::Center));
+        for ((_, px, _, label), y) in labels.into_iter().zip(placed) {
+            root.draw(&Text::new(label, (px, y.round() as i32), style.clone()))
                 .map_err(|x| e(&x))?;
         }
 
@@ -618,6 +631,40 @@ impl Figure {
         }
         Ok(())
     }
+}
+
+/// Height in pixels taken by a reference-line label (its `font-size` is 18 / 1.24 ≈ 14.5 px).
+const REF_LABEL_HEIGHT: f64 = 15.0;
+
+/// Vertical centres yᵢ for labels that want to sit at `wanted` (pixels, y downwards), given
+/// in the top-to-bottom order they must keep: y₀ ≤ y₁ ≤ … with yᵢ₊₁ − yᵢ ≥ `sep`, inside
+/// [`lo`, `hi`] when they fit (packed from `lo` otherwise). Labels that would overlap are
+/// grouped, and each group is stacked upwards from the wanted position of its lowest label
+/// (so that labels wanting to sit above their lines stay above them), then shifted inside
+/// the bounds (a one-dimensional label-placement sweep; common practice, no source). Labels
+/// that do not overlap stay where they want to be (clamped to the bounds).
+pub fn spread_labels(wanted: &[f64], sep: f64, lo: f64, hi: f64) -> Vec<f64> {
+    // groups of consecutive labels: (first label, count, centre of the first label)
+    let mut groups: Vec<(usize, usize, f64)> = Vec::new();
+    let place = |first: usize, count: usize| -> f64 {
+        let span = (count - 1) as f64 * sep;
+        (wanted[first + count - 1] - span).min(hi - span).max(lo)
+    };
+    for k in 0..wanted.len() {
+        groups.push((k, 1, place(k, 1)));
+        while let [.., (f1, c1, t1), (_, c2, t2)] = groups[..] {
+            if t1 + c1 as f64 * sep <= t2 {
+                break;
+            }
+            groups.truncate(groups.len() - 2);
+            groups.push((f1, c1 + c2, place(f1, c1 + c2)));
+        }
+    }
+    let mut out = Vec::with_capacity(wanted.len());
+    for (_, count, top) in groups {
+        out.extend((0..count).map(|j| top + j as f64 * sep));
+    }
+    out
 }
 
 /// Legend sample of a series: a line (solid, dashed or none) and a marker (circle,

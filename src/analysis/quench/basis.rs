@@ -139,14 +139,37 @@ where
     }
 }
 
+/// Checks that `op` can act on the eigenvectors of `src`: `dim × dim` for an operator in the
+/// computational basis, `n × n` for one in the energy basis, and a consistent CSR structure.
+pub fn check_operator(op: &Operator, src: &dyn ColumnSource) -> Result<()> {
+    check_op(op, src.dim(), src.n_states())
+}
+
 /// Coefficients `cₙ = vₙᴴ ψ` of a state in the stored eigenbasis, and (when `op` is given)
-/// the diagonal elements `Aₙₙ = Re vₙᴴ A vₙ` of all states, in one streamed pass.
+/// the diagonal elements `Aₙₙ = Re vₙᴴ A vₙ` of all states, in one streamed pass
+/// (see [`coefficients_and_diagonals`]).
 /// `psi` is in the (sector's) computational basis, of length `src.dim()`.
 pub fn coefficients_and_diagonal(
     src: &dyn ColumnSource,
     psi: &[c64],
     op: Option<&Operator>,
 ) -> Result<(Vec<c64>, Option<Vec<f64>>)> {
+    let ops: Vec<&Operator> = op.into_iter().collect();
+    let (coeffs, mut diags) = coefficients_and_diagonals(src, psi, &ops)?;
+    Ok((coeffs, diags.pop()))
+}
+
+/// Coefficients `cₙ = vₙᴴ ψ` of a state in the stored eigenbasis and the diagonal elements
+/// `Aₙₙ = Re vₙᴴ A vₙ` of all states for every operator of `ops`, in one streamed pass over
+/// the eigenvectors: each block `V_B` is read once, and gives `V_Bᴴ ψ` and, per operator,
+/// `Re diag(V_Bᴴ (A V_B))` (operators stored in the energy basis: their diagonal, read off).
+/// `psi` is in the (sector's) computational basis, of length `src.dim()`. The diagonals come
+/// back in the order of `ops`.
+pub fn coefficients_and_diagonals(
+    src: &dyn ColumnSource,
+    psi: &[c64],
+    ops: &[&Operator],
+) -> Result<(Vec<c64>, Vec<Vec<f64>>)> {
     let (dim, n) = (src.dim(), src.n_states());
     if psi.len() != dim {
         return Err(Error::other(format!(
@@ -154,19 +177,28 @@ pub fn coefficients_and_diagonal(
             psi.len()
         )));
     }
-    if let Some(op) = op {
+    for op in ops {
         check_op(op, dim, n)?;
     }
     let mut coeffs = Vec::with_capacity(n);
-    let mut diag: Option<Vec<f64>> = op.map(|_| Vec::with_capacity(n));
-    // Energy-basis operators: the diagonal is read off directly.
-    let energy_diag: Option<Vec<f64>> = match op {
-        Some(Operator::Real(OpData::EnergyBasis(m))) => Some((0..n).map(|i| m[(i, i)]).collect()),
-        Some(Operator::Complex(OpData::EnergyBasis(m))) => {
-            Some((0..n).map(|i| m[(i, i)].re).collect())
-        }
-        _ => None,
-    };
+    // Energy-basis operators: the diagonal is read off directly; the others fill in per block.
+    let mut diags: Vec<Vec<f64>> = ops
+        .iter()
+        .map(|op| match op {
+            Operator::Real(OpData::EnergyBasis(m)) => (0..n).map(|i| m[(i, i)]).collect(),
+            Operator::Complex(OpData::EnergyBasis(m)) => (0..n).map(|i| m[(i, i)].re).collect(),
+            _ => Vec::with_capacity(n),
+        })
+        .collect();
+    let streamed: Vec<bool> = ops
+        .iter()
+        .map(|op| {
+            !matches!(
+                op,
+                Operator::Real(OpData::EnergyBasis(_)) | Operator::Complex(OpData::EnergyBasis(_))
+            )
+        })
+        .collect();
     let bc = block_columns(dim);
     let mut start = 0;
     while start < n {
@@ -199,17 +231,14 @@ pub fn coefficients_and_diagonal(
                 }
             }
         }
-        if let (Some(op), Some(d)) = (op, diag.as_mut()) {
-            if energy_diag.is_none() {
+        for ((op, d), &stream) in ops.iter().zip(diags.iter_mut()).zip(&streamed) {
+            if stream {
                 d.extend(block_diagonal(op, &blk)?);
             }
         }
         start = end;
     }
-    if let Some(ed) = energy_diag {
-        diag = Some(ed);
-    }
-    Ok((coeffs, diag))
+    Ok((coeffs, diags))
 }
 
 /// `Re vⱼᴴ A vⱼ` for the columns of one block.
@@ -317,66 +346,106 @@ pub fn kept_matrix(
     kept: &[usize],
     opts: &ProjectOptions,
 ) -> Result<(Matrix, KeptPath)> {
-    check_op(op, src.dim(), src.n_states())?;
-    let n = src.n_states();
-    if kept.windows(2).any(|w| w[0] >= w[1]) || kept.last().is_some_and(|&k| k >= n) {
-        return Err(Error::other(
-            "kept states must be strictly ascending indices into the eigenbasis",
-        ));
-    }
-    let k = kept.len();
-    match op {
-        Operator::Real(OpData::EnergyBasis(m)) => {
-            return Ok((
-                Matrix::Real(Mat::from_fn(k, k, |a, b| m[(kept[a], kept[b])])),
-                KeptPath::EnergyBasis,
-            ))
+    KeptBasis::new(kept.to_vec()).matrix(src, op, opts)
+}
+
+/// The kept states `K` of one state in one eigenbasis, for forming `A_KK` of several
+/// operators with [`KeptBasis::matrix`] (the same computation as [`kept_matrix`]): the
+/// gathered eigenvectors `V_K`, when that path is taken, are read once and kept for the
+/// next operator instead of being gathered again.
+#[derive(Debug, Clone)]
+pub struct KeptBasis {
+    kept: Vec<usize>,
+    gathered: Option<Matrix>,
+}
+
+impl KeptBasis {
+    /// The kept states `kept` (strictly ascending indices; checked by [`KeptBasis::matrix`]).
+    pub fn new(kept: Vec<usize>) -> Self {
+        KeptBasis {
+            kept,
+            gathered: None,
         }
-        Operator::Complex(OpData::EnergyBasis(m)) => {
-            return Ok((
-                Matrix::Complex(Mat::from_fn(k, k, |a, b| m[(kept[a], kept[b])])),
-                KeptPath::EnergyBasis,
-            ))
-        }
-        _ => {}
     }
-    let (Some(&first), Some(&last)) = (kept.first(), kept.last()) else {
-        let empty = match crate::project::result_field(src, &[op]) {
-            Field::Real => Matrix::Real(Mat::zeros(0, 0)),
-            Field::Complex => Matrix::Complex(Mat::zeros(0, 0)),
+
+    /// The kept states.
+    pub fn kept(&self) -> &[usize] {
+        &self.kept
+    }
+
+    /// `A_KK[a, b] = v_{k_a}ᴴ A v_{k_b}` for the operator `op` (see [`kept_matrix`]).
+    pub fn matrix(
+        &mut self,
+        src: &dyn ColumnSource,
+        op: &Operator,
+        opts: &ProjectOptions,
+    ) -> Result<(Matrix, KeptPath)> {
+        check_op(op, src.dim(), src.n_states())?;
+        let n = src.n_states();
+        let kept = self.kept.as_slice();
+        if kept.windows(2).any(|w| w[0] >= w[1]) || kept.last().is_some_and(|&k| k >= n) {
+            return Err(Error::other(
+                "kept states must be strictly ascending indices into the eigenbasis",
+            ));
+        }
+        let k = kept.len();
+        match op {
+            Operator::Real(OpData::EnergyBasis(m)) => {
+                return Ok((
+                    Matrix::Real(Mat::from_fn(k, k, |a, b| m[(kept[a], kept[b])])),
+                    KeptPath::EnergyBasis,
+                ))
+            }
+            Operator::Complex(OpData::EnergyBasis(m)) => {
+                return Ok((
+                    Matrix::Complex(Mat::from_fn(k, k, |a, b| m[(kept[a], kept[b])])),
+                    KeptPath::EnergyBasis,
+                ))
+            }
+            _ => {}
+        }
+        let (Some(&first), Some(&last)) = (kept.first(), kept.last()) else {
+            let empty = match crate::project::result_field(src, &[op]) {
+                Field::Real => Matrix::Real(Mat::zeros(0, 0)),
+                Field::Complex => Matrix::Complex(Mat::zeros(0, 0)),
+            };
+            return Ok((empty, KeptPath::Gathered));
         };
-        return Ok((empty, KeptPath::Gathered));
-    };
-    let elem = match src.field() {
-        Field::Real => 8.0,
-        Field::Complex => 16.0,
-    };
-    let gathered_bytes = elem * src.dim() as f64 * k as f64;
-    let one = |mut v: Vec<Matrix>| {
-        v.pop()
-            .ok_or_else(|| Error::other("internal: the projector returned no matrix"))
-    };
-    if last + 1 - first == k || gathered_bytes <= 0.5 * opts.budget_bytes as f64 {
-        // A contiguous K is its own window; otherwise gather V_K.
-        if last + 1 - first == k {
-            let m = one(project_window(src, &[op], first..last + 1, opts)?)?;
-            return Ok((m, KeptPath::Enclosing));
-        }
-        let vk = gather_columns(src, kept)?;
-        let half = ProjectOptions {
-            budget_bytes: opts.budget_bytes / 2,
-            ..*opts
+        let elem = match src.field() {
+            Field::Real => 8.0,
+            Field::Complex => 16.0,
         };
-        let m = one(project_window(&vk, &[op], 0..k, &half)?)?;
-        return Ok((m, KeptPath::Gathered));
+        let gathered_bytes = elem * src.dim() as f64 * k as f64;
+        let one = |mut v: Vec<Matrix>| {
+            v.pop()
+                .ok_or_else(|| Error::other("internal: the projector returned no matrix"))
+        };
+        if last + 1 - first == k || gathered_bytes <= 0.5 * opts.budget_bytes as f64 {
+            // A contiguous K is its own window; otherwise gather V_K (once).
+            if last + 1 - first == k {
+                let m = one(project_window(src, &[op], first..last + 1, opts)?)?;
+                return Ok((m, KeptPath::Enclosing));
+            }
+            let vk = match self.gathered.take() {
+                Some(vk) => vk,
+                None => gather_columns(src, kept)?,
+            };
+            let half = ProjectOptions {
+                budget_bytes: opts.budget_bytes / 2,
+                ..*opts
+            };
+            let m = one(project_window(&vk, &[op], 0..k, &half)?)?;
+            self.gathered = Some(vk);
+            return Ok((m, KeptPath::Gathered));
+        }
+        let w = one(project_window(src, &[op], first..last + 1, opts)?)?;
+        let pick = |a: usize| kept[a] - first;
+        let m = match &w {
+            Matrix::Real(x) => Matrix::Real(Mat::from_fn(k, k, |a, b| x[(pick(a), pick(b))])),
+            Matrix::Complex(x) => Matrix::Complex(Mat::from_fn(k, k, |a, b| x[(pick(a), pick(b))])),
+        };
+        Ok((m, KeptPath::Enclosing))
     }
-    let w = one(project_window(src, &[op], first..last + 1, opts)?)?;
-    let pick = |a: usize| kept[a] - first;
-    let m = match &w {
-        Matrix::Real(x) => Matrix::Real(Mat::from_fn(k, k, |a, b| x[(pick(a), pick(b))])),
-        Matrix::Complex(x) => Matrix::Complex(Mat::from_fn(k, k, |a, b| x[(pick(a), pick(b))])),
-    };
-    Ok((m, KeptPath::Enclosing))
 }
 
 #[cfg(test)]
@@ -482,6 +551,92 @@ mod tests {
         assert!((e.get_c(0, 1) - want[(0, 1)]).norm() < 1e-12);
         assert!(kept_matrix(&src, &dense, &[3, 2], &big).is_err());
         assert_eq!(kept_matrix(&src, &dense, &[], &big).unwrap().0.nrows(), 0);
+    }
+
+    /// An in-memory source that counts the eigenvector columns read (test only).
+    struct Counting {
+        m: Matrix,
+        columns: std::sync::atomic::AtomicUsize,
+    }
+
+    impl ColumnSource for Counting {
+        fn dim(&self) -> usize {
+            self.m.nrows()
+        }
+        fn n_states(&self) -> usize {
+            self.m.ncols()
+        }
+        fn field(&self) -> Field {
+            self.m.field()
+        }
+        fn read(&self, range: std::ops::Range<usize>) -> Result<Matrix> {
+            self.columns
+                .fetch_add(range.len(), std::sync::atomic::Ordering::Relaxed);
+            Ok(self.m.columns(range))
+        }
+    }
+
+    #[test]
+    fn shared_passes_give_the_per_operator_results_exactly() {
+        // coefficients and diagonals of several operators in one pass, and A_KK of several
+        // operators from one gathered V_K, are the per-operator results bit for bit (the
+        // same arithmetic on the same blocks; exact identity)
+        let mut rng = crate::model::rmt::rng(8);
+        let h = crate::model::rmt::gue(20, &mut rng);
+        let (_, v) = crate::linalg::eigh_complex(h.as_ref()).unwrap();
+        let a = crate::model::rmt::goe(20, &mut rng);
+        let cd = crate::model::rmt::gue(20, &mut rng);
+        let d: Vec<f64> = (0..20).map(|i| (i % 4) as f64 - 1.5).collect();
+        let src = Counting {
+            m: Matrix::Complex(v),
+            columns: 0.into(),
+        };
+        let big = ProjectOptions::with_budget(1 << 30);
+        let energy = Operator::Complex(OpData::EnergyBasis(
+            project_window(
+                &src.m,
+                &[&Operator::Complex(OpData::Dense(cd.clone()))],
+                0..20,
+                &big,
+            )
+            .unwrap()[0]
+                .to_complex(),
+        ));
+        let ops = [
+            Operator::Real(OpData::Dense(a)),
+            Operator::Complex(OpData::Dense(cd)),
+            Operator::Real(OpData::Diagonal(d)),
+            energy,
+        ];
+        let refs: Vec<&Operator> = ops.iter().collect();
+        let psi: Vec<c64> = (0..20)
+            .map(|i| c64::new((i as f64).sin(), (i as f64 * 0.3).cos()))
+            .collect();
+        let (coeffs, diags) = coefficients_and_diagonals(&src, &psi, &refs).unwrap();
+        // one pass: every column read once
+        assert_eq!(src.columns.load(std::sync::atomic::Ordering::Relaxed), 20);
+        assert_eq!(diags.len(), 4);
+        for (op, diag) in ops.iter().zip(&diags) {
+            let (c1, d1) = coefficients_and_diagonal(&src.m, &psi, Some(op)).unwrap();
+            assert_eq!(c1, coeffs);
+            assert_eq!(d1.as_ref(), Some(diag));
+        }
+        let kept = vec![0, 3, 4, 9, 17];
+        let mut basis = KeptBasis::new(kept.clone());
+        src.columns.store(0, std::sync::atomic::Ordering::Relaxed);
+        for op in &ops {
+            let (got, how) = basis.matrix(&src, op, &big).unwrap();
+            let (want, how1) = kept_matrix(&src.m, op, &kept, &big).unwrap();
+            assert_eq!(how, how1);
+            for x in 0..kept.len() {
+                for y in 0..kept.len() {
+                    assert_eq!(got.get_c(x, y), want.get_c(x, y));
+                }
+            }
+        }
+        // V_K was gathered once for the three operators that need it (blocks from kept[0]
+        // onwards: the whole 0..20 here), not three times
+        assert_eq!(src.columns.load(std::sync::atomic::Ordering::Relaxed), 20);
     }
 
     #[test]

@@ -837,6 +837,38 @@ pub fn quench_sector(
     times: &[f64],
     opts: &QuenchOptions,
 ) -> Result<SectorQuench> {
+    let (mut prepared, mut diags) = prepare_sector(src, energies, &[op], psi, opts)?;
+    let diag_all = diags
+        .pop()
+        .ok_or_else(|| Error::other("internal: no diagonal elements"))?;
+    prepared.quench(src, energies, op, diag_all, times, opts)
+}
+
+/// The part of a sector quench that depends on the state but not on the observable: the
+/// coefficients `cₙ = vₙᴴψ`, the kept states, and (once gathered) their eigenvectors `V_K`.
+/// Made by [`prepare_sector`]; [`PreparedSector::quench`] then runs one observable.
+#[derive(Debug, Clone)]
+pub struct PreparedSector {
+    /// `cₙ = ⟨n|ψ⟩` for all states.
+    pub coeffs: Vec<c64>,
+    /// The kept states ([`kept_states`] of `|cₙ|²` with `opts.drop_weight`).
+    pub kept: KeptStates,
+    basis: basis::KeptBasis,
+}
+
+/// The pipeline of [`quench_sector`] for several observables of one sector and one state,
+/// first part: `cₙ = vₙᴴψ` and `Aₙₙ` of every operator of `ops` in one streamed pass over the
+/// eigenvectors ([`basis::coefficients_and_diagonals`]) and the kept states. Returns the
+/// prepared sector and the diagonals `Aₙₙ` (all states) in the order of `ops`; each diagonal
+/// then goes to [`PreparedSector::quench`] with its operator. The results are those of
+/// [`quench_sector`] run on each operator in turn.
+pub fn prepare_sector(
+    src: &dyn crate::data::ColumnSource,
+    energies: &[f64],
+    ops: &[&crate::data::Operator],
+    psi: &[c64],
+    opts: &QuenchOptions,
+) -> Result<(PreparedSector, Vec<Vec<f64>>)> {
     if energies.len() != src.n_states() {
         return Err(Error::other(format!(
             "quench: {} energies but {} eigenvectors",
@@ -844,25 +876,50 @@ pub fn quench_sector(
             src.n_states()
         )));
     }
-    let (coeffs, diag) = basis::coefficients_and_diagonal(src, psi, Some(op))?;
-    let diag_all = diag.ok_or_else(|| Error::other("internal: no diagonal elements"))?;
+    let (coeffs, diags) = basis::coefficients_and_diagonals(src, psi, ops)?;
     let weights: Vec<f64> = coeffs.iter().map(|c| c.norm_sqr()).collect();
     let kept = kept_states(&weights, opts.drop_weight);
-    let (a_kk, _) = basis::kept_matrix(src, op, &kept.indices, &opts.project)?;
-    let mut opts = opts.clone();
-    if opts.operator_range.is_none() {
-        opts.operator_range = operator_range(op);
+    let basis = basis::KeptBasis::new(kept.indices.clone());
+    Ok((
+        PreparedSector {
+            coeffs,
+            kept,
+            basis,
+        },
+        diags,
+    ))
+}
+
+impl PreparedSector {
+    /// Second part of [`prepare_sector`], for one operator `op` with its diagonal elements
+    /// `diag_all` (`Aₙₙ` of all states): `A_KK` ([`basis::KeptBasis::matrix`], the projector
+    /// under `opts.project`; `V_K` is gathered at most once per prepared sector), then
+    /// [`analyze`]. `src` and `energies` must be those given to [`prepare_sector`].
+    pub fn quench(
+        &mut self,
+        src: &dyn crate::data::ColumnSource,
+        energies: &[f64],
+        op: &crate::data::Operator,
+        diag_all: Vec<f64>,
+        times: &[f64],
+        opts: &QuenchOptions,
+    ) -> Result<SectorQuench> {
+        let (a_kk, _) = self.basis.matrix(src, op, &opts.project)?;
+        let mut opts = opts.clone();
+        if opts.operator_range.is_none() {
+            opts.operator_range = operator_range(op);
+        }
+        let report = analyze(
+            energies,
+            &diag_all,
+            &self.coeffs,
+            &a_kk,
+            &self.kept.indices,
+            times,
+            &opts,
+        )?;
+        Ok(SectorQuench { report, diag_all })
     }
-    let report = analyze(
-        energies,
-        &diag_all,
-        &coeffs,
-        &a_kk,
-        &kept.indices,
-        times,
-        &opts,
-    )?;
-    Ok(SectorQuench { report, diag_all })
 }
 
 /// The combination of per-sector results for an operator that is block diagonal in the
