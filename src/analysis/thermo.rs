@@ -262,12 +262,17 @@ mod tests {
         assert!(beta_of_energy(&e, 1e9).is_none());
         // a 4096-level spectrum and energies near the edges, where Newton steps overshoot
         // and bisection takes over
-        let big: Vec<f64> = (0..4096).map(|i| (i as f64 * 0.618).fract() * 10.0).collect();
+        let big: Vec<f64> = (0..4096)
+            .map(|i| (i as f64 * 0.618).fract() * 10.0)
+            .collect();
         for beta in [-40.0, -2.0, 0.01, 3.0, 60.0] {
             let target = canonical_energy(&big, beta);
             let b = beta_of_energy(&big, target).expect("inside the range");
             let back = canonical_energy(&big, b);
-            assert!((back - target).abs() < 1e-10, "beta {beta}: ⟨H⟩ {back} vs {target}");
+            assert!(
+                (back - target).abs() < 1e-10,
+                "beta {beta}: ⟨H⟩ {back} vs {target}"
+            );
         }
     }
 
@@ -281,7 +286,10 @@ mod tests {
             let m: f64 = w.iter().zip(&e).map(|(p, x)| p * x).sum();
             let v: f64 = w.iter().zip(&e).map(|(p, x)| p * (x - m) * (x - m)).sum();
             let (gm, gv) = canonical_energy_moments(&e, beta);
-            assert!((gm - m).abs() < 1e-13 && (gv - v).abs() < 1e-12, "beta {beta}");
+            assert!(
+                (gm - m).abs() < 1e-13 && (gv - v).abs() < 1e-12,
+                "beta {beta}"
+            );
         }
     }
 
