@@ -903,6 +903,9 @@ fn with_prefetch<T: Elem, R>(
         drop(tx);
         return body(&mut fetch);
     }
+    // The reader's own copies (transposing HDF5 pieces into blocks) run on a one-thread
+    // pool: on the global pool they would queue behind the products they should overlap.
+    let pool = rayon::ThreadPoolBuilder::new().num_threads(1).build().ok();
     std::thread::scope(|scope| {
         let reader = scope.spawn(move || {
             let mut busy = 0.0;
@@ -910,7 +913,10 @@ fn with_prefetch<T: Elem, R>(
                 // keep one given-back block (the latest), free any others
                 let spare = back_rx.try_iter().last();
                 let t = std::time::Instant::now();
-                let m = read_block::<T>(src, r, spare);
+                let m = match &pool {
+                    Some(p) => p.install(|| read_block::<T>(src, r, spare)),
+                    None => read_block::<T>(src, r, spare),
+                };
                 busy += t.elapsed().as_secs_f64();
                 let failed = m.is_err();
                 if tx.send(m).is_err() || failed {

@@ -370,13 +370,13 @@ pub const SLAB_BYTES: usize = 32 << 20;
 /// column-major `c × r` matrix `M` with `M[j, i] = X[i, j]`, so that column `i` of `M`
 /// is row `i` of `X`, copied as one contiguous run.
 ///
-/// The dataset is read in slabs of about `slab_bytes` ([`SLAB_BYTES`] by default) that
-/// never cut a chunk: row
-/// slabs `X[i₀..i₁, :]` (each a contiguous block of `M`) when a row of chunks fits the
-/// slab size, otherwise column slabs `X[:, j₀..j₁]` on chunk boundaries, whose rows
-/// land in `M` as runs of `j₁ − j₀` entries. Every chunk is read once, no copy of the
-/// whole dataset in file order is made, and every value is checked with `finite`
-/// (the first bad one is reported with its `[i, j]` index).
+/// The dataset is read in slabs that never cut a chunk and hold each chunk in one
+/// contiguous piece of memory: row slabs `X[i₀..i₁, :]` of about `slab_bytes`
+/// ([`SLAB_BYTES`] by default; each a contiguous block of `M`) when the storage is
+/// contiguous or chunks span whole rows, otherwise column slabs `X[:, j₀..j₁]` exactly
+/// one chunk wide, whose rows land in `M` as runs of `j₁ − j₀` entries. Every chunk is
+/// read once, no copy of the whole dataset in file order is made, and every value is
+/// checked with `finite` (the first bad one is reported with its `[i, j]` index).
 ///
 /// For a Hermitian operator `A` stored in C order, `M = Aᵀ = conj(A)`: the real
 /// symmetric case needs no transposition at all.
@@ -452,7 +452,10 @@ where
     if r == 0 || c == 0 {
         return Ok(m);
     }
-    if cr * c * elem <= slab_bytes || cc >= c {
+    // Every chunk must land in a contiguous part of the slab buffer, or HDF5 (1.10)
+    // copies it row by row with one file read per row: row slabs when chunks span whole
+    // rows (or storage is contiguous), otherwise column slabs exactly one chunk wide.
+    if cc >= c {
         // row slabs: X[i0..i1, :] is, in C order, exactly the columns i0..i1 of M
         let step = cr * (slab_bytes / (cr * c * elem)).max(1);
         let mut i0 = 0;
@@ -469,7 +472,7 @@ where
         }
     } else {
         // column slabs on chunk boundaries: row i of X[:, j0..j1] is M[j0..j1, i]
-        let step = cc * (slab_bytes / (cc * r * elem)).max(1);
+        let step = cc;
         let mut j0 = 0;
         while j0 < c {
             let j1 = (j0 + step).min(c);
