@@ -15,8 +15,9 @@
 //!
 //! **Streaming.** The window is cut into column blocks `b₁ … b_k` so that the working
 //! memory stays below a budget in bytes. For each block `J` the products `A V_J` of
-//! all observables are formed once, then the blocks `I ≤ J` are streamed and
-//! `A_IJ = V_Iᴴ (A V_J)` is handed to a sink ([`for_each_block`]). Observables are
+//! all observables are formed once, then `I = J` and the blocks `I < J` are streamed
+//! and `A_IJ = V_Iᴴ (A V_J)` is handed to a sink ([`for_each_block`]; the diagonal pair
+//! comes first because it needs no read, so the next block is fetched meanwhile). Observables are
 //! Hermitian, so the blocks `I > J` are the adjoints `A_JI = A_IJᴴ` and are not
 //! computed: the sink sees every unordered pair of states exactly once (inside a
 //! diagonal block `I = J` it sees the full square, both `n < m` and `m < n`).
@@ -989,7 +990,9 @@ fn stream<T: Elem>(
                 }
             }
             project_s += t.elapsed().as_secs_f64();
-            for ri in bl.iter().take(jb + 1) {
+            // the diagonal pair (J, J) first: it needs no read, so the reader fetches
+            // block 0 while it is multiplied
+            for ri in std::iter::once(cj).chain(bl.iter().take(jb)) {
                 let mut vi_owned: Option<Mat<T>> = None;
                 let vi: Option<&Mat<T>> = if !needs_vectors {
                     None
