@@ -32,8 +32,8 @@
 //! chunk boundaries. Consumed blocks go back to the reader thread, which refills them
 //! in place: a long pass touches fresh memory for a few blocks only (first-touch page
 //! faults cost as much as the read itself on some virtual machines). The diagonal
-//! pass ([`project_diagonal`]) needs no `b²` term and gains nothing from wide blocks,
-//! so its blocks are also kept near [`DIAG_BLOCK_BYTES`].
+//! pass ([`project_diagonal`]) of diagonal and CSR operators needs no `b²` term and
+//! gains nothing from wide blocks, so its blocks are kept near [`DIAG_BLOCK_BYTES`].
 //!
 //! **Products.** Dense: `faer::linalg::matmul::matmul` with `Par::rayon(0)` into the
 //! preallocated buffers. CSR: `y = A x` row by row for each eigenvector column,
@@ -1076,10 +1076,12 @@ fn diag_stream<T: Elem>(
         .count();
     let elem = std::mem::size_of::<T>();
     let mut b = block_size(range.len(), n_dense, dim, elem, opts);
-    if opts.block.is_none() {
+    if opts.block.is_none() && n_dense == 0 {
         // Only diagonal elements are formed, so a wider block saves no work: keep
         // blocks near DIAG_BLOCK_BYTES (at least one chunk), whose memory the reader
-        // then refills, instead of one huge block of fresh memory.
+        // then refills, instead of one huge block of fresh memory. (Dense operators keep
+        // the widest block the budget allows: their products run best undisturbed by
+        // the reader and with the fewest passes.)
         let cap = (DIAG_BLOCK_BYTES / (dim.max(1) * elem))
             .max(src.chunk_states().unwrap_or(1))
             .max(1);
