@@ -53,7 +53,8 @@ pub fn compute(args: &Args) -> Result<Report> {
             let mut timing = Timing::default();
             let in_sector = |e: Error| Error::dataset(f.path(), s.group.clone(), e.to_string());
             let spectrum = f.spectrum(s)?;
-            let (ops, src) = load_sector(f, s, &args.ops.observables, &spectrum)?;
+            let (ops, src) =
+                load_sector(f, s, &args.ops.observables, &spectrum, opts.budget_bytes)?;
             let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
             let range = wspec.indices(&spectrum.energies);
             let label = wspec.label();

@@ -117,7 +117,13 @@ pub fn analyse_sector(
         &LevelOptions::default(),
     )
     .map_err(in_sector)?;
-    let (ops, src) = crate::commands::diagonal::load_sector(file, sector, names, &spectrum)?;
+    let (ops, src) = crate::commands::diagonal::load_sector(
+        file,
+        sector,
+        names,
+        &spectrum,
+        settings.project.budget_bytes,
+    )?;
     if sector.dim.is_some() {
         crate::input::validate::require_orthonormal(file, sector, src.as_ref())?;
     }
