@@ -246,8 +246,8 @@ fn levels_reports_the_unfolding_used() {
 fn dense_observable_larger_than_the_memory_budget() {
     // A dense 32×32 float64 observable is held whole: 8 KiB, over a 4000-byte budget.
     // Our own wording (common practice, no source).
-    fails_with(
-        &[
+    let args = |memory: &'static str| {
+        [
             "diagonal",
             "fixtures/good.h5",
             "--sector",
@@ -255,21 +255,15 @@ fn dense_observable_larger_than_the_memory_budget() {
             "--observable",
             "dense_x",
             "--memory",
-            "4000",
-        ],
+            memory,
+            "--json",
+        ]
+    };
+    fails_with(
+        &args("4000"),
         "fixtures/good.h5: /chain/observables/dense_x: dense observable of shape 32×32 needs 8.00 KiB in memory (8.00 KiB for all dense observables asked for), more than the memory budget 3.91 KiB: give a larger --memory, or store it in CSR or diagonal form",
     );
     // the same observable under a budget that holds it analyses normally
-    let (code, _out, err) = run(&[
-        "diagonal",
-        "fixtures/good.h5",
-        "--sector",
-        "chain",
-        "--observable",
-        "dense_x",
-        "--memory",
-        "1M",
-        "--json",
-    ]);
+    let (code, _out, err) = run(&args("1M"));
     assert_eq!(code, Some(0), "{err}");
 }

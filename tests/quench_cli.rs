@@ -1,6 +1,7 @@
 //! `eigentherm quench` on the command line: one-line errors, and an end-to-end run on a
 //! generated file.
 
+use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
 use std::process::Command;
 
 fn run(args: &[&str]) -> (bool, String, String) {
@@ -61,7 +62,6 @@ fn bad_options_give_one_line_errors() {
 
 #[test]
 fn end_to_end_on_a_generated_chain() {
-    use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("mfi6.h5");
     let sectors = build_chain(&ChainSpec {
@@ -140,7 +140,6 @@ fn sector_decomposition_matches_the_unresolved_chain() {
     // embeddings) and ignored (one sector, the full space): the whole-state figures agree,
     // D_eff = 1/Σ_s w̃_s²/D_eff,s, σ² = Σ_s w̃_s² σ²_s and the trace (exact identities for an
     // observable that is block diagonal in the sectors; linear algebra)
-    use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
     let dir = tempfile::tempdir().unwrap();
     let run_with = |reflection: Reflection, name: &str| -> serde_json::Value {
         let path = dir.path().join(name);
@@ -205,26 +204,12 @@ fn study_with_a_state_reports_quench_dynamics() {
     // `study --state`: the quench runs on every file and lands in results.json and in the
     // report section "Quench dynamics" (checks of the contract; the bound is Short 2011,
     // from memory, and D_eff ≥ 1 holds for any probability vector, 1/Σp² ≥ 1)
-    use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
     let dir = tempfile::tempdir().unwrap();
-    let mut files = Vec::new();
-    for l in [6, 8] {
-        let path = dir.path().join(format!("mfi{l}.h5"));
-        let sectors = build_chain(&ChainSpec {
-            model: ChainModel::MixedFieldIsing {
-                j: 1.0,
-                g: 0.9045,
-                h: 0.8090,
-            },
-            sites: l,
-            boundary: Boundary::Open,
-            reflection: Reflection::Resolve,
-            site: None,
-        })
-        .unwrap();
-        write_file(&path, &sectors).unwrap();
-        files.push(path.to_str().unwrap().to_string());
-    }
+    let paths = mixed_field_chains(dir.path(), &[6, 8]);
+    let files: Vec<String> = paths
+        .iter()
+        .map(|p| p.to_str().unwrap().to_string())
+        .collect();
     let out = dir.path().join("study");
     let mut args = vec!["study"];
     args.extend(files.iter().map(|s| s.as_str()));
@@ -282,26 +267,8 @@ fn study_with_several_observables_matches_single_observable_runs() {
     // must be exactly those of one run per observable (same arithmetic; no source needed)
     use eigentherm::commands::common::{InputArgs, PathArgs, SelectArgs};
     use eigentherm::commands::{scaling::PipelineArgs, study};
-    use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
     let dir = tempfile::tempdir().unwrap();
-    let mut files = Vec::new();
-    for l in [6, 8] {
-        let path = dir.path().join(format!("mfi{l}.h5"));
-        let sectors = build_chain(&ChainSpec {
-            model: ChainModel::MixedFieldIsing {
-                j: 1.0,
-                g: 0.9045,
-                h: 0.8090,
-            },
-            sites: l,
-            boundary: Boundary::Open,
-            reflection: Reflection::Resolve,
-            site: None,
-        })
-        .unwrap();
-        write_file(&path, &sectors).unwrap();
-        files.push(path);
-    }
+    let files = mixed_field_chains(dir.path(), &[6, 8]);
     let states = vec!["product:x+".to_string(), "product:y+".to_string()];
     let run = |observables: &[&str], out: &str| -> (serde_json::Value, std::path::PathBuf) {
         let out = dir.path().join(out);
@@ -362,4 +329,29 @@ fn study_with_several_observables_matches_single_observable_runs() {
         );
         assert_eq!(a, b, "{obs}");
     }
+}
+
+/// Writes the open mixed-field Ising chains of lengths `sizes` (J = 1, g = 0.9045,
+/// h = 0.8090, reflection sectors resolved) into `dir` as `mfi{L}.h5`.
+fn mixed_field_chains(dir: &std::path::Path, sizes: &[usize]) -> Vec<std::path::PathBuf> {
+    sizes
+        .iter()
+        .map(|&l| {
+            let path = dir.join(format!("mfi{l}.h5"));
+            let sectors = build_chain(&ChainSpec {
+                model: ChainModel::MixedFieldIsing {
+                    j: 1.0,
+                    g: 0.9045,
+                    h: 0.8090,
+                },
+                sites: l,
+                boundary: Boundary::Open,
+                reflection: Reflection::Resolve,
+                site: None,
+            })
+            .unwrap();
+            write_file(&path, &sectors).unwrap();
+            path
+        })
+        .collect()
 }
