@@ -93,7 +93,7 @@ pub fn beta_of_energy(energies: &[f64], e: f64) -> Option<f64> {
     if e > canonical_energy(energies, lo) || e < canonical_energy(energies, hi) {
         return None;
     }
-    let mut beta = 0.0f64.clamp(lo, hi);
+    let mut beta = 0.0f64; // inside the bracket (−bmax, bmax)
     for _ in 0..200 {
         let (h, var) = canonical_energy_moments(energies, beta);
         let f = h - e;

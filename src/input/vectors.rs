@@ -166,11 +166,12 @@ impl VectorReader {
         if b <= a {
             return Ok(());
         }
-        // Column layout of a chunked dataset: read chunk-aligned pieces (each piece a run
-        // of whole chunks, read straight into a small buffer) and transpose each into its
+        // Column layout of a chunked dataset: read pieces cut on chunk boundaries (one
+        // chunk column each by default, see `set_piece_bytes`) and transpose each into its
         // columns of the result, so that no second full-size copy of the block exists.
+        // A span within one piece is read in one call.
         if let (Layout::Columns, Some(c)) = (self.layout, self.chunk_states) {
-            if c > 0 && b - a > c {
+            if c > 0 {
                 let piece = c
                     * (self.piece_bytes / (self.dim.max(1) * c * std::mem::size_of::<T>())).max(1);
                 let mut s0 = a;
