@@ -261,7 +261,7 @@ fn dense_observable_larger_than_the_memory_budget() {
     };
     fails_with(
         &args("4000"),
-        "fixtures/good.h5: /chain/observables/dense_x: dense observable of shape 32×32 needs 8.00 KiB in memory (8.00 KiB for all dense observables asked for), more than the memory budget 3.91 KiB: give a larger --memory, or store it in CSR or diagonal form",
+        "fixtures/good.h5: /chain/observables/dense_x: dense observable of shape 32×32 needs 8.00 KiB in memory (8.00 KiB for all observables held whole), more than the memory budget 3.91 KiB: give a larger --memory, or store it in CSR or diagonal form",
     );
     // the same observable under a budget that holds it analyses normally
     let (code, _out, err) = run(&args("1M"));

@@ -175,7 +175,8 @@ fn check_dense_fit(
         file.path(),
         big.path.clone(),
         format!(
-            "dense observable of shape {} needs {} in memory ({} for all dense observables asked for), more than the memory budget {}: give a larger --memory, or store it in CSR or diagonal form",
+            "{} observable of shape {} needs {} in memory ({} for all observables held whole), more than the memory budget {}: give a larger --memory, or store it in CSR or diagonal form",
+            big.form,
             shape.join("×"),
             crate::project::human_bytes(*bytes),
             crate::project::human_bytes(total),
