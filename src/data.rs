@@ -137,6 +137,68 @@ pub struct Csr<T> {
     pub data: Vec<T>,
 }
 
+impl<T> Csr<T> {
+    /// Checks the structure: `indptr` of length `nrows + 1`, starting at 0, non-decreasing,
+    /// ending at `nnz = len(data) = len(indices)`, and every column index `< ncols`.
+    /// On failure: the part at fault (`"indptr"`, `"indices"` or `"data"`) and the problem
+    /// in words (callers add the file and dataset).
+    pub fn check(&self) -> std::result::Result<(), (&'static str, String)> {
+        let (p, nnz) = (&self.indptr, self.data.len());
+        if p.len() != self.nrows.saturating_add(1) {
+            return Err((
+                "indptr",
+                format!(
+                    "has {} entries, expected nrows + 1 = {} + 1",
+                    p.len(),
+                    self.nrows
+                ),
+            ));
+        }
+        if p.first() != Some(&0) {
+            let first = p.first().copied().unwrap_or(0);
+            return Err(("indptr", format!("must start at 0, starts at {first}")));
+        }
+        if let Some(i) = (0..p.len() - 1).find(|&i| p[i + 1] < p[i]) {
+            return Err((
+                "indptr",
+                format!(
+                    "decreases at row {i} ({} > {}); row pointers must be non-decreasing",
+                    p[i],
+                    p[i + 1]
+                ),
+            ));
+        }
+        if p.last() != Some(&nnz) {
+            let last = p.last().copied().unwrap_or(0);
+            return Err((
+                "indptr",
+                format!("ends at {last}, but data holds {nnz} values"),
+            ));
+        }
+        if self.indices.len() != nnz {
+            return Err((
+                "indices",
+                format!("holds {} entries, but data holds {nnz}", self.indices.len()),
+            ));
+        }
+        if let Some((k, &c)) = self
+            .indices
+            .iter()
+            .enumerate()
+            .find(|(_, &c)| c >= self.ncols)
+        {
+            return Err((
+                "indices",
+                format!(
+                    "column index {c} at position {k} is out of range (the matrix has {} columns)",
+                    self.ncols
+                ),
+            ));
+        }
+        Ok(())
+    }
+}
+
 /// How an operator is stored.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]

@@ -6,7 +6,7 @@ use eigentherm::analysis::{diagonal, thermo};
 use eigentherm::data::{Matrix, OpData, Operator};
 use eigentherm::linalg::{eigh_complex, eigh_real};
 use eigentherm::model::rmt;
-use eigentherm::project::{for_each_block, project_diagonal, ProjectOptions};
+use eigentherm::project::{for_each_block, project_diagonal, Budget};
 use faer::Mat;
 use std::f64::consts::PI;
 
@@ -15,9 +15,9 @@ fn offdiag(energies: &[f64], v: &Matrix, op: &Operator) -> OffdiagonalResult {
     let n = energies.len();
     let mut acc =
         Accumulator::new("A", energies, 0..n, "0:1", &OffdiagonalOptions::default()).unwrap();
-    let opts = ProjectOptions {
-        budget_bytes: usize::MAX,
+    let opts = Budget {
         block: Some(128),
+        ..Budget::new(usize::MAX)
     };
     for_each_block(v, &[op], 0..n, &opts, |blk| {
         acc.add_block(blk, &blk.elements[0])
@@ -124,7 +124,7 @@ fn free_spins_canonical_prediction_is_minus_tanh() {
             .map(|s| if (s >> site) & 1 == 1 { 1.0 } else { -1.0 })
             .collect(),
     ));
-    let diag = project_diagonal(&v, &[&sz], 0..dim, &ProjectOptions::with_budget(1 << 26))
+    let diag = project_diagonal(&v, &[&sz], 0..dim, &Budget::new(1 << 26))
         .unwrap()
         .remove(0);
     for beta in [-1.0, -0.2, 0.0, 0.3, 1.5] {
@@ -171,7 +171,7 @@ fn mixed_field_ising(sizes: &[usize]) -> Vec<(usize, f64, f64, f64)> {
         let obs = s.observables.iter().find(|o| o.name == "sz_site").unwrap();
         let v = s.eigenvectors.as_ref().unwrap();
         let n = s.energies.len();
-        let diag = project_diagonal(v, &[&obs.op], 0..n, &ProjectOptions::with_budget(1 << 28))
+        let diag = project_diagonal(v, &[&obs.op], 0..n, &Budget::new(1 << 28))
             .unwrap()
             .remove(0);
         let w = eigentherm::window::Window::MATRIX_ELEMENTS.indices(n);

@@ -10,7 +10,7 @@ use eigentherm::commands::{diagonal as dcmd, offdiagonal as ocmd};
 use eigentherm::data::{Matrix, OpData, Operator};
 use eigentherm::linalg::eigh_real;
 use eigentherm::model::rmt;
-use eigentherm::project::{project_diagonal, project_window, ProjectOptions};
+use eigentherm::project::{project_diagonal, project_window, Budget};
 use faer::Mat;
 
 const N: usize = 120;
@@ -53,7 +53,7 @@ fn commands_match_library_on_file() {
     let p = path.to_str().unwrap();
     let src = Matrix::Real(v);
     let op = Operator::Real(OpData::Diagonal(d));
-    let big = ProjectOptions::with_budget(1 << 30);
+    let big = Budget::new(1 << 30);
 
     // diagonal
     let Command::Diagonal(a) = parse(&["eigentherm", "diagonal", p, "--window", "0.2:0.8"]) else {

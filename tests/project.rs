@@ -4,17 +4,15 @@
 use eigentherm::data::{c64, ColumnSource, Csr, Matrix, OpData, Operator};
 use eigentherm::linalg::{eigh_complex, eigh_real};
 use eigentherm::model::rmt;
-use eigentherm::project::{
-    for_each_block, project_diagonal, project_window, NoVectors, ProjectOptions,
-};
+use eigentherm::project::{for_each_block, project_diagonal, project_window, Budget, NoVectors};
 use faer::Mat;
 use nalgebra::DMatrix;
 use rand::Rng;
 
 const BIG: usize = 1 << 30;
 
-fn one_block() -> ProjectOptions {
-    ProjectOptions::with_budget(BIG)
+fn one_block() -> Budget {
+    Budget::new(BIG)
 }
 
 fn real_basis(n: usize, seed: u64) -> Mat<f64> {
@@ -237,9 +235,9 @@ fn streaming_many_blocks_equals_one_block() {
     let range = 3..45;
     let whole = project_window(&src, &refs, range.clone(), &one_block()).unwrap();
     // a budget that forces blocks of a few columns: (4+3)·48·b·16 + 3·b²·16 ≤ 20000 → b = 3
-    let tight = ProjectOptions {
-        budget_bytes: 20_000,
+    let tight = Budget {
         block: None,
+        ..Budget::new(20_000)
     };
     assert_eq!(
         eigentherm::project::block_size(range.len(), 3, n, 16, &tight),
@@ -264,9 +262,9 @@ fn streaming_many_blocks_equals_one_block() {
             assert_eq!(c, 1, "pair ({i},{j}) delivered once");
         }
     }
-    let budget_streamed = ProjectOptions {
-        budget_bytes: usize::MAX,
+    let budget_streamed = Budget {
         block: Some(5),
+        ..Budget::new(usize::MAX)
     };
     let many = project_window(&src, &refs, range.clone(), &budget_streamed).unwrap();
     for (w, m) in whole.iter().zip(&many) {
@@ -307,7 +305,7 @@ fn window_too_large_for_budget_is_an_error() {
     // bad input → error, not a panic (common practice, no source)
     let v = Matrix::Real(real_basis(20, 10));
     let op = Operator::Real(OpData::Diagonal(vec![1.0; 20]));
-    let e = project_window(&v, &[&op], 0..20, &ProjectOptions::with_budget(100)).unwrap_err();
+    let e = project_window(&v, &[&op], 0..20, &Budget::new(100)).unwrap_err();
     assert!(e.to_string().contains("memory budget"), "{e}");
 }
 

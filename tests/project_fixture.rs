@@ -3,7 +3,7 @@
 //! (V_Wᴴ A V_W with `numpy` matrix products, CSR built by `scipy.sparse.csr_matrix`).
 
 use eigentherm::data::{c64, Csr, Matrix, OpData, Operator};
-use eigentherm::project::{project_window, ProjectOptions};
+use eigentherm::project::{project_window, Budget};
 use faer::Mat;
 use serde_json::Value;
 
@@ -91,10 +91,10 @@ fn matches_numpy_reference() {
         };
         let refs: Vec<&Operator> = ops.iter().collect();
         for opts in [
-            ProjectOptions::with_budget(1 << 30),
-            ProjectOptions {
-                budget_bytes: 1 << 30,
+            Budget::new(1 << 30),
+            Budget {
                 block: Some(3),
+                ..Budget::new(1 << 30)
             },
         ] {
             let got = project_window(&src, &refs, w[0]..w[1], &opts).unwrap();

@@ -7,7 +7,7 @@ use eigentherm::input::{EigenFile, Overrides};
 use eigentherm::linalg::eigh_real;
 use eigentherm::model::rmt;
 use eigentherm::project::{
-    for_each_block_timed, project_diagonal, project_diagonal_timed, project_window, ProjectOptions,
+    for_each_block_timed, project_diagonal, project_diagonal_timed, project_window, Budget,
     StageTiming,
 };
 use faer::Mat;
@@ -105,9 +105,9 @@ fn streaming_through_the_file_matches_in_memory() {
         .collect();
     let refs: Vec<&Operator> = ops.iter().collect();
     let memory = Matrix::Real(data.v.clone());
-    let big = ProjectOptions::with_budget(1 << 30);
+    let big = Budget::new(1 << 30);
     // (4 + 3)·150·8·b + 3·8·b² ≤ 300 000 gives b = 33, cut to 32 = 2 chunks
-    let tiny = ProjectOptions::with_budget(300_000);
+    let tiny = Budget::new(300_000);
     let window = 30..135;
 
     let want = project_window(&memory, &refs, window.clone(), &big).unwrap();

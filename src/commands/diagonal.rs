@@ -23,7 +23,7 @@ use crate::commands::common::{InputArgs, SelectArgs};
 use crate::data::{ColumnSource, Operator, OperatorForm};
 use crate::error::{Error, Result};
 use crate::input::{EigenFile, Sector};
-use crate::project::{self, NoVectors, ProjectOptions};
+use crate::project::{self, Budget, NoVectors};
 use crate::window::{Window, WindowSpec};
 use serde::Serialize;
 use std::time::Instant;
@@ -187,7 +187,7 @@ fn check_dense_fit(
 
 /// Runs the diagonal analysis on every selected file, sector and observable.
 pub fn compute(args: &Args) -> Result<Report> {
-    let opts = ProjectOptions::from_memory_arg(args.ops.memory.as_deref())?;
+    let opts = Budget::from_arg(args.ops.memory.as_deref())?;
     let wspec: WindowSpec = args.select.window_spec(Window::MATRIX_ELEMENTS)?;
     let policy = parse_predictions(&args.predictions)?;
     let files = args.input.open()?;
@@ -198,8 +198,7 @@ pub fn compute(args: &Args) -> Result<Report> {
             let mut timing = Timing::default();
             let in_sector = |e: Error| Error::dataset(f.path(), s.group.clone(), e.to_string());
             let spectrum = f.spectrum(s)?;
-            let (ops, src) =
-                load_sector(f, s, &args.ops.observables, &spectrum, opts.budget_bytes)?;
+            let (ops, src) = load_sector(f, s, &args.ops.observables, &spectrum, opts.bytes)?;
             let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
             let n = spectrum.len();
             let range = wspec.indices(&spectrum.energies);
@@ -253,7 +252,7 @@ pub fn compute(args: &Args) -> Result<Report> {
         }
     }
     Ok(Report {
-        memory_budget: opts.budget_bytes,
+        memory_budget: opts.bytes,
         sectors,
     })
 }

@@ -11,7 +11,7 @@ use crate::commands::common::{InputArgs, SelectArgs};
 use crate::commands::diagonal::{load_sector, Timing};
 use crate::data::Operator;
 use crate::error::{Error, Result};
-use crate::project::{self, ProjectOptions};
+use crate::project::{self, Budget};
 use crate::window::{Window, WindowSpec};
 use std::time::Instant;
 
@@ -40,7 +40,7 @@ pub type Report = crate::commands::common::Report<OffdiagonalResult>;
 
 /// Runs the off-diagonal analysis on every selected file, sector and observable.
 pub fn compute(args: &Args) -> Result<Report> {
-    let opts = ProjectOptions::from_memory_arg(args.ops.memory.as_deref())?;
+    let opts = Budget::from_arg(args.ops.memory.as_deref())?;
     let wspec: WindowSpec = args.select.window_spec(Window::MATRIX_ELEMENTS)?;
     let aopts = OffdiagonalOptions {
         omega_max: args.omega_max,
@@ -53,8 +53,7 @@ pub fn compute(args: &Args) -> Result<Report> {
             let mut timing = Timing::default();
             let in_sector = |e: Error| Error::dataset(f.path(), s.group.clone(), e.to_string());
             let spectrum = f.spectrum(s)?;
-            let (ops, src) =
-                load_sector(f, s, &args.ops.observables, &spectrum, opts.budget_bytes)?;
+            let (ops, src) = load_sector(f, s, &args.ops.observables, &spectrum, opts.bytes)?;
             let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
             let range = wspec.indices(&spectrum.energies);
             let label = wspec.label();
@@ -102,7 +101,7 @@ pub fn compute(args: &Args) -> Result<Report> {
         }
     }
     Ok(Report {
-        memory_budget: opts.budget_bytes,
+        memory_budget: opts.bytes,
         sectors,
     })
 }

@@ -136,7 +136,7 @@ pub fn run(args: &Args) -> Result<()> {
     let opts = QuenchOptions {
         shell_half_width: args.shell_width.map(|w| 0.5 * w),
         drop_weight: args.drop_weight,
-        project: crate::project::ProjectOptions::from_memory_arg(args.memory.as_deref())?,
+        project: crate::project::Budget::from_arg(args.memory.as_deref())?,
         ..QuenchOptions::default()
     };
     let overrides = overrides(&args.input.paths)?;

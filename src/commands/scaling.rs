@@ -17,7 +17,7 @@ use crate::commands::common::{InputArgs, SelectArgs};
 use crate::commands::sector::{analyse_sector, SectorAnalysis, SectorSettings, RESAMPLES};
 use crate::data::Field;
 use crate::error::{Error, Result};
-use crate::project::ProjectOptions;
+use crate::project::Budget;
 use crate::window::Window;
 use serde::Serialize;
 
@@ -160,7 +160,7 @@ pub fn settings(
         levels_window,
         window: select.window_spec(Window::MATRIX_ELEMENTS)?,
         offdiagonal: OffdiagonalOptions { omega_max },
-        project: ProjectOptions::from_memory_arg(memory)?,
+        project: Budget::from_arg(memory)?,
     })
 }
 

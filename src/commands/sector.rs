@@ -17,7 +17,7 @@ use crate::analysis::scaling::{block_bootstrap, default_block_length, DEFAULT_SE
 use crate::data::{Field, Operator, Spectrum};
 use crate::error::{Error, Result};
 use crate::input::{EigenFile, Sector};
-use crate::project::{self, ProjectOptions};
+use crate::project::{self, Budget};
 use crate::window::WindowSpec;
 use serde::Serialize;
 
@@ -34,7 +34,7 @@ pub struct SectorSettings {
     /// Off-diagonal options (omega_max).
     pub offdiagonal: OffdiagonalOptions,
     /// Projector memory budget.
-    pub project: ProjectOptions,
+    pub project: Budget,
 }
 
 /// Bootstrap errors of the diagonal fluctuation figures.
@@ -122,7 +122,7 @@ pub fn analyse_sector(
         sector,
         names,
         &spectrum,
-        settings.project.budget_bytes,
+        settings.project.bytes,
     )?;
     if sector.dim.is_some() {
         crate::input::validate::require_orthonormal(file, sector, src.as_ref())?;

@@ -102,7 +102,7 @@ pub fn study(args: &Args) -> Result<StudyOutput> {
         ),
         (
             "memory budget (bytes)".to_string(),
-            st.project.budget_bytes.to_string(),
+            st.project.bytes.to_string(),
         ),
         (
             "sectors".to_string(),
@@ -442,7 +442,7 @@ fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
 }
 
 /// Runs the quench of every (observable, state) on every file (nothing without `--state`).
-fn quench_all(args: &Args, project: crate::project::ProjectOptions) -> Result<Vec<QuenchStudy>> {
+fn quench_all(args: &Args, project: crate::project::Budget) -> Result<Vec<QuenchStudy>> {
     use crate::analysis::quench::{state::StateSpec, QuenchOptions, TimeGrid};
     use crate::commands::quench::{quench_file, Job};
     if args.states.is_empty() {

@@ -252,42 +252,10 @@ fn not_hermitian(file: &Path, path: &str, worst: (f64, usize, usize), max: f64) 
     )
 }
 
-/// Checks the CSR structure: `indptr[0] = 0`, non-decreasing, `indptr[nrows] = nnz`,
-/// column indices `< ncols`.
+/// Checks the CSR structure ([`Csr::check`]), naming the dataset at fault.
 fn check_csr<T>(file: &Path, path: &str, a: &Csr<T>) -> Result<()> {
-    let nnz = a.data.len();
-    let p = &a.indptr;
-    let bad = |what: String| Error::dataset(file, join(path, "indptr"), what);
-    if p.first() != Some(&0) {
-        return Err(bad(format!(
-            "must start at 0, starts at {}",
-            p.first().copied().unwrap_or(0)
-        )));
-    }
-    if let Some(i) = (0..p.len().saturating_sub(1)).find(|&i| p[i + 1] < p[i]) {
-        return Err(bad(format!(
-            "decreases at row {i} ({} > {}); row pointers must be non-decreasing",
-            p[i],
-            p[i + 1]
-        )));
-    }
-    if p.last() != Some(&nnz) {
-        return Err(bad(format!(
-            "ends at {}, but data holds {nnz} values",
-            p.last().copied().unwrap_or(0)
-        )));
-    }
-    if let Some((k, &c)) = a.indices.iter().enumerate().find(|(_, &c)| c >= a.ncols) {
-        return Err(Error::dataset(
-            file,
-            join(path, "indices"),
-            format!(
-                "column index {c} at position {k} is out of range (the matrix has {} columns)",
-                a.ncols
-            ),
-        ));
-    }
-    Ok(())
+    a.check()
+        .map_err(|(part, problem)| Error::dataset(file, join(path, part), problem))
 }
 
 fn check_hermitian_csr<T: Scalar>(file: &Path, path: &str, a: &Csr<T>) -> Result<()> {

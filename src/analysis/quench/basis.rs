@@ -14,7 +14,7 @@
 
 use crate::data::{c64, ColumnSource, Csr, Field, Matrix, OpData, Operator};
 use crate::error::{Error, Result};
-use crate::project::{project_window, ProjectOptions};
+use crate::project::{project_window, Budget};
 use faer::linalg::matmul::matmul;
 use faer::{Accum, Mat, MatRef, Par};
 use serde::Serialize;
@@ -336,7 +336,7 @@ pub enum KeptPath {
 /// (one streamed pass) into an in-memory [`Matrix`] `V_K` (which is a [`ColumnSource`])
 /// and its window `0..|K|` is projected: `dim·|K|²` operations. That holds `V_K`
 /// (`dim·|K|` elements) in memory, so it is done when `V_K` takes at most half of the
-/// budget `opts.budget_bytes` (the projector gets the other half); otherwise the
+/// budget `opts.bytes` (the projector gets the other half); otherwise the
 /// enclosing range is streamed under the whole budget and sliced, which stays within the
 /// budget as long as the `|W|²` result does (the projector reports an error otherwise).
 /// Operators stored in the energy basis are sliced directly.
@@ -344,7 +344,7 @@ pub fn kept_matrix(
     src: &dyn ColumnSource,
     op: &Operator,
     kept: &[usize],
-    opts: &ProjectOptions,
+    opts: &Budget,
 ) -> Result<(Matrix, KeptPath)> {
     KeptBasis::new(kept.to_vec()).matrix(src, op, opts)
 }
@@ -378,7 +378,7 @@ impl KeptBasis {
         &mut self,
         src: &dyn ColumnSource,
         op: &Operator,
-        opts: &ProjectOptions,
+        opts: &Budget,
     ) -> Result<(Matrix, KeptPath)> {
         check_op(op, src.dim(), src.n_states())?;
         let n = src.n_states();
@@ -420,7 +420,7 @@ impl KeptBasis {
             v.pop()
                 .ok_or_else(|| Error::other("internal: the projector returned no matrix"))
         };
-        if last + 1 - first == k || gathered_bytes <= 0.5 * opts.budget_bytes as f64 {
+        if last + 1 - first == k || gathered_bytes <= 0.5 * opts.bytes as f64 {
             // A contiguous K is its own window; otherwise gather V_K (once).
             if last + 1 - first == k {
                 let m = one(project_window(src, &[op], first..last + 1, opts)?)?;
@@ -430,8 +430,8 @@ impl KeptBasis {
                 Some(vk) => vk,
                 None => gather_columns(src, kept)?,
             };
-            let half = ProjectOptions {
-                budget_bytes: opts.budget_bytes / 2,
+            let half = Budget {
+                bytes: opts.bytes / 2,
                 ..*opts
             };
             let m = one(project_window(&vk, &[op], 0..k, &half)?)?;
@@ -486,7 +486,7 @@ mod tests {
             Operator::Real(OpData::EnergyBasis(energy.clone())),
         ];
         for op in &forms {
-            let (a, _) = kept_matrix(&src, op, &kept, &ProjectOptions::default()).unwrap();
+            let (a, _) = kept_matrix(&src, op, &kept, &Budget::default()).unwrap();
             for (x, &kx) in kept.iter().enumerate() {
                 for (y, &ky) in kept.iter().enumerate() {
                     assert!((a.get_c(x, y).re - energy[(kx, ky)]).abs() < 1e-12);
@@ -501,7 +501,7 @@ mod tests {
         }
         // complex eigenvectors with a real operator take the promoted path
         let srcc = Matrix::Complex(Matrix::Real(v).to_complex());
-        let (a, _) = kept_matrix(&srcc, &forms[2], &kept, &ProjectOptions::default()).unwrap();
+        let (a, _) = kept_matrix(&srcc, &forms[2], &kept, &Budget::default()).unwrap();
         assert!((a.get_c(1, 2).re - energy[(4, 5)]).abs() < 1e-12);
     }
 
@@ -519,11 +519,11 @@ mod tests {
         let cdense = Operator::Complex(OpData::Dense(cd.clone()));
         let ad = Mat::from_fn(20, 20, |i, j| c64::new(a[(i, j)], 0.0));
         let src = Matrix::Complex(v.clone());
-        let big = ProjectOptions::with_budget(1 << 30);
+        let big = Budget::new(1 << 30);
         // 20 × 3 complex columns = 960 bytes: a 1000-byte budget forces the enclosing range
-        let small = ProjectOptions {
-            budget_bytes: 1000,
+        let small = Budget {
             block: Some(4),
+            ..Budget::new(1000)
         };
         for (op, full) in [(&dense, &ad), (&cdense, &cd)] {
             for (kept, opts, path) in [
@@ -591,7 +591,7 @@ mod tests {
             m: Matrix::Complex(v),
             columns: 0.into(),
         };
-        let big = ProjectOptions::with_budget(1 << 30);
+        let big = Budget::new(1 << 30);
         let energy = Operator::Complex(OpData::EnergyBasis(
             project_window(
                 &src.m,
@@ -644,7 +644,7 @@ mod tests {
         // clear error instead of a panic (common practice, no source)
         let src = Matrix::Real(Mat::identity(4, 4));
         let op = Operator::Real(OpData::Diagonal(vec![1.0; 5]));
-        assert!(kept_matrix(&src, &op, &[0, 1], &ProjectOptions::default()).is_err());
+        assert!(kept_matrix(&src, &op, &[0, 1], &Budget::default()).is_err());
         assert!(coefficients_and_diagonal(&src, &[c64::new(1.0, 0.0); 3], None).is_err());
     }
 }

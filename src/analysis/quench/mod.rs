@@ -89,7 +89,7 @@ pub struct QuenchOptions {
     /// Memory budget and block size of the projector that forms `A_KK`
     /// ([`basis::kept_matrix`]); not part of the results.
     #[serde(skip)]
-    pub project: crate::project::ProjectOptions,
+    pub project: crate::project::Budget,
     /// An interval `[lo, hi]` known to hold the spectrum of the operator (e.g. its Gershgorin
     /// interval, [`operator_range`]); by Cauchy interlacing it also holds the spectrum of
     /// `A_KK`, and it tightens the bound when `|K|` is too large for exact eigenvalues.
@@ -104,7 +104,7 @@ impl Default for QuenchOptions {
             envelope: None,
             degeneracy_tol: None,
             drop_weight: DEFAULT_DROP_WEIGHT,
-            project: crate::project::ProjectOptions::default(),
+            project: crate::project::Budget::default(),
             operator_range: None,
         }
     }
