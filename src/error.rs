@@ -2,7 +2,14 @@
 //!
 //! Every error renders as one line that names the file, the dataset (where there
 //! is one) and what is wrong, so that `main` can print `error: {e}` and exit
-//! with a non-zero status. No error path panics.
+//! with a non-zero status ([`Error::exit_code`]: 2 for a bad command line or a bad
+//! input file, 1 for an analysis that cannot be carried out). No error path panics.
+//!
+//! **Context.** Library code below the pipeline does not know which file it is working
+//! on: it returns [`Error::other`]. The one way to add the file and dataset is
+//! [`Error::at`] (or [`Context::at`] on a `Result`): it names them on errors that lack
+//! them and leaves errors that already name a file unchanged, so that no message names
+//! the file twice.
 
 use std::path::{Path, PathBuf};
 
@@ -38,6 +45,17 @@ pub enum Error {
         /// The underlying error.
         #[source]
         source: std::io::Error,
+    },
+    /// An analysis that cannot be carried out on one dataset (too few states, a singular
+    /// fit, ...): an [`Error::Other`] given its file and dataset by [`Error::at`].
+    #[error("{}: {dataset}: {problem}", file.display())]
+    Analysis {
+        /// The file concerned.
+        file: PathBuf,
+        /// Full HDF5 path of the dataset or group.
+        dataset: String,
+        /// What went wrong, in plain words.
+        problem: String,
     },
     /// Anything else (numerical failure and the like), already phrased for the user.
     #[error("{0}")]
@@ -82,6 +100,49 @@ impl Error {
     /// Any other error, phrased for the user.
     pub fn other(msg: impl Into<String>) -> Self {
         Error::Other(one_line(msg.into()))
+    }
+}
+
+impl Error {
+    /// The error with its file and dataset: an [`Error::Other`] becomes an
+    /// [`Error::Analysis`] naming them; every other error already names what it concerns
+    /// (or is not about a file) and is returned unchanged.
+    pub fn at(self, file: impl AsRef<Path>, dataset: impl Into<String>) -> Error {
+        match self {
+            Error::Other(problem) => Error::Analysis {
+                file: file.as_ref().to_path_buf(),
+                dataset: dataset.into(),
+                problem,
+            },
+            e => e,
+        }
+    }
+
+    /// Exit status of the binary for this error: 2 for a usage error or a problem with
+    /// an input file, 1 for an analysis or output error.
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            Error::Usage(_) | Error::File { .. } | Error::Dataset { .. } => 2,
+            Error::Io { .. } | Error::Analysis { .. } | Error::Other(_) => 1,
+        }
+    }
+
+    /// True when writing stopped because the reader of our output went away (a closed
+    /// pipe, as in `eigentherm levels FILE | head`): a normal end, not an error.
+    pub fn is_broken_pipe(&self) -> bool {
+        matches!(self, Error::Io { source, .. } if source.kind() == std::io::ErrorKind::BrokenPipe)
+    }
+}
+
+/// [`Error::at`] on the error of a `Result`.
+pub trait Context<T> {
+    /// The result, its error given the file and dataset (see [`Error::at`]).
+    fn at(self, file: impl AsRef<Path>, dataset: impl Into<String>) -> Result<T>;
+}
+
+impl<T> Context<T> for Result<T> {
+    fn at(self, file: impl AsRef<Path>, dataset: impl Into<String>) -> Result<T> {
+        self.map_err(|e| e.at(file, dataset))
     }
 }
 

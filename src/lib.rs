@@ -12,20 +12,23 @@
 //! - [`analysis`]: level statistics, diagonal and off-diagonal ETH figures,
 //!   thermodynamic predictions, quench dynamics, finite-size scaling;
 //! - [`report`]: JSON, tables, SVG figures and the HTML report;
-//! - [`commands`]: one function per subcommand, gluing the stages together.
+//! - [`pipeline`]: the only stage that calls both input and analysis: per-sector
+//!   pipeline, quench over sectors, study;
+//! - [`cli`]: clap definitions, flags resolved into the option structs above.
 //!
 //! Results are numerical evidence about finite systems, not proofs.
 
 pub mod analysis;
 pub mod cli;
-pub mod commands;
 pub mod data;
 pub mod error;
 pub mod input;
 pub mod linalg;
 pub mod model;
+pub mod pipeline;
 pub mod progress;
 pub mod project;
+pub mod provenance;
 pub mod report;
 pub mod window;
 

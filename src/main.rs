@@ -1,11 +1,18 @@
-//! The `eigentherm` binary: parses the command line and hands it to the library.
+//! The `eigentherm` binary: parses the command line, hands it to the library, and turns
+//! the outcome into an exit status (0 ok, 1 analysis error, 2 usage or input error; a
+//! closed output pipe is a normal end).
 
 use clap::Parser;
+use std::process::ExitCode;
 
-fn main() {
+fn main() -> ExitCode {
     let cli = eigentherm::cli::Cli::parse();
-    if let Err(e) = eigentherm::cli::run(cli) {
-        eprintln!("error: {e}");
-        std::process::exit(1);
+    match eigentherm::cli::run(cli) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) if e.is_broken_pipe() => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("error: {e}");
+            ExitCode::from(e.exit_code())
+        }
     }
 }

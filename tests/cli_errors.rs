@@ -21,10 +21,11 @@ fn run(args: &[&str]) -> (Option<i32>, String, String) {
     )
 }
 
-/// Asserts that `args` fails with exactly the one-line `expected` on stderr.
+/// Asserts that `args` fails with exactly the one-line `expected` on stderr and the exit
+/// status of a usage or input error, 2 (the README's exit statuses).
 fn fails_with(args: &[&str], expected: &str) {
     let (code, _out, err) = run(args);
-    assert_eq!(code, Some(1), "exit code of {args:?}; stderr: {err}");
+    assert_eq!(code, Some(2), "exit code of {args:?}; stderr: {err}");
     assert!(!err.contains("panicked"), "{err}");
     assert!(!err.contains("HDF5-DIAG"), "HDF5 error stack leaked: {err}");
     assert_eq!(err, format!("error: {expected}\n"), "stderr of {args:?}");
@@ -148,7 +149,7 @@ fn unknown_sector_lists_the_existing_ones() {
 fn non_orthonormal_eigenvectors() {
     // v1 = v0 + 1e-3 v1 in the script: ⟨v0|v1⟩ = 1, so max |VᴴV − 1| = 1.0
     let (code, out, err) = run(&["inspect", "--verify", "fixtures/bad/not_orthonormal.h5"]);
-    assert_eq!(code, Some(1));
+    assert_eq!(code, Some(2));
     assert!(
         out.contains("over 8 sampled states (tolerance 1e-8): FAIL"),
         "{out}"
@@ -266,4 +267,50 @@ fn dense_observable_larger_than_the_memory_budget() {
     // the same observable under a budget that holds it analyses normally
     let (code, _out, err) = run(&args("1M"));
     assert_eq!(code, Some(0), "{err}");
+}
+
+#[test]
+fn a_closed_pipe_is_a_normal_end() {
+    // `eigentherm levels FILE | head -1`: the reader goes away after one line; the command
+    // ends with status 0 and nothing on stderr (common practice of command-line tools, no
+    // source). The pipe is closed before the command writes, so the write must fail.
+    use std::process::Stdio;
+    let mut child = Command::new(env!("CARGO_BIN_EXE_eigentherm"))
+        .args(["levels", "fixtures/good.h5"])
+        .current_dir(Path::new(env!("CARGO_MANIFEST_DIR")))
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the binary runs");
+    drop(child.stdout.take());
+    let out = child.wait_with_output().expect("the binary ends");
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(0), "{err}");
+    assert!(!err.contains("error") && !err.contains("panicked"), "{err}");
+}
+
+#[test]
+fn exit_status_separates_usage_input_and_analysis_errors() {
+    // 0 ok, 1 analysis error, 2 usage or input error (the README's exit statuses)
+    let (code, _, err) = run(&["levels", "fixtures/good.h5", "--window", "0.5:0.4"]);
+    assert_eq!(code, Some(2), "{err}");
+    let (code, _, err) = run(&["levels", "fixtures/good.h5", "--threads", "0"]);
+    assert_eq!(code, Some(2), "{err}");
+    let (code, _, err) = run(&["levels", "fixtures/good.h5", "--threads", "1", "--json"]);
+    assert_eq!(code, Some(0), "{err}");
+    // a window holding one level: the analysis cannot be carried out on a valid file
+    let args = [
+        "levels",
+        "fixtures/good.h5",
+        "--sector",
+        "chain",
+        "--window",
+        "0.5:0.51",
+    ];
+    let (code, _, err) = run(&args);
+    assert_eq!(
+        err,
+        "error: fixtures/good.h5: /chain/energies: window 0.5:0.51 holds 1 of 32 levels; level statistics need at least 4\n"
+    );
+    assert_eq!(code, Some(1), "{err}");
 }

@@ -131,7 +131,7 @@ fn free_spins_canonical_prediction_is_minus_tanh() {
         let got = thermo::canonical_average(&e, &diag, beta);
         assert!((got + (beta * h).tanh()).abs() < 1e-12, "β = {beta}: {got}");
     }
-    let res = diagonal::analyse("sz", &e, &diag, 0..dim, "0:1", Some(dim)).unwrap();
+    let res = diagonal::analyze("sz", &e, &diag, 0..dim, "0:1", Some(dim)).unwrap();
     let mut checked = 0;
     for b in &res.smooth {
         if let (Some(beta), Some(c)) = (b.beta, b.canonical) {
@@ -175,7 +175,7 @@ fn mixed_field_ising(sizes: &[usize]) -> Vec<(usize, f64, f64, f64)> {
             .unwrap()
             .remove(0);
         let w = eigentherm::window::Window::MATRIX_ELEMENTS.indices(n);
-        let res = diagonal::analyse(&obs.name, &s.energies, &diag, w, "0.4:0.6", Some(n)).unwrap();
+        let res = diagonal::analyze(&obs.name, &s.energies, &diag, w, "0.4:0.6", Some(n)).unwrap();
         let c = res.predictions.canonical.as_ref().unwrap();
         let mc = res.predictions.microcanonical.as_ref().unwrap();
         eprintln!(

@@ -4,9 +4,8 @@
 
 use clap::Parser;
 use eigentherm::analysis::diagonal;
-use eigentherm::analysis::offdiagonal::{analyse_matrix, OffdiagonalOptions};
+use eigentherm::analysis::offdiagonal::{analyze_matrix, OffdiagonalOptions};
 use eigentherm::cli::{Cli, Command};
-use eigentherm::commands::{diagonal as dcmd, offdiagonal as ocmd};
 use eigentherm::data::{Matrix, OpData, Operator};
 use eigentherm::linalg::eigh_real;
 use eigentherm::model::rmt;
@@ -40,6 +39,26 @@ fn write_file(dir: &std::path::Path) -> (std::path::PathBuf, Vec<f64>, Mat<f64>,
     (path, e, v, d)
 }
 
+/// `eigentherm diagonal` without printing (the `auto` prediction policy).
+fn diagonal_of(
+    a: &eigentherm::cli::elements::DiagonalArgs,
+) -> eigentherm::Result<
+    eigentherm::analysis::sector::ElementsOutput<eigentherm::analysis::diagonal::DiagonalResult>,
+> {
+    eigentherm::pipeline::elements::diagonal(&a.common.resolve()?, None)
+}
+
+/// `eigentherm offdiagonal` without printing.
+fn offdiagonal_of(
+    a: &eigentherm::cli::elements::OffdiagonalArgs,
+) -> eigentherm::Result<
+    eigentherm::analysis::sector::ElementsOutput<
+        eigentherm::analysis::offdiagonal::OffdiagonalResult,
+    >,
+> {
+    eigentherm::pipeline::elements::offdiagonal(&a.common.resolve()?, &a.omega.resolve()?)
+}
+
 fn parse(args: &[&str]) -> Command {
     Cli::try_parse_from(args).unwrap().command
 }
@@ -59,25 +78,25 @@ fn commands_match_library_on_file() {
     let Command::Diagonal(a) = parse(&["eigentherm", "diagonal", p, "--window", "0.2:0.8"]) else {
         panic!("parsed another command")
     };
-    let rep = dcmd::compute(&a).unwrap();
+    let rep = diagonal_of(&a).unwrap();
     assert_eq!(rep.sectors.len(), 1);
     let got = &rep.sectors[0].observables[0];
     let diag = project_diagonal(&src, &[&op], 0..N, &big)
         .unwrap()
         .remove(0);
     let w = eigentherm::window::Window { lo: 0.2, hi: 0.8 }.indices(N);
-    let want = diagonal::analyse("occ", &e, &diag, w.clone(), "0.2:0.8", Some(N)).unwrap();
+    let want = diagonal::analyze("occ", &e, &diag, w.clone(), "0.2:0.8", Some(N)).unwrap();
     assert_eq!(got.name, "occ");
     assert_eq!(got.states, want.states);
     assert!((got.fluct_variance - want.fluct_variance).abs() < 1e-14);
     assert!((got.mean - want.mean).abs() < 1e-14);
-    assert!(dcmd::render_text(&rep).contains("fluct_variance"));
+    assert!(eigentherm::report::text::diagonal_text(&rep).contains("fluct_variance"));
 
     // off-diagonal, one block and a budget forcing many blocks
     let full = project_window(&src, &[&op], w.clone(), &big)
         .unwrap()
         .remove(0);
-    let want = analyse_matrix(
+    let want = analyze_matrix(
         "occ",
         &e,
         w,
@@ -99,7 +118,7 @@ fn commands_match_library_on_file() {
         ]) else {
             panic!("parsed another command")
         };
-        let rep = ocmd::compute(&a).unwrap();
+        let rep = offdiagonal_of(&a).unwrap();
         let got = &rep.sectors[0].observables[0];
         assert_eq!(got.pairs, want.pairs, "memory {mem}");
         assert!((got.low_omega_variance - want.low_omega_variance).abs() < 1e-14);
@@ -124,7 +143,7 @@ fn commands_match_library_on_file() {
     else {
         panic!("parsed another command")
     };
-    let rep = ocmd::compute(&a).unwrap();
+    let rep = offdiagonal_of(&a).unwrap();
     assert_eq!(rep.sectors[0].observables[0].omega_max, 0.5);
 }
 
@@ -138,7 +157,7 @@ fn unknown_observable_is_a_one_line_error() {
     else {
         panic!("parsed another command")
     };
-    let e = ocmd::compute(&a).unwrap_err().to_string();
+    let e = offdiagonal_of(&a).unwrap_err().to_string();
     assert!(
         e.contains("goe.h5") && e.contains("nope") && !e.contains('\n'),
         "{e}"
@@ -146,5 +165,5 @@ fn unknown_observable_is_a_one_line_error() {
     let Command::Offdiagonal(a) = parse(&["eigentherm", "offdiagonal", p, "--omega-max=-1"]) else {
         panic!("parsed another command")
     };
-    assert!(ocmd::compute(&a).is_err());
+    assert!(offdiagonal_of(&a).is_err());
 }

@@ -461,7 +461,8 @@ fn ratio_histogram_follows_the_goe_surmise() {
 
 #[test]
 fn json_has_the_stable_keys_and_text_states_references() {
-    use eigentherm::commands::levels::{render_text, LevelsOutput, SectorLevels};
+    use eigentherm::analysis::levels::{LevelsOutput, SectorLevels};
+    use eigentherm::report::text::levels_text as render_text;
     // DESIGN.md stable keys (common practice, no source)
     let r = analyze(
         &goe_levels(400, 8),

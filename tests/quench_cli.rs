@@ -265,32 +265,55 @@ fn study_with_several_observables_matches_single_observable_runs() {
     // `study` computes each file's coefficients cₙ = ⟨n|ψ⟩ (and every observable's Aₙₙ) once
     // per state and sector and reuses them for every observable; the numbers and figures
     // must be exactly those of one run per observable (same arithmetic; no source needed)
-    use eigentherm::commands::common::{InputArgs, PathArgs, SelectArgs};
-    use eigentherm::commands::{scaling::PipelineArgs, study};
+    use eigentherm::analysis::quench::{state::StateSpec, QuenchOptions, TimeGrid};
+    use eigentherm::pipeline::quench::QuenchRequest;
+    use eigentherm::pipeline::scaling::ScalingRequest;
+    use eigentherm::pipeline::sector::SectorSettings;
+    use eigentherm::pipeline::study::{study, StudyRequest};
+    use eigentherm::pipeline::Inputs;
+    use eigentherm::window::{Window, WindowSpec};
     let dir = tempfile::tempdir().unwrap();
     let files = mixed_field_chains(dir.path(), &[6, 8]);
-    let states = vec!["product:x+".to_string(), "product:y+".to_string()];
+    let states = ["product:x+".to_string(), "product:y+".to_string()];
     let run = |observables: &[&str], out: &str| -> (serde_json::Value, std::path::PathBuf) {
         let out = dir.path().join(out);
-        let args = study::Args {
-            input: InputArgs {
-                files: files.clone(),
-                paths: PathArgs::default(),
+        let observables: Vec<String> = observables.iter().map(|s| s.to_string()).collect();
+        let budget = eigentherm::project::Budget::default();
+        let req = StudyRequest {
+            scaling: ScalingRequest {
+                inputs: Inputs::files(files.clone()),
+                sector: None,
+                observables: observables.clone(),
+                settings: SectorSettings {
+                    levels_window: WindowSpec::Fraction(Window::LEVELS),
+                    window: WindowSpec::Fraction(Window::MATRIX_ELEMENTS),
+                    offdiagonal: Default::default(),
+                    budget,
+                },
+                combine_sectors: false,
             },
-            select: SelectArgs::default(),
-            pipeline: PipelineArgs {
-                observables: observables.iter().map(|s| s.to_string()).collect(),
-                ..Default::default()
-            },
-            out: out.clone(),
-            states: states.clone(),
-            times: "lin:0:10:21".to_string(),
-            // the default drop leaves a scattered set of kept states, whose eigenvectors are
-            // gathered once and shared by the observables
-            drop_weight: eigentherm::analysis::quench::DEFAULT_DROP_WEIGHT,
+            quench: Some(QuenchRequest {
+                inputs: Inputs::files(files.clone()),
+                sector: None,
+                observables,
+                states: states
+                    .iter()
+                    .map(|s| (s.clone(), StateSpec::parse(s).unwrap()))
+                    .collect(),
+                grid: TimeGrid::parse("lin:0:10:21").unwrap(),
+                // the default drop leaves a scattered set of kept states, whose eigenvectors
+                // are gathered once and shared by the observables
+                opts: QuenchOptions {
+                    drop_weight: eigentherm::analysis::quench::DEFAULT_DROP_WEIGHT,
+                    project: budget,
+                    ..QuenchOptions::default()
+                },
+            }),
+            times_label: "lin:0:10:21".to_string(),
         };
-        let res = study::study(&args).unwrap();
-        (serde_json::to_value(&res.results.quench).unwrap(), out)
+        let res = study(&req).unwrap();
+        eigentherm::report::study::write_folder(&res, &out).unwrap();
+        (serde_json::to_value(&res.quench).unwrap(), out)
     };
     let all = ["sz_site", "sx_site", "bond_energy"];
     let (multi, multi_dir) = run(&all, "multi");

@@ -4,9 +4,9 @@ use eigentherm::analysis::scaling::{
     decide, ExponentEvidence, RatioAtSize, RatioEvidence, Symmetry, VerdictInputs, MEAN_R_GOE,
     MEAN_R_POISSON, RULE,
 };
-use eigentherm::report::html::{Block, Report, Section, Summary};
+use eigentherm::provenance::{sha256_file, shell_quote, Provenance};
+use eigentherm::report::html::{Block, Page, Section, Summary};
 use eigentherm::report::plot::{Axis, Figure, Series};
-use eigentherm::report::provenance::{sha256_file, shell_quote, Provenance};
 use eigentherm::report::table::{Column, Table};
 
 #[test]
@@ -44,7 +44,7 @@ fn sha256_of_known_vectors() {
     assert_eq!(shell_quote("it's here"), "'it'\\''s here'");
 }
 
-fn demo_report(dir: &std::path::Path) -> Report {
+fn demo_report(dir: &std::path::Path) -> Page {
     let input = dir.join("chain_L12.h5");
     std::fs::write(&input, b"not really hdf5, only hashed").unwrap();
     let mut prov = Provenance::of_this_run(vec![
@@ -96,7 +96,7 @@ fn demo_report(dir: &std::path::Path) -> Report {
         .reference(MEAN_R_GOE, "GOE");
     let broken = Figure::new("x", "y").axes(Axis::Log, Axis::Log);
 
-    let mut report = Report::new("eigentherm study: invented chain", prov);
+    let mut report = Page::new("eigentherm study: invented chain", prov);
     report
         .summary
         .push(Summary::from_report("chain / sector A / Sz_mid", &verdict));

@@ -3,7 +3,7 @@
 use eigentherm::analysis::scaling::{
     block_bootstrap, bootstrap, decide, default_block_length, fit_exponential, fit_power_law, mean,
     CanonicalDeviation, ExponentEvidence, Outcome, RatioAtSize, RatioEvidence, Symmetry, Verdict,
-    VerdictInputs, DEFAULT_RESAMPLES, DEFAULT_SEED, MEAN_R_GOE, MEAN_R_POISSON,
+    VerdictInputs, DEFAULT_SEED, MEAN_R_GOE, MEAN_R_POISSON, RESAMPLES,
 };
 use eigentherm::model::rmt::rng;
 use rand::Rng;
@@ -112,7 +112,7 @@ fn bootstrap_stderr_of_mean_matches_sigma_over_sqrt_n() {
             .collect();
         let m = mean(&x);
         let sd = (x.iter().map(|v| (v - m).powi(2)).sum::<f64>() / (n as f64 - 1.0)).sqrt();
-        let (est, se) = bootstrap(&x, mean, DEFAULT_RESAMPLES, DEFAULT_SEED + seed);
+        let (est, se) = bootstrap(&x, mean, RESAMPLES, DEFAULT_SEED + seed);
         assert_eq!(est, m);
         let expect = sd / (n as f64).sqrt();
         eprintln!("seed {seed}: bootstrap {se:.5}, sigma/sqrt(N) {expect:.5}");

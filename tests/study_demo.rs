@@ -2,36 +2,21 @@
 //! integrable chain, and the tables agreeing with the JSON.
 
 use eigentherm::analysis::scaling::Verdict;
-use eigentherm::commands::common::{InputArgs, PathArgs, SelectArgs};
-use eigentherm::commands::{demo, study};
+use eigentherm::pipeline::demo;
+use eigentherm::pipeline::study::study;
 
 #[test]
 fn demo_verdicts_and_tables() {
     let dir = tempfile::tempdir().unwrap();
-    let files = demo::build_files(&demo::Args {
-        out: dir.path().to_path_buf(),
-        sizes: vec![7, 9, 11],
-    })
-    .unwrap();
+    let files = demo::build_files(dir.path(), &[7, 9, 11], |_| {}).unwrap();
     assert_eq!(files.len(), 6);
     let out = dir.path().join("report");
-    let args = study::Args {
-        input: InputArgs {
-            files,
-            paths: PathArgs::default(),
-        },
-        select: SelectArgs::default(),
-        pipeline: eigentherm::commands::scaling::PipelineArgs {
-            observables: vec!["sz_site".into(), "sx_site".into()],
-            ..Default::default()
-        },
-        out: out.clone(),
-        states: Vec::new(),
-        times: eigentherm::analysis::quench::DEFAULT_TIMES.to_string(),
-        drop_weight: eigentherm::analysis::quench::DEFAULT_DROP_WEIGHT,
-    };
-    let res = study::study(&args).unwrap();
-    let verdicts = &res.results.scaling.verdicts;
+    // the demo's own study, without its quench
+    let mut req = eigentherm::cli::demo::demo_request(files).unwrap();
+    req.quench = None;
+    let results = study(&req).unwrap();
+    eigentherm::report::study::write_folder(&results, &out).unwrap();
+    let verdicts = &results.scaling.verdicts;
     let find = |model: &str, sector: &str, obs: &str| {
         verdicts
             .iter()
@@ -61,7 +46,7 @@ fn demo_verdicts_and_tables() {
     let md = std::fs::read_to_string(out.join("scaling.md")).unwrap();
     let header: Vec<&str> = csv.lines().next().unwrap().split(',').collect();
     let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
-    let rows = &res.results.scaling.rows;
+    let rows = &results.scaling.rows;
     let csv_rows: Vec<&str> = csv.lines().skip(1).collect();
     assert_eq!(csv_rows.len(), rows.len());
     for (line, row) in csv_rows.iter().zip(rows) {

@@ -133,9 +133,9 @@ pub fn fluctuations(a: &[f64]) -> (f64, f64, f64, f64) {
 /// Diagonal analysis of one observable.
 ///
 /// `energies` (ascending) and `diag` (`Aₙₙ`) cover ALL available states of the sector
-/// (the predictions need them); `window` selects the states analysed; `dim` is the
+/// (the predictions need them); `window` selects the states analyzed; `dim` is the
 /// Hilbert-space dimension when known (a partial basis has `energies.len() < dim`).
-pub fn analyse(
+pub fn analyze(
     name: &str,
     energies: &[f64],
     diag: &[f64],
@@ -150,18 +150,18 @@ pub fn analyse(
             diag.len()
         )));
     }
-    analyse_impl(name, energies, diag, 0, window, window_label, dim)
+    analyze_impl(name, energies, diag, 0, window, window_label, dim)
 }
 
 /// Diagonal analysis of one observable from the window's `Aₙₙ` only.
 ///
-/// Same figures as [`analyse`], with `diag_window[k] = A_{w₀+k, w₀+k}` for the states
+/// Same figures as [`analyze`], with `diag_window[k] = A_{w₀+k, w₀+k}` for the states
 /// `window = w₀..w₁` of the ascending `energies` (all states). The predictions are
 /// restricted to what the window supports: the microcanonical shell `|Eₙ − Ē| ≤ δ`
 /// averages over the window's states only (shells that reach past the window's edges
 /// are cut), and the canonical prediction — a Boltzmann sum over every state — is not
 /// computed (`None`); `predictions.note` says so.
-pub fn analyse_window(
+pub fn analyze_window(
     name: &str,
     energies: &[f64],
     diag_window: &[f64],
@@ -179,7 +179,7 @@ pub fn analyse_window(
         )));
     }
     let start = window.start;
-    analyse_impl(
+    analyze_impl(
         name,
         energies,
         diag_window,
@@ -192,7 +192,7 @@ pub fn analyse_window(
 
 /// Common body: `diag[k]` is `A_nn` of state `offset + k`; the predictions use every
 /// state `diag` covers (all of them when `offset = 0` and `diag.len() = n`).
-fn analyse_impl(
+fn analyze_impl(
     name: &str,
     energies: &[f64],
     diag: &[f64],
@@ -341,6 +341,42 @@ fn analyse_impl(
     })
 }
 
+/// Binned mean of `(E, A)` points over `bins` equal-width energy bins, with standard
+/// errors, and the canonical prediction at each bin's mean energy:
+/// `(Ē, ⟨A⟩_bin, stderr, ⟨A⟩_β(Ē))`. Bins with fewer than two points are dropped.
+pub fn binned_curves(points: &[(f64, f64)], bins: usize) -> Vec<(f64, f64, f64, Option<f64>)> {
+    let (lo, hi) = points
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
+            (a.min(p.0), b.max(p.0))
+        });
+    if hi <= lo || bins == 0 {
+        return Vec::new();
+    }
+    let energies: Vec<f64> = points.iter().map(|p| p.0).collect();
+    let values: Vec<f64> = points.iter().map(|p| p.1).collect();
+    let width = (hi - lo) / bins as f64;
+    let mut acc = vec![(0.0, 0.0, 0.0, 0usize); bins];
+    for &(e, a) in points {
+        let k = (((e - lo) / width) as usize).min(bins - 1);
+        acc[k].0 += e;
+        acc[k].1 += a;
+        acc[k].2 += a * a;
+        acc[k].3 += 1;
+    }
+    acc.into_iter()
+        .filter(|b| b.3 >= 2)
+        .map(|(se, sa, saa, n)| {
+            let n_f = n as f64;
+            let (e, mean) = (se / n_f, sa / n_f);
+            let var = ((saa / n_f - mean * mean) * n_f / (n_f - 1.0)).max(0.0);
+            let can = thermo::beta_of_energy(&energies, e)
+                .map(|b| thermo::canonical_average(&energies, &values, b));
+            (e, mean, (var / n_f).sqrt(), can)
+        })
+        .collect()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -368,8 +404,8 @@ mod tests {
             .map(|(i, &x)| 0.3 * x + if i % 2 == 0 { 0.01 } else { -0.01 })
             .collect();
         let w = 80..120;
-        let full = analyse("x", &e, &a, w.clone(), "0.4:0.6", Some(n)).unwrap();
-        let part = analyse_window("x", &e, &a[w.clone()], w.clone(), "0.4:0.6", Some(n)).unwrap();
+        let full = analyze("x", &e, &a, w.clone(), "0.4:0.6", Some(n)).unwrap();
+        let part = analyze_window("x", &e, &a[w.clone()], w.clone(), "0.4:0.6", Some(n)).unwrap();
         assert_eq!(full.mean, part.mean);
         assert_eq!(full.fluct_variance, part.fluct_variance);
         assert_eq!(full.diff_max_abs, part.diff_max_abs);
@@ -384,7 +420,7 @@ mod tests {
             .is_some_and(|t| t.contains("window")));
         assert!(full.predictions.note.is_none());
         // wrong length is an error, not a panic
-        assert!(analyse_window("x", &e, &a[..10], w, "0.4:0.6", Some(n)).is_err());
+        assert!(analyze_window("x", &e, &a[..10], w, "0.4:0.6", Some(n)).is_err());
     }
 
     #[test]
@@ -395,12 +431,12 @@ mod tests {
         let mut e = e;
         e.sort_by(f64::total_cmp);
         let a: Vec<f64> = e.iter().map(|x| 0.1 * x).collect();
-        let r = analyse("h", &e, &a, 60..240, "0.2:0.8", Some(300)).unwrap();
+        let r = analyze("h", &e, &a, 60..240, "0.2:0.8", Some(300)).unwrap();
         let c = r.predictions.canonical.unwrap();
         assert!(c.bins >= 10 && c.max_abs < 1e-9, "{c:?}");
         assert!(!r.predictions.partial_basis && r.predictions.note.is_none());
         // a partial eigenbasis (n < dim) is flagged (DESIGN.md; common practice, no source)
-        let p = analyse("h", &e, &a, 60..240, "0.2:0.8", Some(1000)).unwrap();
+        let p = analyze("h", &e, &a, 60..240, "0.2:0.8", Some(1000)).unwrap();
         assert!(p.predictions.partial_basis);
         assert!(p.predictions.note.unwrap().contains("unreliable"));
     }
@@ -410,7 +446,7 @@ mod tests {
         // Aₙₙ = 2Eₙ + 1 is its own smooth part (common practice, no source)
         let e: Vec<f64> = (0..100).map(|i| i as f64 * 0.1).collect();
         let a: Vec<f64> = e.iter().map(|x| 2.0 * x + 1.0).collect();
-        let r = analyse("lin", &e, &a, 0..100, "0:1", Some(100)).unwrap();
+        let r = analyze("lin", &e, &a, 0..100, "0:1", Some(100)).unwrap();
         assert_eq!(r.smooth.len(), 10);
         // 10 states per bin, A spaced by 0.2: residual rms = 0.2·√((10² − 1)/12)
         // (variance of a discrete uniform distribution, elementary)
@@ -421,6 +457,6 @@ mod tests {
             r.residual_rms
         );
         assert!((r.mean - (2.0 * 4.95 + 1.0)).abs() < 1e-12);
-        assert!(analyse("x", &e, &a[..5], 0..100, "0:1", None).is_err());
+        assert!(analyze("x", &e, &a[..5], 0..100, "0:1", None).is_err());
     }
 }

@@ -533,6 +533,27 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
     })
 }
 
+/// The level statistics of one (file, sector).
+#[derive(Debug, Clone, Serialize)]
+pub struct SectorLevels {
+    /// The file.
+    pub file: String,
+    /// Sector name.
+    pub name: String,
+    /// The measured figures (flattened into the same JSON object).
+    #[serde(flatten)]
+    pub report: LevelReport,
+}
+
+/// JSON document of `eigentherm levels --json`.
+#[derive(Debug, Clone, Serialize)]
+pub struct LevelsOutput {
+    /// Options used.
+    pub options: LevelOptions,
+    /// One entry per (file, sector).
+    pub sectors: Vec<SectorLevels>,
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

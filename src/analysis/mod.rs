@@ -6,4 +6,6 @@ pub mod levels;
 pub mod offdiagonal;
 pub mod quench;
 pub mod scaling;
+pub mod sector;
+pub mod study;
 pub mod thermo;

@@ -140,6 +140,18 @@ pub struct OffdiagonalOptions {
     pub omega_max: Option<f64>,
 }
 
+impl OffdiagonalOptions {
+    /// The options with a frequency cut, which must be positive and finite when given.
+    pub fn new(omega_max: Option<f64>) -> Result<Self> {
+        match omega_max {
+            Some(w) if !(w.is_finite() && w > 0.0) => Err(Error::usage(format!(
+                "--omega-max {w}: expected a positive number"
+            ))),
+            _ => Ok(OffdiagonalOptions { omega_max }),
+        }
+    }
+}
+
 #[derive(Debug, Clone, Default)]
 struct Bin {
     sw: f64,
@@ -228,13 +240,8 @@ impl Accumulator {
         let ew = &energies[window.clone()];
         let span = ew[ew.len() - 1] - ew[0];
         let spacing = span / (ew.len() - 1) as f64;
-        let (omega_max, omega_rule) = match opts.omega_max {
-            Some(w) if w.is_finite() && w > 0.0 => (w, "given (--omega-max)".to_string()),
-            Some(w) => {
-                return Err(Error::usage(format!(
-                    "--omega-max {w}: expected a positive number"
-                )))
-            }
+        let (omega_max, omega_rule) = match OffdiagonalOptions::new(opts.omega_max)?.omega_max {
+            Some(w) => (w, "given (--omega-max)".to_string()),
             None => (
                 DEFAULT_OMEGA_SPACINGS * spacing,
                 format!(
@@ -476,7 +483,7 @@ pub fn plateau(bins: &[EnvelopeBin]) -> Option<Plateau> {
 
 /// Off-diagonal analysis of a whole window matrix `a` (`W × W`, entry `(i, j)` =
 /// `⟨window.start+i|A|window.start+j⟩`), for callers that hold it in memory.
-pub fn analyse_matrix(
+pub fn analyze_matrix(
     name: &str,
     energies: &[f64],
     window: Range<usize>,

@@ -12,16 +12,16 @@ use serde::Serialize;
 
 /// Summary of one file.
 #[derive(Debug, Clone, Serialize)]
-pub struct FileReport {
+pub struct FileSummary {
     /// The file's path.
     pub file: String,
     /// One entry per selected sector.
-    pub sectors: Vec<SectorReport>,
+    pub sectors: Vec<SectorSummary>,
 }
 
 /// Summary of one sector.
 #[derive(Debug, Clone, Serialize)]
-pub struct SectorReport {
+pub struct SectorSummary {
     /// What discovery found (names, shapes, types, paths).
     #[serde(flatten)]
     pub sector: Sector,
@@ -57,7 +57,7 @@ impl Verification {
 
 /// Builds the summary of the sectors `sector` (all when `None`) of `file`, running
 /// the checks when `verify` is set (with [`validate::SAMPLE`] sampled states).
-pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<FileReport> {
+pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<FileSummary> {
     let mut sectors = Vec::new();
     for s in file.select(sector)? {
         let spec = file.spectrum_quiet(s)?;
@@ -97,7 +97,7 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
         } else {
             None
         };
-        sectors.push(SectorReport {
+        sectors.push(SectorSummary {
             sector: s.clone(),
             energy_min: spec.energies.first().copied().unwrap_or(f64::NAN),
             energy_max: spec.energies.last().copied().unwrap_or(f64::NAN),
@@ -105,7 +105,7 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
             verify: verification,
         });
     }
-    Ok(FileReport {
+    Ok(FileSummary {
         file: file.path().display().to_string(),
         sectors,
     })

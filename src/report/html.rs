@@ -16,8 +16,8 @@
 
 use crate::analysis::scaling::{Verdict, VerdictReport};
 use crate::error::Result;
+use crate::provenance::Provenance;
 use crate::report::plot::Figure;
-use crate::report::provenance::Provenance;
 use crate::report::table::{escape_html, Table};
 use serde::Serialize;
 use std::fmt::Write as _;
@@ -130,7 +130,7 @@ impl Section {
 
 /// The whole report.
 #[derive(Debug, Clone, Serialize)]
-pub struct Report {
+pub struct Page {
     /// Title (also the HTML `<title>`).
     pub title: String,
     /// Verdicts, shown first.
@@ -177,7 +177,7 @@ fn inline_svg(svg: &str) -> &str {
     svg.find("<svg").map_or("", |i| &svg[i..])
 }
 
-impl Report {
+impl Page {
     /// A report with a title and provenance, no content yet.
     pub fn new(title: impl Into<String>, provenance: Provenance) -> Self {
         Self {
@@ -218,7 +218,7 @@ impl Report {
         h.push_str("<section id=\"summary\" class=\"summary\">\n<h2>Summary of verdicts</h2>\n");
         if self.summary.is_empty() {
             h.push_str(
-                "<p>No verdict was reached (no observable was analysed across sizes).</p>\n",
+                "<p>No verdict was reached (no observable was analyzed across sizes).</p>\n",
             );
         } else {
             h.push_str("<ul>\n");

@@ -1,15 +1,6 @@
-//! JSON output.
+//! Writing result files.
 
 use crate::error::{Error, Result};
-use serde::Serialize;
-
-/// Serialises `value` as pretty JSON on stdout.
-pub fn print<T: Serialize>(value: &T) -> Result<()> {
-    let s = serde_json::to_string_pretty(value)
-        .map_err(|e| Error::other(format!("cannot serialise JSON: {e}")))?;
-    println!("{s}");
-    Ok(())
-}
 
 /// Writes `bytes` to `path` atomically: a temporary file in the same folder, then a rename,
 /// so that a crash never leaves a half-written file.

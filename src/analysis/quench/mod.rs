@@ -50,6 +50,7 @@
 //! the report gives this bound with `‖A_KK‖` in place of `‖A‖`.
 
 pub mod basis;
+pub mod outcome;
 pub mod state;
 
 use crate::analysis::thermo;

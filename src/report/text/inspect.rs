@@ -1,85 +1,11 @@
-//! `eigentherm inspect`: lists the sectors, datasets and attributes of files and,
-//! with `--verify`, checks the eigenbasis (orthonormality on a sample of states,
-//! residuals ‖Hv − Ev‖ where a Hamiltonian is stored). The summary itself is built
-//! by [`crate::input::inspect`]; this module only formats it.
+//! Text of `eigentherm inspect`: per sector its datasets, layout, observables, states,
+//! Hamiltonian, attributes and, with `--verify`, the checks.
 
-use crate::commands::common::InputArgs;
-use crate::error::{Error, Result};
-use crate::input::inspect::{FileReport, SectorReport};
-use crate::input::EigenFile;
+use crate::pipeline::inspect::{FileSummary, SectorSummary};
 use std::fmt::Write as _;
 
-/// Options of `eigentherm inspect`.
-#[derive(Debug, clap::Args)]
-pub struct Args {
-    /// Input files and dataset path overrides.
-    #[command(flatten)]
-    pub input: InputArgs,
-    /// Inspect only this sector.
-    #[arg(long, value_name = "NAME")]
-    pub sector: Option<String>,
-    /// Check orthonormality (and residuals ‖Hv − Ev‖ where a Hamiltonian is stored) on a sample of states.
-    #[arg(long)]
-    pub verify: bool,
-    /// Print JSON to stdout instead of text.
-    #[arg(long)]
-    pub json: bool,
-}
-
-/// Runs `eigentherm inspect`. With `--verify`, a failed check ends with an error
-/// (non-zero exit) after the summary has been printed.
-pub fn run(args: &Args) -> Result<()> {
-    let ov = args.input.paths.overrides()?;
-    let mut reports = Vec::new();
-    for path in &args.input.files {
-        let file = EigenFile::open(path, &ov)?;
-        reports.push(crate::input::inspect::inspect(
-            &file,
-            args.sector.as_deref(),
-            args.verify,
-        )?);
-    }
-    if args.json {
-        let v = serde_json::json!({ "files": reports });
-        let s = serde_json::to_string_pretty(&v)
-            .map_err(|e| Error::other(format!("cannot format JSON: {e}")))?;
-        println!("{s}");
-    } else {
-        for r in &reports {
-            print!("{}", format_text(r));
-        }
-    }
-    for r in &reports {
-        for s in &r.sectors {
-            if let Some(v) = &s.verify {
-                if let Some(c) = v.orthonormality.as_ref().filter(|c| !c.pass) {
-                    return Err(Error::dataset(
-                        &r.file,
-                        s.sector.eigenvectors_path.clone().unwrap_or_default(),
-                        format!(
-                            "eigenvectors are not orthonormal: max |V^H V - 1| = {:.3e} over {} sampled states exceeds {:e}",
-                            c.max_error, c.sample, c.tolerance
-                        ),
-                    ));
-                }
-                if let Some(c) = v.residual.as_ref().filter(|c| !c.pass) {
-                    return Err(Error::dataset(
-                        &r.file,
-                        s.sector.eigenvectors_path.clone().unwrap_or_default(),
-                        format!(
-                            "residual ||H v - E v|| = {:.3e} (state {}) exceeds {:.3e}",
-                            c.max_residual, c.worst_state, c.threshold
-                        ),
-                    ));
-                }
-            }
-        }
-    }
-    Ok(())
-}
-
 /// Human-readable summary of one file.
-pub fn format_text(r: &FileReport) -> String {
+pub fn inspect_text(r: &FileSummary) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "{}", r.file);
     for s in &r.sectors {
@@ -88,7 +14,7 @@ pub fn format_text(r: &FileReport) -> String {
     o
 }
 
-fn format_sector(o: &mut String, r: &SectorReport) {
+fn format_sector(o: &mut String, r: &SectorSummary) {
     let s = &r.sector;
     let _ = writeln!(o, "  sector {} (group {})", s.name, s.group);
     let _ = writeln!(

@@ -1,59 +1,23 @@
-//! `eigentherm scaling`: finite-size scaling of the ETH figures across files and
-//! sectors, fits `figure ∝ D^(−α)` (and `∝ e^(−κL)` where sizes are known), and a
-//! verdict per observable (see [`crate::analysis::scaling`] for the fits and the rule).
+//! The scaling table: one row per (file, sector, observable), grouped into families, with
+//! the fits of each decaying figure and one verdict per family.
 //!
 //! Rows are grouped into families before fitting: by the sector attribute `model`
 //! (written by `eigentherm generate`; files without it form one family), by the sector
-//! name (kept apart by default; `--combine-sectors` merges the sectors of one size into
-//! one row: figures averaged, errors combined as `√(Σσ²)/k`, dimension averaged), and by
-//! observable.
+//! name (kept apart by default; with `combine_sectors` the sectors of one size are merged
+//! into one row: figures averaged, errors combined as `√(Σσ²)/k`, dimension averaged), and
+//! by observable. Each family's figures are fitted to `figure ∝ D^(−α)` (and `∝ e^(−κL)`
+//! where sizes are known, [`super::fit`]) and judged by [`super::verdict::decide`].
 
-use crate::analysis::offdiagonal::OffdiagonalOptions;
-use crate::analysis::scaling::{
-    self, fit_exponential, fit_power_law, CanonicalDeviation, ExponentEvidence, RatioAtSize,
-    RatioEvidence, ScalingFit, Symmetry, VerdictInputs, VerdictReport,
+use super::fit::{fit_exponential, fit_power_law, ScalingFit};
+use super::resample::RESAMPLES;
+use super::verdict::{
+    decide, CanonicalDeviation, ExponentEvidence, RatioAtSize, RatioEvidence, Symmetry,
+    VerdictInputs, VerdictReport,
 };
-use crate::commands::common::{InputArgs, SelectArgs};
-use crate::commands::sector::{analyse_sector, SectorAnalysis, SectorSettings, RESAMPLES};
+use crate::analysis::sector::SectorAnalysis;
 use crate::data::Field;
 use crate::error::{Error, Result};
-use crate::project::Budget;
-use crate::window::Window;
 use serde::Serialize;
-
-/// Options of `eigentherm scaling`.
-#[derive(Debug, Clone, clap::Args)]
-pub struct Args {
-    /// Input files and dataset path overrides.
-    #[command(flatten)]
-    pub input: InputArgs,
-    /// Sector, window (default 0.4:0.6 for matrix elements) and output format.
-    #[command(flatten)]
-    pub select: SelectArgs,
-    /// Observables and pipeline settings.
-    #[command(flatten)]
-    pub pipeline: PipelineArgs,
-}
-
-/// Observables and settings of the per-sector pipeline (shared by `scaling` and `study`).
-#[derive(Debug, Clone, Default, clap::Args)]
-pub struct PipelineArgs {
-    /// Observable to analyse (repeatable, at least one).
-    #[arg(long = "observable", value_name = "NAME", required = true)]
-    pub observables: Vec<String>,
-    /// Window of the level statistics (default 0.25:0.75).
-    #[arg(long, value_name = "LO:HI")]
-    pub levels_window: Option<String>,
-    /// Frequency cut of the low-ω statistics (default: 10 mean level spacings of the window).
-    #[arg(long, value_name = "W")]
-    pub omega_max: Option<f64>,
-    /// Working-memory budget of the projector, e.g. 6G or 512M (default: half the machine's memory).
-    #[arg(long, value_name = "SIZE")]
-    pub memory: Option<String>,
-    /// Merge the sectors of one size into one row (default: fit each sector name apart).
-    #[arg(long)]
-    pub combine_sectors: bool,
-}
 
 /// One row of the scaling table: one (file, sector, observable).
 #[derive(Debug, Clone, Serialize)]
@@ -134,7 +98,7 @@ pub struct FamilyVerdict {
 
 /// JSON document of `eigentherm scaling`.
 #[derive(Debug, Clone, Serialize)]
-pub struct Report {
+pub struct ScalingReport {
     /// How rows are grouped and errors obtained.
     pub method: String,
     /// One row per (file, sector, observable), or per (size, observable) with `--combine-sectors`.
@@ -145,51 +109,8 @@ pub struct Report {
     pub verdicts: Vec<FamilyVerdict>,
 }
 
-/// Settings of the per-sector pipeline from the command line.
-pub fn settings(
-    select: &SelectArgs,
-    levels_window: Option<&str>,
-    omega_max: Option<f64>,
-    memory: Option<&str>,
-) -> Result<SectorSettings> {
-    let levels_window = match levels_window {
-        Some(w) => crate::window::WindowSpec::Fraction(Window::parse(w)?),
-        None => crate::window::WindowSpec::Fraction(Window::LEVELS),
-    };
-    Ok(SectorSettings {
-        levels_window,
-        window: select.window_spec(Window::MATRIX_ELEMENTS)?,
-        offdiagonal: OffdiagonalOptions { omega_max },
-        project: Budget::from_arg(memory)?,
-    })
-}
-
-/// Runs the pipeline on every selected file and sector.
-pub fn analyse_all(
-    input: &InputArgs,
-    select: &SelectArgs,
-    observables: &[String],
-    settings: &SectorSettings,
-) -> Result<Vec<SectorAnalysis>> {
-    let files = input.open()?;
-    let mut out = Vec::new();
-    let pb = crate::progress::bar(
-        files.iter().map(|f| f.sectors().len() as u64).sum(),
-        "sectors",
-    );
-    for f in &files {
-        for s in f.select(select.sector.as_deref())? {
-            pb.set_message(format!("{} [{}]", f.path().display(), s.name));
-            out.push(analyse_sector(f, s, observables, settings)?);
-            pb.inc(1);
-        }
-    }
-    pb.finish_and_clear();
-    Ok(out)
-}
-
 /// Builds the rows, fits and verdicts from per-sector analyses.
-pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Report> {
+pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<ScalingReport> {
     let mut rows = Vec::new();
     for a in analyses {
         for o in &a.observables {
@@ -317,7 +238,7 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Repor
                 }
             }),
         };
-        let mut verdict = scaling::decide(&inputs);
+        let mut verdict = decide(&inputs);
         if vanishes {
             verdict.reasons.push(
                 "every diagonal element vanishes by symmetry: fluctuation figures carry no evidence".to_string(),
@@ -329,7 +250,7 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Repor
             verdict,
         });
     }
-    Ok(Report {
+    Ok(ScalingReport {
         method: format!(
             "families = (model attribute, sector{}, observable); fits: weighted least squares of ln(figure) \
              against ln D (and against L where sizes are known); fluctuation errors: moving-block bootstrap \
@@ -438,107 +359,4 @@ fn join<'a>(it: impl Iterator<Item = &'a str>) -> String {
     let mut v: Vec<&str> = it.collect();
     v.dedup();
     v.join("+")
-}
-
-/// The scaling table as a [`crate::report::table::Table`].
-pub fn table(report: &Report) -> Result<crate::report::table::Table> {
-    use crate::report::table::{Cell, Column, Table};
-    let cols = vec![
-        Column::new("family", "family"),
-        Column::new("sector", "sector"),
-        Column::new("size", "L"),
-        Column::new("dimension", "D"),
-        Column::new("mean_r", "⟨r̃⟩"),
-        Column::new("fluct_variance", "fluct. variance"),
-        Column::new("diff_mean_abs", "⟨|ΔA|⟩"),
-        Column::new("low_omega_variance", "low-ω ⟨|A_nm|²⟩"),
-        Column::new("gaussian_ratio", "Γ"),
-        Column::new("diag_offdiag_ratio", "diag/offdiag"),
-    ];
-    let mut t = Table::new(cols);
-    for r in &report.rows {
-        let u = |v: f64, e: f64| -> Cell {
-            if v.is_finite() {
-                Cell::from((v, e))
-            } else {
-                Cell::Empty
-            }
-        };
-        t.push_row(vec![
-            Cell::from(r.family.as_str()),
-            Cell::from(r.sector.as_str()),
-            r.size.map(|s| Cell::Int(s as i64)).unwrap_or(Cell::Empty),
-            Cell::Int(r.dimension.round() as i64),
-            u(r.mean_r, r.mean_r_stderr),
-            u(r.fluct_variance, r.fluct_variance_stderr),
-            u(r.diff_mean_abs, r.diff_mean_abs_stderr),
-            u(r.low_omega_variance, r.low_omega_variance_stderr),
-            u(r.gaussian_ratio, r.gaussian_ratio_stderr),
-            u(r.diag_offdiag_ratio, r.diag_offdiag_ratio_stderr),
-        ])?;
-    }
-    Ok(t)
-}
-
-/// Human-readable rendering: the table, the fits, the verdicts with their rule and caveat.
-pub fn render_text(report: &Report) -> String {
-    use std::fmt::Write;
-    let mut s = String::new();
-    if let Ok(t) = table(report) {
-        let _ = writeln!(s, "{}", t.to_markdown());
-    }
-    let _ = writeln!(
-        s,
-        "Fits (figure ∝ D^-alpha; figure ∝ exp(-kappa L) where sizes are known):"
-    );
-    for f in &report.fits {
-        let _ = write!(
-            s,
-            "  {:<40} {:<20} alpha = {}",
-            f.family,
-            f.figure,
-            crate::report::table::format_uncertain(f.alpha, f.alpha_stderr)
-        );
-        if let Some(e) = &f.exponential {
-            let _ = write!(
-                s,
-                "   kappa = {}",
-                crate::report::table::format_uncertain(e.exponent, e.exponent_stderr)
-            );
-        }
-        let _ = writeln!(
-            s,
-            "   (chi2/dof {:.2}, {} points)",
-            f.power_law.chi2_per_dof, f.power_law.points
-        );
-    }
-    let _ = writeln!(s, "\nVerdicts:");
-    for v in &report.verdicts {
-        let _ = writeln!(s, "  {}: {}", v.family, v.verdict.verdict);
-        for r in &v.verdict.reasons {
-            let _ = writeln!(s, "    - {r}");
-        }
-    }
-    if let Some(v) = report.verdicts.first() {
-        let _ = writeln!(s, "\n{}\n\nCaveat: {}", v.verdict.rule, v.verdict.caveat);
-    }
-    s
-}
-
-/// Runs `eigentherm scaling`.
-pub fn run(args: &Args) -> Result<()> {
-    let st = settings(
-        &args.select,
-        args.pipeline.levels_window.as_deref(),
-        args.pipeline.omega_max,
-        args.pipeline.memory.as_deref(),
-    )?;
-    let analyses = analyse_all(&args.input, &args.select, &args.pipeline.observables, &st)?;
-    let report = build(&analyses, args.pipeline.combine_sectors)?;
-    if args.select.json {
-        crate::report::json::print(&report)
-    } else {
-        print!("{}", render_text(&report));
-        Ok(())
-    }
 }

@@ -179,20 +179,21 @@ pub fn run(args: &Args) -> Result<()> {
     let (data, times): (Vec<SectorData>, Vec<Duration>) = sectors.into_iter().unzip();
     write_file(&args.out, &data)?;
     let written = start.elapsed();
+    let mut text = String::new();
     for (s, t) in data.iter().zip(&times) {
         let dim = s
             .eigenvectors
             .as_ref()
             .map(|v| v.nrows())
             .unwrap_or(s.energies.len());
-        println!(
-            "{}: sector '{}' ({}), dim {dim}, {:.2} s",
+        text.push_str(&format!(
+            "{}: sector '{}' ({}), dim {dim}, {:.2} s\n",
             args.out.display(),
             s.group,
             s.label.as_deref().unwrap_or(""),
             t.as_secs_f64()
-        );
+        ));
     }
-    println!("written in {:.2} s", written.as_secs_f64());
-    Ok(())
+    text.push_str(&format!("written in {:.2} s\n", written.as_secs_f64()));
+    super::output::print(&text)
 }

@@ -1,5 +1,5 @@
 //! Provenance of a report: tool version, command line, parameters and the SHA-256 digest
-//! (FIPS 180-4) of every input file, so that a reader can tell exactly what was analysed.
+//! (FIPS 180-4) of every input file, so that a reader can tell exactly what was analyzed.
 //!
 //! No time stamp is recorded: the same inputs and options give a byte-identical report.
 

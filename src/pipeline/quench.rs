@@ -1,103 +1,24 @@
-//! `eigentherm quench`: quench dynamics of an initial state from the stored eigenbasis.
-//!
-//! `eigentherm quench FILE... --observable NAME --state SPEC [--times lin:T0:T1:N|log:T0:T1:N]
-//! [--drop-weight EPS] [--shell-width DE] [--memory SIZE] [--sector NAME] [--json]`
+//! The quench over the sectors of one file: the initial state split over the sectors, the
+//! dynamics of each sector with weight, and their combination.
 //!
 //! The state SPEC (see [`crate::analysis::quench::state`]): `stored:NAME`, `index:K`,
 //! `product:LETTERS` (letters `u d + - r l`, site 1 first) or `product:x+` (every site along
 //! +x; also `x-`, `y±`, `z±`). A full-space state (`product:`, or `index:` when the file has
 //! embeddings) is decomposed over the sectors with their `embedding` (`c = Pᵀψ`); each sector
-//! with weight is analysed with its normalised component, and the sector results are combined
+//! with weight is analyzed with its normalised component, and the sector results are combined
 //! with their weights. The combination is the dynamics of the sector-block-diagonal part
 //! `Σ_s P_s A P_s` of the observable — which is the operator itself for the observables stored
 //! per sector.
 
+use super::Inputs;
+use crate::analysis::quench::outcome::{FileResult, SectorResult};
 use crate::analysis::quench::{
-    self, state::StateSpec, Combined, QuenchOptions, QuenchReport, SectorPart, TimeGrid,
-    DEFAULT_DROP_WEIGHT, DEFAULT_TIMES,
+    self, state::StateSpec, QuenchOptions, QuenchReport, SectorPart, TimeGrid,
 };
-use crate::commands::common::{InputArgs, PathArgs};
 use crate::data::{c64, Csr};
 use crate::error::{Error, Result};
-use crate::input::{EigenFile, Layout, Overrides, Sector};
-use serde::Serialize;
+use crate::input::{EigenFile, Overrides, Sector};
 use std::path::Path;
-
-/// Options of `eigentherm quench`.
-#[derive(Debug, clap::Args)]
-pub struct Args {
-    /// Input files and dataset path overrides.
-    #[command(flatten)]
-    pub input: InputArgs,
-    /// Observable name (under `observables/` in each sector).
-    #[arg(long, value_name = "NAME")]
-    pub observable: String,
-    /// Initial state: stored:NAME | index:K | product:LETTERS (u d + - r l per site, site 1 first) | product:x+ (also x-, y+, y-, z+, z-).
-    #[arg(long, value_name = "SPEC")]
-    pub state: String,
-    /// Time grid: lin:T0:T1:N or log:T0:T1:N (times in units of ħ/energy unit).
-    #[arg(long, value_name = "GRID", default_value = DEFAULT_TIMES)]
-    pub times: String,
-    /// Fraction of the norm that may be dropped: the trace keeps the largest weights |cₙ|² until 1 − EPS of the norm.
-    #[arg(long, value_name = "EPS", default_value_t = DEFAULT_DROP_WEIGHT)]
-    pub drop_weight: f64,
-    /// Full width ΔE of the microcanonical shell [default: 5% of the spectral width].
-    #[arg(long, value_name = "DE")]
-    pub shell_width: Option<f64>,
-    /// Working-memory budget of the projector that forms the kept-state matrix, e.g. 6G or 512M (default: half the machine's memory).
-    #[arg(long, value_name = "SIZE")]
-    pub memory: Option<String>,
-    /// Analyse only this sector (group path); default: every sector where the state has weight.
-    #[arg(long, value_name = "NAME")]
-    pub sector: Option<String>,
-    /// Print JSON to stdout instead of text.
-    #[arg(long)]
-    pub json: bool,
-}
-
-/// One sector's result.
-#[derive(Debug, Clone, Serialize)]
-pub struct SectorResult {
-    /// Sector name.
-    pub name: String,
-    /// Weight of the state in the sector, `‖c_s‖²` (before normalisation).
-    pub weight: f64,
-    /// Fraction of that weight on the stored eigenstates (< 1 for a partial eigenbasis).
-    pub captured: f64,
-    /// The analysis of the normalised sector component.
-    pub report: QuenchReport,
-}
-
-/// The result for one file.
-#[derive(Debug, Clone, Serialize)]
-pub struct FileResult {
-    /// The file.
-    pub file: String,
-    /// The observable.
-    pub observable: String,
-    /// The state SPEC as given.
-    pub state: String,
-    /// The parsed state.
-    pub state_spec: StateSpec,
-    /// The time grid.
-    pub times: TimeGrid,
-    /// The options used.
-    pub options: QuenchOptions,
-    /// Per-sector results.
-    pub sectors: Vec<SectorResult>,
-    /// Sectors where the state has no weight (skipped).
-    pub sectors_without_weight: Vec<String>,
-    /// Weighted combination over the sectors (when more than one has weight).
-    pub combined: Option<Combined>,
-    /// Number of sites (attribute `size` of the first sector with weight that has one).
-    pub size: Option<usize>,
-    /// Model family (attribute `model` of the first sector with weight that has one).
-    pub model: Option<String>,
-    /// Sum of the dimensions of the sectors with weight.
-    pub dimension: usize,
-    /// Whole-state figures (see [`quench::Overall`]).
-    pub overall: quench::Overall,
-}
 
 /// What to run on one file (see [`quench_file`]).
 #[derive(Debug, Clone)]
@@ -116,95 +37,41 @@ pub struct Job<'a> {
     pub opts: &'a QuenchOptions,
 }
 
-/// Runs `eigentherm quench`.
-pub fn run(args: &Args) -> Result<()> {
-    let grid = TimeGrid::parse(&args.times)?;
-    let spec = StateSpec::parse(&args.state)?;
-    if !(args.drop_weight.is_finite() && (0.0..1.0).contains(&args.drop_weight)) {
-        return Err(Error::usage(format!(
-            "--drop-weight {}: expected 0 <= EPS < 1",
-            args.drop_weight
-        )));
-    }
-    if let Some(w) = args.shell_width {
-        if !(w.is_finite() && w > 0.0) {
-            return Err(Error::usage(format!(
-                "--shell-width {w}: expected a positive width"
-            )));
-        }
-    }
-    let opts = QuenchOptions {
-        shell_half_width: args.shell_width.map(|w| 0.5 * w),
-        drop_weight: args.drop_weight,
-        project: crate::project::Budget::from_arg(args.memory.as_deref())?,
-        ..QuenchOptions::default()
-    };
-    let overrides = overrides(&args.input.paths)?;
-    let job = Job {
-        observables: std::slice::from_ref(&args.observable),
-        state: &args.state,
-        spec: &spec,
-        sector: args.sector.as_deref(),
-        grid,
-        opts: &opts,
-    };
-    let mut results = Vec::new();
-    for path in &args.input.files {
-        for r in quench_file(path, &overrides, &job)? {
-            if !args.json {
-                print_text(&r);
-            }
-            results.push(r);
-        }
-    }
-    if args.json {
-        let out = serde_json::json!({ "files": results });
-        println!(
-            "{}",
-            serde_json::to_string_pretty(&out)
-                .map_err(|e| Error::other(format!("JSON output failed: {e}")))?
-        );
-    }
-    Ok(())
+/// The quench of several states and observables on several files.
+#[derive(Debug, Clone)]
+pub struct QuenchRequest {
+    /// Input files.
+    pub inputs: Inputs,
+    /// Only this sector (default: every sector where the state has weight).
+    pub sector: Option<String>,
+    /// Observable names (at least one).
+    pub observables: Vec<String>,
+    /// The initial states: the SPEC as given and parsed.
+    pub states: Vec<(String, StateSpec)>,
+    /// The time grid.
+    pub grid: TimeGrid,
+    /// Analysis options.
+    pub opts: QuenchOptions,
 }
 
-/// Dataset path overrides from the command line.
-fn overrides(p: &PathArgs) -> Result<Overrides> {
-    let layout = match p.layout.as_deref() {
-        None => None,
-        Some("columns") => Some(Layout::Columns),
-        Some("rows") => Some(Layout::Rows),
-        Some(o) => {
-            return Err(Error::usage(format!(
-                "--layout {o}: expected 'columns' or 'rows'"
-            )))
+/// Runs [`quench_file`] for every state and file: the results in the order state, file,
+/// observable.
+pub fn quench_all(req: &QuenchRequest) -> Result<Vec<FileResult>> {
+    let mut out = Vec::new();
+    for (state, spec) in &req.states {
+        let job = Job {
+            observables: &req.observables,
+            state,
+            spec,
+            sector: req.sector.as_deref(),
+            grid: req.grid,
+            opts: &req.opts,
+        };
+        for f in &req.inputs.files {
+            out.extend(quench_file(f, &req.inputs.overrides, &job)?);
         }
-    };
-    let observables = p
-        .observable_paths
-        .iter()
-        .map(|s| {
-            s.split_once('=')
-                .filter(|(n, q)| !n.is_empty() && !q.is_empty())
-                .map(|(n, q)| (n.to_string(), q.to_string()))
-                .ok_or_else(|| Error::usage(format!("--observable-path {s}: expected NAME=PATH")))
-        })
-        .collect::<Result<Vec<_>>>()?;
-    Ok(Overrides {
-        energies: p.energies_path.clone(),
-        eigenvectors: p.eigenvectors_path.clone(),
-        layout,
-        observables,
-        hamiltonian: p.hamiltonian_path.clone(),
-    })
-}
-
-/// Gives library errors (which do not know the file) the file and dataset they concern.
-fn ctx(e: Error, file: &Path, dataset: &str) -> Error {
-    match e {
-        Error::Other(m) => Error::dataset(file, dataset, m),
-        e => e,
     }
+    Ok(out)
 }
 
 /// Sector components `(sector, c_s)` of a state.
@@ -248,10 +115,9 @@ fn components<'a>(
             ));
         }
         let psi = state_vector(spec, full_dim).map_err(|e| {
-            ctx(
-                e,
+            e.at(
                 path,
-                &format!("{}/embedding", embs[0].0.group.trim_end_matches('/')),
+                format!("{}/embedding", embs[0].0.group.trim_end_matches('/')),
             )
         })?;
         let mut out = Vec::new();
@@ -268,13 +134,8 @@ fn components<'a>(
                     ),
                 ));
             }
-            let c = quench::state::restrict(p, &psi).map_err(|e| {
-                ctx(
-                    e,
-                    path,
-                    &format!("{}/embedding", s.group.trim_end_matches('/')),
-                )
-            })?;
+            let c = quench::state::restrict(p, &psi)
+                .map_err(|e| e.at(path, format!("{}/embedding", s.group.trim_end_matches('/'))))?;
             out.push((*s, c));
         }
         Ok(Some(out))
@@ -333,10 +194,9 @@ fn components<'a>(
             let s = single(sectors, path, "a product state without sector embeddings")?;
             let dim = sector_dim(s, path)?;
             let psi = state_vector(spec, dim).map_err(|e| {
-                ctx(
-                    e,
+                e.at(
                     path,
-                    &format!("{}/eigenvectors", s.group.trim_end_matches('/')),
+                    format!("{}/eigenvectors", s.group.trim_end_matches('/')),
                 )
             })?;
             eprintln!(
@@ -461,8 +321,7 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         let mut ops = Vec::with_capacity(nobs);
         for name in job.observables {
             let op = file.observable(s, name)?;
-            quench::basis::check_operator(&op, &vectors)
-                .map_err(|e| ctx(e, path, &obs_path(name)))?;
+            quench::basis::check_operator(&op, &vectors).map_err(|e| e.at(path, obs_path(name)))?;
             ops.push(op);
         }
         size = size.or(s.size);
@@ -472,7 +331,7 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         // errors of the shared pass concern the eigenvectors (the operators are checked)
         let (mut prepared, sector_diags) =
             quench::prepare_sector(&vectors, &spectrum.energies, &refs, &c, opts)
-                .map_err(|e| ctx(e, path, &format!("{group}/eigenvectors")))?;
+                .map_err(|e| e.at(path, format!("{group}/eigenvectors")))?;
         let mut captured = None;
         for (k, ((name, op), diag)) in job
             .observables
@@ -483,7 +342,7 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         {
             let sq = prepared
                 .quench(&vectors, &spectrum.energies, op, diag, &times, opts)
-                .map_err(|e| ctx(e, path, &obs_path(name)))?;
+                .map_err(|e| e.at(path, obs_path(name)))?;
             let cap = *captured.get_or_insert(sq.report.norm / weight);
             diags[k].push(sq.diag_all);
             results[k].push(SectorResult {
@@ -526,13 +385,13 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
                     report: &r.report,
                 })
                 .collect();
-            Some(quench::combine(&parts, opts).map_err(|e| ctx(e, path, "/"))?)
+            Some(quench::combine(&parts, opts).map_err(|e| e.at(path, "/"))?)
         } else {
             None
         };
         let parts: Vec<(f64, &QuenchReport)> =
             results.iter().map(|r| (r.weight, &r.report)).collect();
-        let overall = quench::overall(&parts, combined.as_ref()).map_err(|e| ctx(e, path, "/"))?;
+        let overall = quench::overall(&parts, combined.as_ref()).map_err(|e| e.at(path, "/"))?;
         out.push(FileResult {
             file: path.display().to_string(),
             observable: name.clone(),
@@ -550,111 +409,4 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         });
     }
     Ok(out)
-}
-
-fn opt(x: Option<f64>) -> String {
-    x.map_or("n/a".to_string(), |v| format!("{v:.6}"))
-}
-
-/// Human-readable summary of one file's result.
-fn print_text(r: &FileResult) {
-    println!("{}: quench of '{}' from {}", r.file, r.observable, r.state);
-    for s in &r.sectors {
-        let q = &s.report;
-        println!(
-            "  sector {}: weight {:.6} (on stored eigenstates: {:.6}), {} states",
-            s.name, s.weight, s.captured, q.states
-        );
-        println!(
-            "    E = {:.6} ± {:.6} (energy density {:.4}), β(E) = {}, D_eff = {:.2}",
-            q.energy,
-            q.energy_width,
-            q.energy_density,
-            opt(q.beta),
-            q.d_eff
-        );
-        println!(
-            "    kept {} states with {:.12} of the weight (drop {:.1e}); trace error ≤ {:.2e}",
-            q.kept, q.weight_kept, q.drop_weight, q.trace_error_bound
-        );
-        println!("    diagonal ensemble  {:.6}", q.diagonal_ensemble);
-        match &q.microcanonical {
-            Some(m) => println!(
-                "    microcanonical     {:.6}  (shell E ± {:.4}, {} states)  DE − micro = {}",
-                m.value,
-                m.half_width,
-                m.states,
-                opt(q.diff_diagonal_microcanonical)
-            ),
-            None => println!("    microcanonical     n/a (empty shell)"),
-        }
-        println!(
-            "    canonical          {}  DE − canonical = {}, micro − canonical = {}",
-            opt(q.canonical),
-            opt(q.diff_diagonal_canonical),
-            opt(q.diff_microcanonical_canonical)
-        );
-        println!(
-            "    σ² = {:.4e}, ETH estimate σ²_ETH = {:.4e} (ratio {}), bound ((λmax−λmin)/2)²/D_eff = {:.4e} [{}]",
-            q.sigma2,
-            q.sigma2_eth,
-            opt(q.sigma2_eth_ratio),
-            q.bound.bound,
-            if q.bound.satisfied { "satisfied" } else { "VIOLATED" }
-        );
-        if q.degenerate_pairs > 0 {
-            println!(
-                "    {} degenerate kept pairs: time-independent coherence {:.4e} adds to the long-time mean",
-                q.degenerate_pairs, q.degenerate_coherence
-            );
-        }
-        if let Some(ts) = &q.trace_statistics {
-            println!(
-                "    trace over t ∈ [{:.4}, {:.4}] ({} points): mean {:.6}, variance {:.4e}, mean square deviation from DE {:.4e}",
-                ts.from, ts.to, ts.points, ts.mean, ts.variance, ts.variance_about_diagonal
-            );
-        }
-        print_trace(&q.trace);
-    }
-    if let Some(c) = &r.combined {
-        println!(
-            "  combined over sectors (total weight {:.6}): E = {:.6}, β(E) = {}, diagonal ensemble {:.6}, microcanonical {}, canonical {}",
-            c.weight,
-            c.energy,
-            opt(c.beta),
-            c.diagonal_ensemble,
-            opt(c.microcanonical.map(|m| m.value)),
-            opt(c.canonical)
-        );
-        print_trace(&c.trace);
-        let o = &r.overall;
-        println!(
-            "  whole state: D_eff = {:.2}, σ² = {:.4e}, σ²_ETH = {:.4e}, bound = {:.4e}",
-            o.d_eff, o.sigma2, o.sigma2_eth, o.bound
-        );
-    }
-    if !r.sectors_without_weight.is_empty() {
-        println!("  no weight in: {}", r.sectors_without_weight.join(", "));
-    }
-}
-
-/// Up to 21 evenly spaced points of a trace.
-fn print_trace(trace: &[quench::TracePoint]) {
-    let n = trace.len();
-    if n == 0 {
-        return;
-    }
-    let shown = n.min(21);
-    println!(
-        "    {:>12}  {:>12}   ({shown} of {n} points; --json for all)",
-        "t", "<A(t)>"
-    );
-    for k in 0..shown {
-        let i = if shown > 1 {
-            k * (n - 1) / (shown - 1)
-        } else {
-            0
-        };
-        println!("    {:>12.4}  {:>12.6}", trace[i].t, trace[i].value);
-    }
 }

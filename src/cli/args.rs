@@ -1,0 +1,222 @@
+//! Flag groups shared by the subcommands. Each flag is defined here once, with its
+//! validation, and resolved once into the library's option structs.
+
+use crate::analysis::offdiagonal::OffdiagonalOptions;
+use crate::analysis::quench::{self, state::StateSpec, TimeGrid};
+use crate::error::{Error, Result};
+use crate::pipeline::{Inputs, Layout, Overrides};
+use crate::project::Budget;
+use crate::window::{Window, WindowSpec};
+use std::path::PathBuf;
+
+/// Input files and dataset path overrides.
+#[derive(Debug, Clone, clap::Args)]
+pub struct InputArgs {
+    /// HDF5 files holding eigenbases (see the README for the layout).
+    #[arg(required = true, value_name = "FILE")]
+    pub files: Vec<PathBuf>,
+    /// Dataset path overrides.
+    #[command(flatten)]
+    pub paths: PathArgs,
+}
+
+impl InputArgs {
+    /// The files and their overrides.
+    pub fn resolve(&self) -> Result<Inputs> {
+        Ok(Inputs {
+            files: self.files.clone(),
+            overrides: self.paths.resolve()?,
+        })
+    }
+}
+
+/// Dataset path overrides for files that follow another layout.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct PathArgs {
+    /// Path of the energies dataset inside the file (overrides sector discovery).
+    #[arg(long, value_name = "PATH")]
+    pub energies_path: Option<String>,
+    /// Path of the eigenvectors dataset inside the file.
+    #[arg(long, value_name = "PATH")]
+    pub eigenvectors_path: Option<String>,
+    /// Eigenvector layout when the file does not say: `columns` ([dim, n]) or `rows` ([n, dim]).
+    #[arg(long, value_name = "columns|rows")]
+    pub layout: Option<String>,
+    /// Extra observable at a custom path, as NAME=PATH (repeatable).
+    #[arg(long = "observable-path", value_name = "NAME=PATH")]
+    pub observable_paths: Vec<String>,
+    /// Path of the Hamiltonian dataset or CSR group.
+    #[arg(long, value_name = "PATH")]
+    pub hamiltonian_path: Option<String>,
+}
+
+impl PathArgs {
+    /// The overrides (`--observable-path` values are split at the first `=` into NAME and
+    /// PATH).
+    pub fn resolve(&self) -> Result<Overrides> {
+        let layout = self.layout.as_deref().map(Layout::parse).transpose()?;
+        let observables = self
+            .observable_paths
+            .iter()
+            .map(|s| match s.split_once('=') {
+                Some((n, p)) if !n.is_empty() && !p.is_empty() => {
+                    Ok((n.to_string(), p.to_string()))
+                }
+                _ => Err(Error::usage(format!(
+                    "--observable-path '{s}' is not NAME=PATH"
+                ))),
+            })
+            .collect::<Result<Vec<_>>>()?;
+        Ok(Overrides {
+            energies: self.energies_path.clone(),
+            eigenvectors: self.eigenvectors_path.clone(),
+            layout,
+            observables,
+            hamiltonian: self.hamiltonian_path.clone(),
+        })
+    }
+}
+
+/// Sector selection.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct SectorArg {
+    /// Analyze only this sector (group path, e.g. `even` or `/L12/odd`); default: every sector.
+    #[arg(long, value_name = "NAME")]
+    pub sector: Option<String>,
+}
+
+/// Output format.
+#[derive(Debug, Clone, Copy, Default, clap::Args)]
+pub struct JsonArg {
+    /// Print JSON to stdout instead of text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Window of states.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct WindowArgs {
+    /// Window of states by index fraction, LO:HI (states floor(LO·n) ..= ceil(HI·n) − 1).
+    #[arg(long, value_name = "LO:HI")]
+    pub window: Option<String>,
+    /// Window of states by energy density ε = (E − E_min)/(E_max − E_min), LO:HI (replaces --window).
+    #[arg(long, value_name = "LO:HI")]
+    pub energy_window: Option<String>,
+}
+
+impl WindowArgs {
+    /// The window to use, with `default` when none was given.
+    pub fn resolve(&self, default: Window) -> Result<WindowSpec> {
+        match (&self.window, &self.energy_window) {
+            (Some(_), Some(_)) => Err(Error::usage("give --window or --energy-window, not both")),
+            (_, Some(e)) => Ok(WindowSpec::EnergyDensity(Window::parse(e)?)),
+            (Some(w), None) => Ok(WindowSpec::Fraction(Window::parse(w)?)),
+            (None, None) => Ok(WindowSpec::Fraction(default)),
+        }
+    }
+}
+
+/// Observables to analyze.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct ObservableArgs {
+    /// Observable to analyze (repeatable; `diagonal`/`offdiagonal` default to every
+    /// observable of the sector, the other commands need at least one).
+    #[arg(long = "observable", value_name = "NAME")]
+    pub observables: Vec<String>,
+}
+
+impl ObservableArgs {
+    /// The observables, at least one.
+    pub fn required(&self) -> Result<Vec<String>> {
+        if self.observables.is_empty() {
+            return Err(Error::usage("give at least one --observable NAME"));
+        }
+        Ok(self.observables.clone())
+    }
+}
+
+/// Working-memory budget of every pass over the eigenvectors.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct MemoryArg {
+    /// Working-memory budget of the passes over the eigenvectors, e.g. 6G or 512M (default: half the machine's memory).
+    #[arg(long, value_name = "SIZE")]
+    pub memory: Option<String>,
+}
+
+impl MemoryArg {
+    /// The budget (products use every thread of the pool `--threads` set).
+    pub fn resolve(&self) -> Result<Budget> {
+        Budget::from_arg(self.memory.as_deref())
+    }
+}
+
+/// Frequency cut of the low-ω statistics.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct OmegaArg {
+    /// Frequency cut of the low-ω statistics (default: 10 mean level spacings of the window).
+    #[arg(long, value_name = "W")]
+    pub omega_max: Option<f64>,
+}
+
+impl OmegaArg {
+    /// The off-diagonal options.
+    pub fn resolve(&self) -> Result<OffdiagonalOptions> {
+        OffdiagonalOptions::new(self.omega_max)
+    }
+}
+
+/// Initial states and time grid of quenches.
+#[derive(Debug, Clone, clap::Args)]
+pub struct DynamicsArgs {
+    /// Initial state (repeatable): stored:NAME | index:K | product:LETTERS (u d + - r l per site, site 1 first) | product:x+ (also x-, y+, y-, z+, z-).
+    #[arg(long = "state", value_name = "SPEC")]
+    pub states: Vec<String>,
+    /// Time grid: lin:T0:T1:N or log:T0:T1:N (times in units of ħ/energy unit).
+    #[arg(long, value_name = "GRID", default_value = quench::DEFAULT_TIMES)]
+    pub times: String,
+    /// Fraction of the norm that may be dropped: the trace keeps the largest weights |cₙ|² until 1 − EPS of the norm.
+    #[arg(long, value_name = "EPS", default_value_t = quench::DEFAULT_DROP_WEIGHT)]
+    pub drop_weight: f64,
+}
+
+impl Default for DynamicsArgs {
+    fn default() -> Self {
+        DynamicsArgs {
+            states: Vec::new(),
+            times: quench::DEFAULT_TIMES.to_string(),
+            drop_weight: quench::DEFAULT_DROP_WEIGHT,
+        }
+    }
+}
+
+/// The resolved [`DynamicsArgs`].
+#[derive(Debug, Clone)]
+pub struct Dynamics {
+    /// The states: SPEC as given, parsed.
+    pub states: Vec<(String, StateSpec)>,
+    /// The time grid.
+    pub grid: TimeGrid,
+    /// The dropped fraction of the norm.
+    pub drop_weight: f64,
+}
+
+impl DynamicsArgs {
+    /// The parsed states, grid and drop weight.
+    pub fn resolve(&self) -> Result<Dynamics> {
+        if !(self.drop_weight.is_finite() && (0.0..1.0).contains(&self.drop_weight)) {
+            return Err(Error::usage(format!(
+                "--drop-weight {}: expected 0 <= EPS < 1",
+                self.drop_weight
+            )));
+        }
+        Ok(Dynamics {
+            states: self
+                .states
+                .iter()
+                .map(|s| Ok((s.clone(), StateSpec::parse(s)?)))
+                .collect::<Result<Vec<_>>>()?,
+            grid: TimeGrid::parse(&self.times)?,
+            drop_weight: self.drop_weight,
+        })
+    }
+}

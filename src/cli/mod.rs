@@ -1,0 +1,82 @@
+//! The command line: clap definitions and one small file per subcommand that turns flags
+//! into the library's option structs, calls the pipeline and hands the result to the
+//! report layer. clap types never leave this module; every flag is defined once
+//! ([`args`]) and resolved once.
+
+pub mod args;
+pub mod demo;
+pub mod elements;
+pub mod generate;
+pub mod inspect;
+pub mod levels;
+pub mod output;
+pub mod quench;
+pub mod scaling;
+pub mod study;
+
+use crate::error::{Error, Result};
+use clap::{Parser, Subcommand};
+
+/// Level statistics and eigenstate-thermalization analyses of stored eigenbases.
+#[derive(Debug, Parser)]
+#[command(name = "eigentherm", version, about, long_about = None)]
+pub struct Cli {
+    /// Worker threads of the matrix products and parallel loops (default: every core).
+    #[arg(long, global = true, value_name = "N")]
+    pub threads: Option<usize>,
+    /// The subcommand.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+#[allow(clippy::large_enum_variant)] // parsed once; boxing the option structs buys nothing
+pub enum Command {
+    /// Build the files of an invented demo scenario and run every analysis on them.
+    Demo(demo::Args),
+    /// Write the eigenbasis of a reference model (spin chain or random matrix) to an HDF5 file.
+    Generate(generate::Args),
+    /// List the sectors, datasets and attributes of a file; optionally verify the eigenbasis.
+    Inspect(inspect::Args),
+    /// Level statistics: ratio of spacings, unfolded spacings, form factor, number variance.
+    Levels(levels::Args),
+    /// Diagonal matrix elements: smooth A(E), eigenstate-to-eigenstate fluctuations, thermal predictions.
+    Diagonal(elements::DiagonalArgs),
+    /// Off-diagonal matrix elements: |f(ω)|² envelope, Gaussianity, diagonal/off-diagonal ratio.
+    Offdiagonal(elements::OffdiagonalArgs),
+    /// Quench dynamics: diagonal ensemble, time trace, temporal fluctuations.
+    Quench(quench::Args),
+    /// Finite-size scaling of the ETH figures across files and sectors.
+    Scaling(scaling::Args),
+    /// Every analysis on every file, sector and observable, written to a report folder.
+    Study(study::Args),
+}
+
+/// Sets the size of the global thread pool (once, before any parallel work).
+fn set_threads(threads: Option<usize>) -> Result<()> {
+    let Some(n) = threads else { return Ok(()) };
+    if n == 0 {
+        return Err(Error::usage("--threads 0: expected at least one thread"));
+    }
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(n)
+        .build_global()
+        .map_err(|e| Error::usage(format!("--threads {n}: {e}")))
+}
+
+/// Runs one parsed command line.
+pub fn run(cli: Cli) -> Result<()> {
+    set_threads(cli.threads)?;
+    match cli.command {
+        Command::Demo(a) => demo::run(&a),
+        Command::Generate(a) => generate::run(&a),
+        Command::Inspect(a) => inspect::run(&a),
+        Command::Levels(a) => levels::run(&a),
+        Command::Diagonal(a) => elements::run_diagonal(&a),
+        Command::Offdiagonal(a) => elements::run_offdiagonal(&a),
+        Command::Quench(a) => quench::run(&a),
+        Command::Scaling(a) => scaling::run(&a),
+        Command::Study(a) => study::run(&a),
+    }
+}

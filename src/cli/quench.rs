@@ -1,0 +1,77 @@
+//! `eigentherm quench`: quench dynamics of initial states from the stored eigenbasis.
+
+use super::args::{DynamicsArgs, InputArgs, JsonArg, MemoryArg, ObservableArgs, SectorArg};
+use super::output;
+use crate::analysis::quench::QuenchOptions;
+use crate::error::{Error, Result};
+use crate::pipeline::quench::{quench_all, QuenchRequest};
+
+/// Options of `eigentherm quench`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// Input files and dataset path overrides.
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Observables (under `observables/` in each sector; at least one).
+    #[command(flatten)]
+    pub observables: ObservableArgs,
+    /// Initial states (at least one) and time grid.
+    #[command(flatten)]
+    pub dynamics: DynamicsArgs,
+    /// Full width ΔE of the microcanonical shell [default: 5% of the spectral width].
+    #[arg(long, value_name = "DE")]
+    pub shell_width: Option<f64>,
+    /// Memory budget.
+    #[command(flatten)]
+    pub memory: MemoryArg,
+    /// Sector (default: every sector where the state has weight).
+    #[command(flatten)]
+    pub sector: SectorArg,
+    /// Output format.
+    #[command(flatten)]
+    pub json: JsonArg,
+}
+
+impl Args {
+    /// The request of the pipeline.
+    pub fn resolve(&self) -> Result<QuenchRequest> {
+        let dynamics = self.dynamics.resolve()?;
+        if dynamics.states.is_empty() {
+            return Err(Error::usage("give at least one --state SPEC"));
+        }
+        if let Some(w) = self.shell_width {
+            if !(w.is_finite() && w > 0.0) {
+                return Err(Error::usage(format!(
+                    "--shell-width {w}: expected a positive width"
+                )));
+            }
+        }
+        Ok(QuenchRequest {
+            inputs: self.input.resolve()?,
+            sector: self.sector.sector.clone(),
+            observables: self.observables.required()?,
+            states: dynamics.states,
+            grid: dynamics.grid,
+            opts: QuenchOptions {
+                shell_half_width: self.shell_width.map(|w| 0.5 * w),
+                drop_weight: dynamics.drop_weight,
+                project: self.memory.resolve()?,
+                ..QuenchOptions::default()
+            },
+        })
+    }
+}
+
+/// Runs `eigentherm quench`.
+pub fn run(args: &Args) -> Result<()> {
+    let results = quench_all(&args.resolve()?)?;
+    if args.json.json {
+        output::print_json(&serde_json::json!({ "files": results }))
+    } else {
+        let text: String = results
+            .iter()
+            .map(crate::report::text::quench_text)
+            .collect();
+        output::print(&text)
+    }
+}

@@ -1,0 +1,70 @@
+//! `eigentherm study`: every analysis on every file, sector and observable, written to a
+//! report folder.
+
+use super::args::{DynamicsArgs, JsonArg};
+use super::output;
+use super::scaling::PipelineArgs;
+use crate::analysis::quench::QuenchOptions;
+use crate::error::Result;
+use crate::pipeline::quench::QuenchRequest;
+use crate::pipeline::study::{study, StudyRequest};
+use std::path::PathBuf;
+
+/// Options of `eigentherm study`.
+#[derive(Debug, Clone, clap::Args)]
+pub struct Args {
+    /// Files, sector, windows, observables and settings.
+    #[command(flatten)]
+    pub pipeline: PipelineArgs,
+    /// Print results.json to stdout too.
+    #[command(flatten)]
+    pub json: JsonArg,
+    /// Output folder (created when missing).
+    #[arg(long, value_name = "DIR")]
+    pub out: PathBuf,
+    /// Initial states of quenches (adds the section "Quench dynamics") and their time grid.
+    #[command(flatten)]
+    pub dynamics: DynamicsArgs,
+}
+
+impl Args {
+    /// The request of the study pipeline.
+    pub fn resolve(&self) -> Result<StudyRequest> {
+        let scaling = self.pipeline.resolve()?;
+        let dynamics = self.dynamics.resolve()?;
+        let quench = (!dynamics.states.is_empty()).then(|| QuenchRequest {
+            inputs: scaling.inputs.clone(),
+            sector: scaling.sector.clone(),
+            observables: scaling.observables.clone(),
+            states: dynamics.states,
+            grid: dynamics.grid,
+            opts: QuenchOptions {
+                drop_weight: dynamics.drop_weight,
+                project: scaling.settings.budget,
+                ..QuenchOptions::default()
+            },
+        });
+        Ok(StudyRequest {
+            scaling,
+            quench,
+            times_label: self.dynamics.times.clone(),
+        })
+    }
+}
+
+/// Runs `eigentherm study`.
+pub fn run(args: &Args) -> Result<()> {
+    let results = study(&args.resolve()?)?;
+    let written = crate::report::study::write_folder(&results, &args.out)?;
+    if args.json.json {
+        output::print_json(&results)
+    } else {
+        output::print(&format!(
+            "{}wrote {} files to {}; open {}\n",
+            crate::report::text::verdicts_text(&results.scaling),
+            written.files.len(),
+            args.out.display(),
+            written.report.display()
+        ))
+    }
+}

@@ -1,0 +1,136 @@
+//! The tables of a study: the scaling table, the level statistics of each sector and one
+//! quench table per initial state.
+
+use crate::analysis::scaling::ScalingReport;
+use crate::analysis::sector::SectorAnalysis;
+use crate::analysis::study::QuenchStudy;
+use crate::error::Result;
+use crate::report::study::figures::{quench_families, slug};
+use crate::report::table::{Cell, Column, Table};
+
+/// The scaling table as a [`crate::report::table::Table`].
+pub fn scaling_table(report: &ScalingReport) -> Result<Table> {
+    let cols = vec![
+        Column::new("family", "family"),
+        Column::new("sector", "sector"),
+        Column::new("size", "L"),
+        Column::new("dimension", "D"),
+        Column::new("mean_r", "⟨r̃⟩"),
+        Column::new("fluct_variance", "fluct. variance"),
+        Column::new("diff_mean_abs", "⟨|ΔA|⟩"),
+        Column::new("low_omega_variance", "low-ω ⟨|A_nm|²⟩"),
+        Column::new("gaussian_ratio", "Γ"),
+        Column::new("diag_offdiag_ratio", "diag/offdiag"),
+    ];
+    let mut t = Table::new(cols);
+    for r in &report.rows {
+        let u = |v: f64, e: f64| -> Cell {
+            if v.is_finite() {
+                Cell::from((v, e))
+            } else {
+                Cell::Empty
+            }
+        };
+        t.push_row(vec![
+            Cell::from(r.family.as_str()),
+            Cell::from(r.sector.as_str()),
+            r.size.map(|s| Cell::Int(s as i64)).unwrap_or(Cell::Empty),
+            Cell::Int(r.dimension.round() as i64),
+            u(r.mean_r, r.mean_r_stderr),
+            u(r.fluct_variance, r.fluct_variance_stderr),
+            u(r.diff_mean_abs, r.diff_mean_abs_stderr),
+            u(r.low_omega_variance, r.low_omega_variance_stderr),
+            u(r.gaussian_ratio, r.gaussian_ratio_stderr),
+            u(r.diag_offdiag_ratio, r.diag_offdiag_ratio_stderr),
+        ])?;
+    }
+    Ok(t)
+}
+
+/// One row per sector: levels, ⟨r̃⟩, KS distances, nearest ensemble, degeneracies.
+pub fn levels_table(sectors: &[SectorAnalysis]) -> Table {
+    let mut t = Table::new(vec![
+        Column::new("sector", "sector"),
+        Column::new("dimension", "D"),
+        Column::new("levels", "levels in window"),
+        Column::new("mean_r", "⟨r̃⟩"),
+        Column::new("ks_poisson", "KS Poisson"),
+        Column::new("ks_goe", "KS GOE"),
+        Column::new("ks_gue", "KS GUE"),
+        Column::new("nearest", "nearest (KS)"),
+        Column::new("degenerate_pairs", "degenerate pairs"),
+    ]);
+    for a in sectors {
+        let l = &a.levels;
+        let _ = t.push_row(vec![
+            Cell::from(a.label.as_str()),
+            Cell::from(a.dimension),
+            Cell::from(l.states),
+            Cell::from((l.mean_r, l.mean_r_stderr)),
+            Cell::Value(l.ks_poisson),
+            Cell::Value(l.ks_goe),
+            Cell::Value(l.ks_gue),
+            Cell::from(format!("{:?}", l.nearest_ensemble)),
+            Cell::from(l.degenerate_pairs),
+        ]);
+    }
+    t
+}
+
+/// One table per state: (name, table) with a row per observable and file.
+pub fn quench_tables(quench: &[QuenchStudy]) -> Result<Vec<(String, Table)>> {
+    let mut states: Vec<&str> = quench.iter().map(|q| q.state.as_str()).collect();
+    states.dedup();
+    let mut seen = Vec::new();
+    let mut out = Vec::new();
+    for state in states {
+        if seen.contains(&state) {
+            continue;
+        }
+        seen.push(state);
+        let mut t = Table::new(vec![
+            Column::new("observable", "observable"),
+            Column::new("model", "model"),
+            Column::new("size", "L"),
+            Column::new("dimension", "D"),
+            Column::new("energy", "E"),
+            Column::new("beta", "β(E)"),
+            Column::new("d_eff", "D_eff"),
+            Column::new("diagonal_ensemble", "diagonal ensemble"),
+            Column::new("canonical", "canonical"),
+            Column::new("microcanonical", "microcanonical"),
+            Column::new("sigma2", "σ²"),
+            Column::new("sigma2_eth", "σ²_ETH"),
+            Column::new("bound", "bound"),
+            Column::new("time_variance", "time variance"),
+        ])
+        .with_caption(format!(
+            "Quench from {state}: energy, inverse temperature, effective dimension, long-time predictions and fluctuations per observable and size (time variance over the second half of the time grid)."
+        ));
+        for q in quench.iter().filter(|q| q.state == state) {
+            for (fam, runs) in quench_families(q) {
+                for r in runs {
+                    let o = &r.overall;
+                    t.push_row(vec![
+                        Cell::from(q.observable.as_str()),
+                        Cell::from(fam.as_str()),
+                        Cell::from(r.size),
+                        Cell::from(r.dimension),
+                        Cell::from(o.energy),
+                        Cell::from(o.beta),
+                        Cell::from(o.d_eff),
+                        Cell::from(o.diagonal_ensemble),
+                        Cell::from(o.canonical),
+                        Cell::from(o.microcanonical),
+                        Cell::from(o.sigma2),
+                        Cell::from(o.sigma2_eth),
+                        Cell::from(o.bound),
+                        Cell::from(o.trace_statistics.map(|s| s.variance)),
+                    ])?;
+                }
+            }
+        }
+        out.push((format!("quench_{}", slug(state)), t));
+    }
+    Ok(out)
+}

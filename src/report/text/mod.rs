@@ -1,0 +1,14 @@
+//! Human-readable text of every command's results, one file per command: plain
+//! `String`s, printed by the command-line layer.
+
+pub mod elements;
+pub mod inspect;
+pub mod levels;
+pub mod quench;
+pub mod scaling;
+
+pub use elements::{diagonal_text, offdiagonal_text};
+pub use inspect::inspect_text;
+pub use levels::levels_text;
+pub use quench::quench_text;
+pub use scaling::{scaling_text, verdicts_text};
