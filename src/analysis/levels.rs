@@ -307,29 +307,181 @@ fn histogram(
         .collect()
 }
 
-/// Level statistics of the ascending spectrum `energies` over `window`.
-///
-/// Errors (plain words, no panic) when an energy is not finite, when the window holds
-/// fewer than 4 levels, or when all its levels are equal. Unsorted input is sorted
-/// (with a warning).
-pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Result<LevelReport> {
+/// The unfolded levels of a window and the statistics of their spacings.
+struct Spacings {
+    unfolded: Vec<f64>,
+    unfolding: unfold::Unfolding,
+    mean_s: f64,
+    ks: [f64; 3],
+    nearest_ensemble: Ensemble,
+    spacing_histogram: Vec<HistBin>,
+    small_spacing_density: f64,
+}
+
+/// Unfolds the window `range` of the ascending `energies`, rescales the spacings to unit
+/// mean, and measures their distribution: Kolmogorov–Smirnov distances to the three
+/// references, the nearest one, the histogram and the density of small spacings. Warnings
+/// about the unfolding go to `warnings`.
+fn unfolded_spacings(
+    energies: &[f64],
+    range: std::ops::Range<usize>,
+    opts: &LevelOptions,
+    mean_spacing: f64,
+    warnings: &mut Vec<String>,
+) -> Result<Spacings> {
+    let (unfolded, unfolding) = unfold::unfold(energies, range.clone(), opts.unfold)?;
+    let raw_s: Vec<f64> = unfolded.windows(2).map(|w| w[1] - w[0]).collect();
+    let mean_s = raw_s.iter().sum::<f64>() / raw_s.len() as f64;
+    if mean_s.is_nan() || mean_s <= 0.0 {
+        return Err(Error::other(
+            "unfolding failed: the mean unfolded spacing is not positive",
+        ));
+    }
+    let mut s: Vec<f64> = raw_s.iter().map(|x| (x / mean_s).max(0.0)).collect();
+    s.sort_by(f64::total_cmp);
+    let ks = Ensemble::ALL.map(|ens| ks_distance(&s, |x| ens.spacing_cdf(x)));
+    let nearest_ensemble = Ensemble::ALL
+        .into_iter()
+        .zip(ks)
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .map(|(ens, _)| ens)
+        .unwrap_or(Ensemble::Poisson);
+    let spacing_histogram = histogram(&s, 0.0, opts.spacing_max, opts.spacing_bins, |ens, a, b| {
+        (ens.spacing_cdf(b) - ens.spacing_cdf(a)) / (b - a)
+    });
+    let small = s.partition_point(|&x| x < SMALL_SPACING);
+    let small_spacing_density = small as f64 / (s.len() as f64 * SMALL_SPACING);
+    if unfolding.negative_spacings > 0 {
+        warnings.push(format!(
+            "the unfolding ({}) decreases between {} pair(s) of levels; try a lower degree or --unfold kernel",
+            unfolding.spec, unfolding.negative_spacings
+        ));
+    }
+
+    let kernel_spacings = match opts.unfold {
+        UnfoldMethod::Kernel { spacings } => Some(spacings),
+        UnfoldMethod::KernelEnergy { sigma } => Some(sigma / mean_spacing),
+        UnfoldMethod::Polynomial { .. } => None,
+    };
+    if let Some(k) = kernel_spacings.filter(|&k| k < MIN_KERNEL_SPACINGS) {
+        warnings.push(format!(
+            "the unfolding kernel ({}) is {k:.3} mean spacings wide, narrower than {MIN_KERNEL_SPACINGS}: the smooth staircase follows individual levels and pulls the unfolded spacings towards 1 (use several spacings, e.g. --unfold kernel:32)",
+            unfolding.spec
+        ));
+    }
+    if let Some(k) = unfolding.kernel_end_levels.filter(|&k| k > 0) {
+        warnings.push(format!(
+            "{k} level(s) of the window lie within 2 kernel widths of an end of the whole spectrum, where the kernel staircase ({}) is biased (the broadened density spills past the last level); choose a window away from the ends or a narrower kernel",
+            unfolding.spec
+        ));
+    }
+
+    Ok(Spacings {
+        unfolded,
+        unfolding,
+        mean_s,
+        ks,
+        nearest_ensemble,
+        spacing_histogram,
+        small_spacing_density,
+    })
+}
+
+/// What [`diagnostics`] looks at.
+struct Diagnosis<'a> {
+    n: usize,
+    degenerate_pairs: usize,
+    degeneracy_tol: f64,
+    tol: f64,
+    small_spacing_density: f64,
+    intermediate: bool,
+    mean_r: f64,
+    se3: f64,
+    ratio_nearest: Ensemble,
+    nearest_ensemble: Ensemble,
+    unfolding_spec: &'a str,
+}
+
+/// Warnings about degeneracies, unresolved symmetries, crossover statistics and a
+/// disagreement of the two classifications.
+fn diagnostics(d: &Diagnosis<'_>, warnings: &mut Vec<String>) {
+    let Diagnosis {
+        n,
+        degenerate_pairs,
+        tol,
+        small_spacing_density,
+        intermediate,
+        mean_r,
+        se3,
+        ratio_nearest,
+        nearest_ensemble,
+        ..
+    } = *d;
+    let pairs = n - 1;
+    let many_degenerate = degenerate_pairs as f64 > DEGENERATE_FRACTION * pairs as f64;
+    if degenerate_pairs > 0 {
+        warnings.push(format!(
+            "{degenerate_pairs} of {pairs} consecutive pairs are degenerate (|dE| < {:e} x mean spacing = {tol:.3e}){}",
+            d.degeneracy_tol,
+            if many_degenerate {
+                ": more than 1% of the pairs, which points to a symmetry that is not resolved into sectors"
+            } else {
+                ""
+            }
+        ));
+    }
+    let no_repulsion = small_spacing_density > NO_REPULSION_DENSITY;
+    // A superposition of a few independent chaotic spectra: ⟨r̃⟩ significantly below GOE and
+    // small spacings more frequent than for GOE, yet clearly less frequent than for Poisson.
+    let below_goe = mean_r < surmise::MEAN_R_GOE - se3 - RATIO_MARGIN;
+    let partial_repulsion = no_repulsion && small_spacing_density < POISSON_LIKE_DENSITY;
+    if (intermediate && no_repulsion) || (below_goe && partial_repulsion) {
+        warnings.push(format!(
+            "possible superposition of unresolved symmetry sectors: mean r = {mean_r:.4} lies below GOE and the spacing histogram shows no level repulsion (density of spacings below {SMALL_SPACING} is {small_spacing_density:.2} > {NO_REPULSION_DENSITY}; GOE 0.19, Poisson 0.88); resolve the symmetries (parity, momentum, magnetisation) before judging chaos"
+        ));
+    } else if intermediate {
+        warnings.push(format!(
+            "mean r = {mean_r:.4} lies significantly between Poisson and GOE: crossover statistics (finite size, weak integrability breaking or localisation); compare several system sizes"
+        ));
+    }
+    if ratio_nearest != nearest_ensemble {
+        warnings.push(format!(
+            "the mean ratio points to {} but the unfolded spacing distribution is closest to {}; the unfolding ({}) or the window may be inadequate, or the statistics are intermediate",
+            ratio_nearest, nearest_ensemble, d.unfolding_spec
+        ));
+    }
+}
+
+/// The energies in ascending order (sorted, with a warning, when they are not); an error
+/// when one is not finite.
+fn ascending<'a>(
+    energies: &'a [f64],
+    warnings: &mut Vec<String>,
+) -> Result<std::borrow::Cow<'a, [f64]>> {
     if let Some(i) = energies.iter().position(|e| !e.is_finite()) {
         return Err(Error::other(format!(
             "energy {i} is {} (all energies must be finite)",
             energies[i]
         )));
     }
+    if energies.windows(2).all(|w| w[0] <= w[1]) {
+        return Ok(std::borrow::Cow::Borrowed(energies));
+    }
+    warnings.push("energies were not ascending; they were sorted".to_string());
+    let mut v = energies.to_vec();
+    v.sort_by(f64::total_cmp);
+    Ok(std::borrow::Cow::Owned(v))
+}
+
+/// Level statistics of the ascending spectrum `energies` over `window`.
+///
+/// Errors (plain words, no panic) when an energy is not finite, when the window holds
+/// fewer than 4 levels, or when all its levels are equal. Unsorted input is sorted
+/// (with a warning).
+pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Result<LevelReport> {
     let mut warnings = Vec::new();
-    let sorted_copy;
-    let energies = if energies.windows(2).all(|w| w[0] <= w[1]) {
-        energies
-    } else {
-        warnings.push("energies were not ascending; they were sorted".to_string());
-        let mut v = energies.to_vec();
-        v.sort_by(f64::total_cmp);
-        sorted_copy = v;
-        &sorted_copy
-    };
+    let energies = ascending(energies, &mut warnings)?;
+    let energies: &[f64] = &energies;
     let range = window.indices(energies);
     let e = &energies[range.clone()];
     let n = e.len();
@@ -384,52 +536,15 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
     let degenerate_pairs = e.windows(2).filter(|w| (w[1] - w[0]).abs() < tol).count();
 
     // 2. unfolding and spacings
-    let (unfolded, unfolding) = unfold::unfold(energies, range.clone(), opts.unfold)?;
-    let raw_s: Vec<f64> = unfolded.windows(2).map(|w| w[1] - w[0]).collect();
-    let mean_s = raw_s.iter().sum::<f64>() / raw_s.len() as f64;
-    if mean_s.is_nan() || mean_s <= 0.0 {
-        return Err(Error::other(
-            "unfolding failed: the mean unfolded spacing is not positive",
-        ));
-    }
-    let mut s: Vec<f64> = raw_s.iter().map(|x| (x / mean_s).max(0.0)).collect();
-    s.sort_by(f64::total_cmp);
-    let ks = Ensemble::ALL.map(|ens| ks_distance(&s, |x| ens.spacing_cdf(x)));
-    let nearest_ensemble = Ensemble::ALL
-        .into_iter()
-        .zip(ks)
-        .min_by(|a, b| a.1.total_cmp(&b.1))
-        .map(|(ens, _)| ens)
-        .unwrap_or(Ensemble::Poisson);
-    let spacing_histogram = histogram(&s, 0.0, opts.spacing_max, opts.spacing_bins, |ens, a, b| {
-        (ens.spacing_cdf(b) - ens.spacing_cdf(a)) / (b - a)
-    });
-    let small = s.partition_point(|&x| x < SMALL_SPACING);
-    let small_spacing_density = small as f64 / (s.len() as f64 * SMALL_SPACING);
-    if unfolding.negative_spacings > 0 {
-        warnings.push(format!(
-            "the unfolding ({}) decreases between {} pair(s) of levels; try a lower degree or --unfold kernel",
-            unfolding.spec, unfolding.negative_spacings
-        ));
-    }
-
-    let kernel_spacings = match opts.unfold {
-        UnfoldMethod::Kernel { spacings } => Some(spacings),
-        UnfoldMethod::KernelEnergy { sigma } => Some(sigma / mean_spacing),
-        UnfoldMethod::Polynomial { .. } => None,
-    };
-    if let Some(k) = kernel_spacings.filter(|&k| k < MIN_KERNEL_SPACINGS) {
-        warnings.push(format!(
-            "the unfolding kernel ({}) is {k:.3} mean spacings wide, narrower than {MIN_KERNEL_SPACINGS}: the smooth staircase follows individual levels and pulls the unfolded spacings towards 1 (use several spacings, e.g. --unfold kernel:32)",
-            unfolding.spec
-        ));
-    }
-    if let Some(k) = unfolding.kernel_end_levels.filter(|&k| k > 0) {
-        warnings.push(format!(
-            "{k} level(s) of the window lie within 2 kernel widths of an end of the whole spectrum, where the kernel staircase ({}) is biased (the broadened density spills past the last level); choose a window away from the ends or a narrower kernel",
-            unfolding.spec
-        ));
-    }
+    let Spacings {
+        unfolded,
+        unfolding,
+        mean_s,
+        ks,
+        nearest_ensemble,
+        spacing_histogram,
+        small_spacing_density,
+    } = unfolded_spacings(energies, range.clone(), opts, mean_spacing, &mut warnings)?;
 
     // 3. long-range correlations (unfolded levels rescaled to unit mean spacing)
     let eps: Vec<f64> = unfolded.iter().map(|x| x / mean_s).collect();
@@ -450,42 +565,22 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
     );
 
     // 4. diagnostics
-    let pairs = n - 1;
-    let many_degenerate = degenerate_pairs as f64 > DEGENERATE_FRACTION * pairs as f64;
-    if degenerate_pairs > 0 {
-        warnings.push(format!(
-            "{degenerate_pairs} of {pairs} consecutive pairs are degenerate (|dE| < {:e} x mean spacing = {tol:.3e}){}",
-            opts.degeneracy_tol,
-            if many_degenerate {
-                ": more than 1% of the pairs, which points to a symmetry that is not resolved into sectors"
-            } else {
-                ""
-            }
-        ));
-    }
-    let no_repulsion = small_spacing_density > NO_REPULSION_DENSITY;
-    // A superposition of a few independent chaotic spectra: ⟨r̃⟩ significantly below GOE and
-    // small spacings more frequent than for GOE, yet clearly less frequent than for Poisson.
-    let below_goe = mean_r < surmise::MEAN_R_GOE - se3 - RATIO_MARGIN;
-    let partial_repulsion = no_repulsion && small_spacing_density < POISSON_LIKE_DENSITY;
-    if (intermediate && no_repulsion) || (below_goe && partial_repulsion) {
-        warnings.push(format!(
-            "possible superposition of unresolved symmetry sectors: mean r = {mean_r:.4} lies below GOE and the spacing histogram shows no level repulsion (density of spacings below {SMALL_SPACING} is {small_spacing_density:.2} > {NO_REPULSION_DENSITY}; GOE 0.19, Poisson 0.88); resolve the symmetries (parity, momentum, magnetisation) before judging chaos"
-        ));
-    } else if intermediate {
-        warnings.push(format!(
-            "mean r = {mean_r:.4} lies significantly between Poisson and GOE: crossover statistics (finite size, weak integrability breaking or localisation); compare several system sizes"
-        ));
-    }
-    if many_degenerate && !no_repulsion {
-        // already reported above; nothing more
-    }
-    if ratio_nearest != nearest_ensemble {
-        warnings.push(format!(
-            "the mean ratio points to {} but the unfolded spacing distribution is closest to {}; the unfolding ({}) or the window may be inadequate, or the statistics are intermediate",
-            ratio_nearest, nearest_ensemble, unfolding.spec
-        ));
-    }
+    diagnostics(
+        &Diagnosis {
+            n,
+            degenerate_pairs,
+            degeneracy_tol: opts.degeneracy_tol,
+            tol,
+            small_spacing_density,
+            intermediate,
+            mean_r,
+            se3,
+            ratio_nearest,
+            nearest_ensemble,
+            unfolding_spec: &unfolding.spec,
+        },
+        &mut warnings,
+    );
 
     let verdict = format!(
         "{}-like by the mean ratio: <r> = {mean_r:.4} +/- {se:.4} (Poisson-like below {mid1:.4}, GOE-like from {mid1:.4} to {mid2:.4}, GUE-like above {mid2:.4}: midpoints between the references 0.3863, 0.5307, 0.5996); unfolded spacings closest to {nearest_ensemble} (KS distances Poisson {:.3}, GOE {:.3}, GUE {:.3}). Finite size: {n} levels in one window of one finite system; the statistics suggest, they do not prove, chaos or integrability. Check that the verdict persists as the system grows.",

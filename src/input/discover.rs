@@ -163,7 +163,52 @@ fn describe(
     epath: &str,
     ov: &Overrides,
 ) -> Result<Sector> {
-    // Energies: 1-D, real, non-empty.
+    let (n, eel) = describe_energies(file, f, epath)?;
+    let v = describe_vectors(file, f, group, n, ov)?;
+    let observables = describe_observables(file, f, group, v.dim, n, ov)?;
+    let hamiltonian = describe_hamiltonian(file, f, group, v.dim, n, ov)?;
+    let state_info = describe_states(file, f, group, v.dim)?;
+    let Vectors {
+        path: vpath,
+        dim,
+        element,
+        layout,
+        chunk,
+        filters,
+    } = v;
+    let gobj = f
+        .group(group)
+        .map_err(|e| h5::h5err(file, group, "cannot open group", e))?;
+    let size = attr_count(file, group, &gobj, "size")?;
+    let label = attr_string(file, group, &gobj, "label")?;
+    let model = attr_string(file, group, &gobj, "model")?;
+
+    Ok(Sector {
+        name: sector_name(group),
+        group: group.to_string(),
+        n_states: n,
+        dim,
+        field: element.map(Element::field),
+        layout,
+        states: state_info.iter().map(|s| s.name.clone()).collect(),
+        has_hamiltonian: hamiltonian.is_some(),
+        observables,
+        size,
+        label,
+        model,
+        energies_path: epath.to_string(),
+        energies_element: eel,
+        eigenvectors_path: vpath,
+        element,
+        chunk,
+        filters,
+        hamiltonian,
+        state_info,
+    })
+}
+
+/// The energies dataset: 1-D, real, non-empty; its length and element type.
+fn describe_energies(file: &Path, f: &hdf5::File, epath: &str) -> Result<(usize, Element)> {
     let eds = open_ds(file, f, epath)?;
     let eshape = eds.shape();
     if eshape.len() != 1 {
@@ -189,7 +234,28 @@ fn describe(
         return Err(Error::dataset(file, epath, "no energies (empty dataset)"));
     }
 
-    // Eigenvectors.
+    Ok((n, eel))
+}
+
+/// What discovery learns of a sector's eigenvectors.
+struct Vectors {
+    path: Option<String>,
+    dim: Option<usize>,
+    element: Option<Element>,
+    layout: Layout,
+    chunk: Option<Vec<usize>>,
+    filters: Vec<String>,
+}
+
+/// The eigenvector dataset of a sector of `n` states, when there is one: its layout,
+/// dimension, element type, chunking and filters, with the shape checked against `n`.
+fn describe_vectors(
+    file: &Path,
+    f: &hdf5::File,
+    group: &str,
+    n: usize,
+    ov: &Overrides,
+) -> Result<Vectors> {
     let vpath = match &ov.eigenvectors {
         Some(p) => Some(resolve(group, p)),
         None => {
@@ -197,16 +263,19 @@ fn describe(
             kind(f, &p).map(|_| p)
         }
     };
-    let mut dim = None;
-    let mut element = None;
-    let mut layout = ov.layout.unwrap_or(Layout::Columns);
-    let mut chunk = None;
-    let mut filters = Vec::new();
+    let mut v = Vectors {
+        path: vpath.clone(),
+        dim: None,
+        element: None,
+        layout: ov.layout.unwrap_or(Layout::Columns),
+        chunk: None,
+        filters: Vec::new(),
+    };
     if let Some(vp) = &vpath {
         let ds = open_ds(file, f, vp)?;
         let el = h5::element(file, vp, &ds)?;
         if let Some(l) = attr_string(file, vp, &ds, "layout")? {
-            layout = match l.as_str() {
+            v.layout = match l.as_str() {
                 "rows" => Layout::Rows,
                 "columns" => Layout::Columns,
                 other => {
@@ -231,19 +300,19 @@ fn describe(
                 ),
             ));
         }
-        let (d, nv) = match layout {
+        let (d, nv) = match v.layout {
             Layout::Columns => (shape[0], shape[1]),
             Layout::Rows => (shape[1], shape[0]),
         };
         if nv != n {
-            let hint = if shape[0] == n && layout == Layout::Columns {
+            let hint = if shape[0] == n && v.layout == Layout::Columns {
                 " (stored as rows? set attribute layout = \"rows\" or pass --layout rows)"
-            } else if shape[1] == n && layout == Layout::Rows {
+            } else if shape[1] == n && v.layout == Layout::Rows {
                 " (stored as columns? remove attribute layout = \"rows\" or pass --layout columns)"
             } else {
                 ""
             };
-            let axes = match layout {
+            let axes = match v.layout {
                 Layout::Columns => "[dim, n]",
                 Layout::Rows => "[n, dim]",
             };
@@ -263,13 +332,24 @@ fn describe(
                 format!("{n} eigenvectors cannot be orthonormal in dimension {d}"),
             ));
         }
-        dim = Some(d);
-        element = Some(el);
-        chunk = ds.chunk();
-        filters = ds.filters().iter().map(filter_name).collect();
+        v.dim = Some(d);
+        v.element = Some(el);
+        v.chunk = ds.chunk();
+        v.filters = ds.filters().iter().map(filter_name).collect();
     }
+    Ok(v)
+}
 
-    // Observables.
+/// The observables of a sector (under `observables/`, sorted by name, then those given by
+/// path on the command line).
+fn describe_observables(
+    file: &Path,
+    f: &hdf5::File,
+    group: &str,
+    dim: Option<usize>,
+    n: usize,
+    ov: &Overrides,
+) -> Result<Vec<ObservableInfo>> {
     let mut observables = Vec::new();
     let opath = join(group, "observables");
     match kind(f, &opath) {
@@ -308,7 +388,18 @@ fn describe(
         observables.push(probe_operator(file, f, name, &p, dim, n, true)?);
     }
 
-    // Hamiltonian.
+    Ok(observables)
+}
+
+/// The Hamiltonian of a sector, when one is stored (or given by path).
+fn describe_hamiltonian(
+    file: &Path,
+    f: &hdf5::File,
+    group: &str,
+    dim: Option<usize>,
+    n: usize,
+    ov: &Overrides,
+) -> Result<Option<ObservableInfo>> {
     let hpath = match &ov.hamiltonian {
         Some(p) => {
             let p = resolve(group, p);
@@ -326,12 +417,27 @@ fn describe(
             kind(f, &p).map(|_| p)
         }
     };
-    let hamiltonian = match &hpath {
-        Some(p) => Some(probe_operator(file, f, "hamiltonian", p, dim, n, false)?),
-        None => None,
-    };
+    match &hpath {
+        Some(p) => Ok(Some(probe_operator(
+            file,
+            f,
+            "hamiltonian",
+            p,
+            dim,
+            n,
+            false,
+        )?)),
+        None => Ok(None),
+    }
+}
 
-    // States.
+/// The stored initial states of a sector (under `states/`, sorted by name), each `[dim]`.
+fn describe_states(
+    file: &Path,
+    f: &hdf5::File,
+    group: &str,
+    dim: Option<usize>,
+) -> Result<Vec<StateInfo>> {
     let mut state_info = Vec::new();
     let spath = join(group, "states");
     if kind(f, &spath) == Some(LocationType::Group) {
@@ -368,35 +474,7 @@ fn describe(
         }
     }
 
-    let gobj = f
-        .group(group)
-        .map_err(|e| h5::h5err(file, group, "cannot open group", e))?;
-    let size = attr_count(file, group, &gobj, "size")?;
-    let label = attr_string(file, group, &gobj, "label")?;
-    let model = attr_string(file, group, &gobj, "model")?;
-
-    Ok(Sector {
-        name: sector_name(group),
-        group: group.to_string(),
-        n_states: n,
-        dim,
-        field: element.map(Element::field),
-        layout,
-        states: state_info.iter().map(|s| s.name.clone()).collect(),
-        has_hamiltonian: hamiltonian.is_some(),
-        observables,
-        size,
-        label,
-        model,
-        energies_path: epath.to_string(),
-        energies_element: eel,
-        eigenvectors_path: vpath,
-        element,
-        chunk,
-        filters,
-        hamiltonian,
-        state_info,
-    })
+    Ok(state_info)
 }
 
 fn filter_name(f: &hdf5::filters::Filter) -> String {
@@ -423,160 +501,209 @@ fn probe_operator(
     n: usize,
     energy_basis_allowed: bool,
 ) -> Result<ObservableInfo> {
-    let want =
-        |rows: usize, cols: usize, expect: Option<(usize, usize)>, what: &str| -> Result<()> {
-            match expect {
-                Some((r, c)) if (r, c) != (rows, cols) => Err(Error::dataset(
-                    file,
-                    path,
-                    format!("shape [{rows}, {cols}] does not match {what} [{r}, {c}]"),
-                )),
-                _ => Ok(()),
-            }
-        };
     match kind(f, path) {
         Some(LocationType::Dataset) => {
-            let ds = open_ds(file, f, path)?;
-            let el = h5::element(file, path, &ds)?;
-            let shape = ds.shape();
-            let basis = attr_string(file, path, &ds, "basis")?;
-            let form = match (shape.len(), basis.as_deref()) {
-                (1, None | Some("computational")) => {
-                    if let Some(d) = dim {
-                        if shape[0] != d {
-                            return Err(Error::dataset(
-                                file,
-                                path,
-                                format!("shape [{}] does not match the dimension {d} of the eigenvectors", shape[0]),
-                            ));
-                        }
-                    }
-                    OperatorForm::Diagonal
-                }
-                (2, None | Some("computational")) => {
-                    want(shape[0], shape[1], dim.map(|d| (d, d)), "the eigenvector dimension")?;
-                    if shape[0] != shape[1] {
+            probe_dataset_operator(file, f, name, path, dim, n, energy_basis_allowed)
+        }
+        Some(LocationType::Group) => probe_csr_operator(file, f, name, path, dim),
+        _ => Err(Error::dataset(file, path, "missing dataset")),
+    }
+}
+
+/// An error unless `[rows, cols]` equals the expected shape (when one is known).
+fn want_shape(
+    file: &Path,
+    path: &str,
+    (rows, cols): (usize, usize),
+    expect: Option<(usize, usize)>,
+    what: &str,
+) -> Result<()> {
+    match expect {
+        Some((r, c)) if (r, c) != (rows, cols) => Err(Error::dataset(
+            file,
+            path,
+            format!("shape [{rows}, {cols}] does not match {what} [{r}, {c}]"),
+        )),
+        _ => Ok(()),
+    }
+}
+
+/// [`probe_operator`] for a dataset: diagonal `[dim]`, dense `[dim, dim]` or, with
+/// attribute `basis = "energy"`, `[n, n]` in the energy eigenbasis.
+fn probe_dataset_operator(
+    file: &Path,
+    f: &hdf5::File,
+    name: &str,
+    path: &str,
+    dim: Option<usize>,
+    n: usize,
+    energy_basis_allowed: bool,
+) -> Result<ObservableInfo> {
+    let ds = open_ds(file, f, path)?;
+    let el = h5::element(file, path, &ds)?;
+    let shape = ds.shape();
+    let basis = attr_string(file, path, &ds, "basis")?;
+    let form =
+        match (shape.len(), basis.as_deref()) {
+            (1, None | Some("computational")) => {
+                if let Some(d) = dim {
+                    if shape[0] != d {
                         return Err(Error::dataset(
                             file,
                             path,
-                            format!("shape {} is not square", format_shape(&shape)),
+                            format!(
+                                "shape [{}] does not match the dimension {d} of the eigenvectors",
+                                shape[0]
+                            ),
                         ));
                     }
-                    OperatorForm::Dense
                 }
-                (2, Some("energy")) if energy_basis_allowed => {
-                    want(shape[0], shape[1], Some((n, n)), "the number of energies")?;
-                    OperatorForm::EnergyBasis
-                }
-                (_, Some(b)) if b != "energy" && b != "computational" => {
+                OperatorForm::Diagonal
+            }
+            (2, None | Some("computational")) => {
+                want_shape(
+                    file,
+                    path,
+                    (shape[0], shape[1]),
+                    dim.map(|d| (d, d)),
+                    "the eigenvector dimension",
+                )?;
+                if shape[0] != shape[1] {
                     return Err(Error::dataset(
                         file,
                         path,
-                        format!("attribute basis = \"{b}\" is neither \"energy\" nor \"computational\""),
-                    ))
-                }
-                _ => {
-                    return Err(Error::dataset(
-                        file,
-                        path,
-                        format!(
-                            "shape {} is not an operator: expected [dim] (diagonal), [dim, dim] (dense){}",
-                            format_shape(&shape),
-                            if energy_basis_allowed { " or [n, n] with basis = \"energy\"" } else { "" }
-                        ),
-                    ))
-                }
-            };
-            Ok(ObservableInfo {
-                name: name.to_string(),
-                form,
-                field: el.field(),
-                path: path.to_string(),
-                element: el,
-                shape,
-            })
-        }
-        Some(LocationType::Group) => {
-            let g = f
-                .group(path)
-                .map_err(|e| h5::h5err(file, path, "cannot open group", e))?;
-            for part in ["data", "indices", "indptr"] {
-                if kind(f, &join(path, part)) != Some(LocationType::Dataset) {
-                    return Err(Error::dataset(
-                        file,
-                        join(path, part),
-                        "missing dataset (a CSR group needs data, indices, indptr and attribute shape)",
+                        format!("shape {} is not square", format_shape(&shape)),
                     ));
                 }
+                OperatorForm::Dense
             }
-            let shape = attr_counts(file, path, &g, "shape")?.ok_or_else(|| {
-                Error::dataset(
+            (2, Some("energy")) if energy_basis_allowed => {
+                want_shape(
                     file,
                     path,
-                    "CSR group without attribute shape = [rows, cols]",
-                )
-            })?;
-            if shape.len() != 2 {
+                    (shape[0], shape[1]),
+                    Some((n, n)),
+                    "the number of energies",
+                )?;
+                OperatorForm::EnergyBasis
+            }
+            (_, Some(b)) if b != "energy" && b != "computational" => {
                 return Err(Error::dataset(
                     file,
                     path,
-                    format!("attribute shape has {} entries, expected 2", shape.len()),
-                ));
-            }
-            want(
-                shape[0],
-                shape[1],
-                dim.map(|d| (d, d)),
-                "the eigenvector dimension",
-            )?;
-            if shape[0] != shape[1] {
-                return Err(Error::dataset(
-                    file,
-                    path,
-                    format!("shape {} is not square", format_shape(&shape)),
-                ));
-            }
-            let dpath = join(path, "data");
-            let data = open_ds(file, f, &dpath)?;
-            let el = h5::element(file, &dpath, &data)?;
-            let nnz = data.size();
-            let ipath = join(path, "indices");
-            let idx = open_ds(file, f, &ipath)?;
-            h5::require_integer(file, &ipath, &idx)?;
-            if idx.size() != nnz || idx.ndim() != 1 {
-                return Err(Error::dataset(
-                    file,
-                    &ipath,
                     format!(
-                        "shape {} does not match {nnz} values in data",
-                        format_shape(&idx.shape())
+                        "attribute basis = \"{b}\" is neither \"energy\" nor \"computational\""
                     ),
-                ));
+                ))
             }
-            let ppath = join(path, "indptr");
-            let ptr = open_ds(file, f, &ppath)?;
-            h5::require_integer(file, &ppath, &ptr)?;
-            if ptr.size() != shape[0] + 1 || ptr.ndim() != 1 {
+            _ => {
                 return Err(Error::dataset(
                     file,
-                    &ppath,
+                    path,
                     format!(
-                        "shape {} does not match {} rows (expected [{}])",
-                        format_shape(&ptr.shape()),
-                        shape[0],
-                        shape[0] + 1
-                    ),
-                ));
+                    "shape {} is not an operator: expected [dim] (diagonal), [dim, dim] (dense){}",
+                    format_shape(&shape),
+                    if energy_basis_allowed { " or [n, n] with basis = \"energy\"" } else { "" }
+                ),
+                ))
             }
-            Ok(ObservableInfo {
-                name: name.to_string(),
-                form: OperatorForm::Csr,
-                field: el.field(),
-                path: path.to_string(),
-                element: el,
-                shape,
-            })
+        };
+    Ok(ObservableInfo {
+        name: name.to_string(),
+        form,
+        field: el.field(),
+        path: path.to_string(),
+        element: el,
+        shape,
+    })
+}
+
+/// [`probe_operator`] for a CSR group `{data, indices, indptr}` with attribute `shape`.
+fn probe_csr_operator(
+    file: &Path,
+    f: &hdf5::File,
+    name: &str,
+    path: &str,
+    dim: Option<usize>,
+) -> Result<ObservableInfo> {
+    let g = f
+        .group(path)
+        .map_err(|e| h5::h5err(file, path, "cannot open group", e))?;
+    for part in ["data", "indices", "indptr"] {
+        if kind(f, &join(path, part)) != Some(LocationType::Dataset) {
+            return Err(Error::dataset(
+                file,
+                join(path, part),
+                "missing dataset (a CSR group needs data, indices, indptr and attribute shape)",
+            ));
         }
-        _ => Err(Error::dataset(file, path, "missing dataset")),
     }
+    let shape = attr_counts(file, path, &g, "shape")?.ok_or_else(|| {
+        Error::dataset(
+            file,
+            path,
+            "CSR group without attribute shape = [rows, cols]",
+        )
+    })?;
+    if shape.len() != 2 {
+        return Err(Error::dataset(
+            file,
+            path,
+            format!("attribute shape has {} entries, expected 2", shape.len()),
+        ));
+    }
+    want_shape(
+        file,
+        path,
+        (shape[0], shape[1]),
+        dim.map(|d| (d, d)),
+        "the eigenvector dimension",
+    )?;
+    if shape[0] != shape[1] {
+        return Err(Error::dataset(
+            file,
+            path,
+            format!("shape {} is not square", format_shape(&shape)),
+        ));
+    }
+    let dpath = join(path, "data");
+    let data = open_ds(file, f, &dpath)?;
+    let el = h5::element(file, &dpath, &data)?;
+    let nnz = data.size();
+    let ipath = join(path, "indices");
+    let idx = open_ds(file, f, &ipath)?;
+    h5::require_integer(file, &ipath, &idx)?;
+    if idx.size() != nnz || idx.ndim() != 1 {
+        return Err(Error::dataset(
+            file,
+            &ipath,
+            format!(
+                "shape {} does not match {nnz} values in data",
+                format_shape(&idx.shape())
+            ),
+        ));
+    }
+    let ppath = join(path, "indptr");
+    let ptr = open_ds(file, f, &ppath)?;
+    h5::require_integer(file, &ppath, &ptr)?;
+    if ptr.size() != shape[0] + 1 || ptr.ndim() != 1 {
+        return Err(Error::dataset(
+            file,
+            &ppath,
+            format!(
+                "shape {} does not match {} rows (expected [{}])",
+                format_shape(&ptr.shape()),
+                shape[0],
+                shape[0] + 1
+            ),
+        ));
+    }
+    Ok(ObservableInfo {
+        name: name.to_string(),
+        form: OperatorForm::Csr,
+        field: el.field(),
+        path: path.to_string(),
+        element: el,
+        shape,
+    })
 }

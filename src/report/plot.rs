@@ -476,9 +476,26 @@ impl Figure {
             let r = chart.y_range();
             (r.start, r.end)
         };
-        let ok = |v: f64, log: bool| v.is_finite() && (!log || v > 0.0);
+        self.draw_histogram(&mut chart, (xlog, ylog), y0)?;
+        self.draw_references(&mut chart, root, ylog, (x0, x1))?;
+        self.draw_curves(&mut chart, (xlog, ylog), (x0, y0))?;
+        self.draw_legend(&mut chart)?;
+        Ok(())
+    }
 
-        // Histogram bars.
+    /// The histogram bars and their outline.
+    fn draw_histogram<'a, X, Y>(
+        &self,
+        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+        (xlog, ylog): (bool, bool),
+        y0: f64,
+    ) -> std::result::Result<(), String>
+    where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        let e = |e: &dyn std::fmt::Display| e.to_string();
+        let ok = |v: f64, log: bool| v.is_finite() && (!log || v > 0.0);
         if let Some(h) = &self.histogram {
             let fill = RGBColor(200, 200, 200);
             let base = if ylog { y0 } else { 0.0 };
@@ -511,9 +528,25 @@ impl Figure {
             chart.draw_series(outline).map_err(|x| e(&x))?;
         }
 
-        // Reference lines, then their labels at the right end: each wants to sit just above
-        // its line (below it when the line is near the top), and labels that would overlap
-        // are spread apart by `spread_labels`, keeping the order of the lines.
+        Ok(())
+    }
+
+    /// The reference lines, then their labels at the right end: each wants to sit just
+    /// above its line (below it when the line is near the top), and labels that would
+    /// overlap are spread apart by `spread_labels`, keeping the order of the lines.
+    fn draw_references<'a, X, Y>(
+        &self,
+        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+        root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+        ylog: bool,
+        (x0, x1): (f64, f64),
+    ) -> std::result::Result<(), String>
+    where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        let e = |e: &dyn std::fmt::Display| e.to_string();
+        let ok = |v: f64, log: bool| v.is_finite() && (!log || v > 0.0);
         let grey = RGBColor(90, 90, 90);
         let area = chart.plotting_area().get_pixel_range();
         let (top, bottom) = (f64::from(area.1.start), f64::from(area.1.end));
@@ -549,7 +582,22 @@ impl Figure {
                 .map_err(|x| e(&x))?;
         }
 
-        // Series.
+        Ok(())
+    }
+
+    /// The series: error bars, lines and markers, with their legend entries.
+    fn draw_curves<'a, X, Y>(
+        &self,
+        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+        (xlog, ylog): (bool, bool),
+        (x0, y0): (f64, f64),
+    ) -> std::result::Result<(), String>
+    where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        let e = |e: &dyn std::fmt::Display| e.to_string();
+        let ok = |v: f64, log: bool| v.is_finite() && (!log || v > 0.0);
         for (k, s) in self.series.iter().enumerate() {
             let color = palette(s.color.unwrap_or(k));
             let pts: Vec<(f64, f64)> = s
@@ -611,6 +659,19 @@ impl Figure {
             }
         }
 
+        Ok(())
+    }
+
+    /// The legend box, when any series is labelled.
+    fn draw_legend<'a, X, Y>(
+        &self,
+        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+    ) -> std::result::Result<(), String>
+    where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        let e = |e: &dyn std::fmt::Display| e.to_string();
         let labelled = self.series.iter().any(|s| !s.label.is_empty())
             || self.histogram.as_ref().is_some_and(|h| !h.label.is_empty());
         if labelled && self.legend != Legend::Hidden {

@@ -14,7 +14,7 @@ use super::verdict::{
     decide, CanonicalDeviation, ExponentEvidence, RatioAtSize, RatioEvidence, Symmetry,
     VerdictInputs, VerdictReport,
 };
-use crate::analysis::sector::SectorAnalysis;
+use crate::analysis::sector::{ObservableAnalysis, SectorAnalysis};
 use crate::data::Field;
 use crate::error::{Error, Result};
 use serde::Serialize;
@@ -111,76 +111,14 @@ pub struct ScalingReport {
 
 /// Builds the rows, fits and verdicts from per-sector analyses.
 pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<ScalingReport> {
-    let mut rows = Vec::new();
-    for a in analyses {
-        for o in &a.observables {
-            let d = &o.diagonal;
-            let off = o.offdiagonal.as_ref();
-            let nan = f64::NAN;
-            let (lo, lo_e, g, g_e, r, r_e) = off
-                .map(|x| {
-                    (
-                        x.low_omega_variance,
-                        x.low_omega_variance_stderr,
-                        x.gaussian_ratio,
-                        x.gaussian_ratio_stderr,
-                        x.diag_offdiag_ratio,
-                        x.diag_offdiag_ratio_stderr,
-                    )
-                })
-                .unwrap_or((nan, nan, nan, nan, nan, nan));
-            let (r, r_e) = if o.low_omega_vanishes || o.diagonal_vanishes {
-                (nan, nan)
-            } else {
-                (r, r_e)
-            };
-            let (amin, amax) = o
-                .points
+    let mut rows: Vec<Row> = analyses
+        .iter()
+        .flat_map(|a| {
+            a.observables
                 .iter()
-                .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
-                    (lo.min(p.1), hi.max(p.1))
-                });
-            let sector_key = if combine_sectors {
-                "*".to_string()
-            } else {
-                a.sector.clone()
-            };
-            rows.push(Row {
-                family: format!(
-                    "{} | {} | {}",
-                    a.model.clone().unwrap_or_else(|| "-".into()),
-                    sector_key,
-                    o.name
-                ),
-                file: a.file.clone(),
-                sector: a.sector.clone(),
-                observable: o.name.clone(),
-                dimension: a.dimension as f64,
-                size: a.size,
-                mean_r: a.levels.mean_r,
-                mean_r_stderr: a.levels.mean_r_stderr,
-                fluct_variance: d.fluct_variance,
-                fluct_variance_stderr: o.bootstrap.fluct_variance,
-                diff_mean_abs: d.diff_mean_abs,
-                diff_mean_abs_stderr: o.bootstrap.diff_mean_abs,
-                low_omega_variance: lo,
-                low_omega_variance_stderr: lo_e,
-                gaussian_ratio: g,
-                gaussian_ratio_stderr: g_e,
-                diag_offdiag_ratio: r,
-                diag_offdiag_ratio_stderr: r_e,
-                canonical_rms_deviation: d
-                    .predictions
-                    .canonical
-                    .as_ref()
-                    .map(|c| c.rms)
-                    .unwrap_or(nan),
-                observable_spread: amax - amin,
-                field: a.field,
-                diagonal_vanishes: o.diagonal_vanishes,
-            });
-        }
-    }
+                .map(move |o| row(a, o, combine_sectors))
+        })
+        .collect();
     if combine_sectors {
         rows = combine(rows);
     }
@@ -205,50 +143,7 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Scali
                 fits.push(fit);
             }
         }
-        let last = fr.last().ok_or_else(|| Error::other("empty family"))?;
-        let symmetry = match last.field {
-            Field::Real => Symmetry::Real,
-            Field::Complex => Symmetry::Complex,
-        };
-        let vanishes = fr.iter().all(|r| r.diagonal_vanishes);
-        let inputs = VerdictInputs {
-            symmetry,
-            mean_r: fr
-                .iter()
-                .map(|r| RatioAtSize {
-                    dimension: r.dimension,
-                    mean_r: r.mean_r,
-                    stderr: r.mean_r_stderr,
-                })
-                .collect(),
-            fluctuation: if vanishes {
-                None
-            } else {
-                fluct_fit.map(|f| ExponentEvidence::variance(f.exponent, f.exponent_stderr))
-            },
-            canonical: (last.canonical_rms_deviation.is_finite() && last.observable_spread > 0.0)
-                .then_some(CanonicalDeviation {
-                    deviation: last.canonical_rms_deviation,
-                    scale: last.observable_spread,
-                }),
-            low_omega_ratio: (last.diag_offdiag_ratio.is_finite() && !vanishes).then_some({
-                RatioEvidence {
-                    ratio: last.diag_offdiag_ratio,
-                    stderr: last.diag_offdiag_ratio_stderr,
-                }
-            }),
-        };
-        let mut verdict = decide(&inputs);
-        if vanishes {
-            verdict.reasons.push(
-                "every diagonal element vanishes by symmetry: fluctuation figures carry no evidence".to_string(),
-            );
-        }
-        verdicts.push(FamilyVerdict {
-            family: fam.clone(),
-            observable: last.observable.clone(),
-            verdict,
-        });
+        verdicts.push(family_verdict(fam, &fr, fluct_fit)?);
     }
     Ok(ScalingReport {
         method: format!(
@@ -261,6 +156,126 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Scali
         rows,
         fits,
         verdicts,
+    })
+}
+
+/// The row of one observable of one sector (family key with the sector name, or `*` when
+/// sectors are combined).
+fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row {
+    let d = &o.diagonal;
+    let off = o.offdiagonal.as_ref();
+    let nan = f64::NAN;
+    let (lo, lo_e, g, g_e, r, r_e) = off
+        .map(|x| {
+            (
+                x.low_omega_variance,
+                x.low_omega_variance_stderr,
+                x.gaussian_ratio,
+                x.gaussian_ratio_stderr,
+                x.diag_offdiag_ratio,
+                x.diag_offdiag_ratio_stderr,
+            )
+        })
+        .unwrap_or((nan, nan, nan, nan, nan, nan));
+    let (r, r_e) = if o.low_omega_vanishes || o.diagonal_vanishes {
+        (nan, nan)
+    } else {
+        (r, r_e)
+    };
+    let (amin, amax) = o
+        .points
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
+            (lo.min(p.1), hi.max(p.1))
+        });
+    let sector_key = if combine_sectors {
+        "*".to_string()
+    } else {
+        a.sector.clone()
+    };
+    Row {
+        family: format!(
+            "{} | {} | {}",
+            a.model.clone().unwrap_or_else(|| "-".into()),
+            sector_key,
+            o.name
+        ),
+        file: a.file.clone(),
+        sector: a.sector.clone(),
+        observable: o.name.clone(),
+        dimension: a.dimension as f64,
+        size: a.size,
+        mean_r: a.levels.mean_r,
+        mean_r_stderr: a.levels.mean_r_stderr,
+        fluct_variance: d.fluct_variance,
+        fluct_variance_stderr: o.bootstrap.fluct_variance,
+        diff_mean_abs: d.diff_mean_abs,
+        diff_mean_abs_stderr: o.bootstrap.diff_mean_abs,
+        low_omega_variance: lo,
+        low_omega_variance_stderr: lo_e,
+        gaussian_ratio: g,
+        gaussian_ratio_stderr: g_e,
+        diag_offdiag_ratio: r,
+        diag_offdiag_ratio_stderr: r_e,
+        canonical_rms_deviation: d
+            .predictions
+            .canonical
+            .as_ref()
+            .map(|c| c.rms)
+            .unwrap_or(nan),
+        observable_spread: amax - amin,
+        field: a.field,
+        diagonal_vanishes: o.diagonal_vanishes,
+    }
+}
+
+/// The verdict of one family from its rows (ascending dimension) and the fit of its
+/// fluctuation variance.
+fn family_verdict(fam: &str, fr: &[&Row], fluct_fit: Option<ScalingFit>) -> Result<FamilyVerdict> {
+    let last = fr.last().ok_or_else(|| Error::other("empty family"))?;
+    let symmetry = match last.field {
+        Field::Real => Symmetry::Real,
+        Field::Complex => Symmetry::Complex,
+    };
+    let vanishes = fr.iter().all(|r| r.diagonal_vanishes);
+    let inputs = VerdictInputs {
+        symmetry,
+        mean_r: fr
+            .iter()
+            .map(|r| RatioAtSize {
+                dimension: r.dimension,
+                mean_r: r.mean_r,
+                stderr: r.mean_r_stderr,
+            })
+            .collect(),
+        fluctuation: if vanishes {
+            None
+        } else {
+            fluct_fit.map(|f| ExponentEvidence::variance(f.exponent, f.exponent_stderr))
+        },
+        canonical: (last.canonical_rms_deviation.is_finite() && last.observable_spread > 0.0)
+            .then_some(CanonicalDeviation {
+                deviation: last.canonical_rms_deviation,
+                scale: last.observable_spread,
+            }),
+        low_omega_ratio: (last.diag_offdiag_ratio.is_finite() && !vanishes).then_some({
+            RatioEvidence {
+                ratio: last.diag_offdiag_ratio,
+                stderr: last.diag_offdiag_ratio_stderr,
+            }
+        }),
+    };
+    let mut verdict = decide(&inputs);
+    if vanishes {
+        verdict.reasons.push(
+            "every diagonal element vanishes by symmetry: fluctuation figures carry no evidence"
+                .to_string(),
+        );
+    }
+    Ok(FamilyVerdict {
+        family: fam.to_string(),
+        observable: last.observable.clone(),
+        verdict,
     })
 }
 
