@@ -3,8 +3,7 @@
 
 use eigentherm::data::{c64, Matrix, Observable, OpData, Operator, Vector};
 use eigentherm::model::{
-    build_chain, build_random, write_file, Boundary, ChainModel, ChainSpec, RandomEnsemble,
-    RandomSpec, Reflection, SectorData,
+    build_chain, build_random, write_file, RandomEnsemble, RandomSpec, SectorData,
 };
 use hdf5::types::VarLenUnicode;
 use ndarray::{Array1, Array2};
@@ -19,17 +18,7 @@ fn chain_file_round_trip() {
     // common practice, no source: what is written is read back unchanged
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("mfi.h5");
-    let spec = ChainSpec {
-        model: ChainModel::MixedFieldIsing {
-            j: 1.0,
-            g: 0.9045,
-            h: 0.8090,
-        },
-        sites: 6,
-        boundary: Boundary::Open,
-        reflection: Reflection::Resolve,
-        site: None,
-    };
+    let spec = crate::util::mixed_field_spec(6);
     let sectors = build_chain(&spec).unwrap();
     write_file(&path, &sectors).unwrap();
     // nothing but the final file is left in the folder

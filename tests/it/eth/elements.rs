@@ -152,20 +152,10 @@ fn free_spins_canonical_prediction_is_minus_tanh() {
 /// returns (L, fluct_variance, rms of A(E) − canonical, rms of A(E) − microcanonical)
 /// over the window's bins.
 fn mixed_field_ising(sizes: &[usize]) -> Vec<(usize, f64, f64, f64)> {
-    use eigentherm::model::{build_chain, Boundary, ChainModel, ChainSpec, Reflection};
+    use eigentherm::model::build_chain;
     let mut out = Vec::new();
     for &l in sizes {
-        let spec = ChainSpec {
-            model: ChainModel::MixedFieldIsing {
-                j: 1.0,
-                g: 0.9045,
-                h: 0.8090,
-            },
-            sites: l,
-            boundary: Boundary::Open,
-            reflection: Reflection::Resolve,
-            site: None,
-        };
+        let spec = crate::util::mixed_field_spec(l);
         let sectors = build_chain(&spec).unwrap();
         let s = sectors.iter().find(|s| s.group == "even").unwrap();
         let obs = s.observables.iter().find(|o| o.name == "sz_site").unwrap();

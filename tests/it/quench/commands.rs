@@ -64,18 +64,7 @@ fn bad_options_give_one_line_errors() {
 fn end_to_end_on_a_generated_chain() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("mfi6.h5");
-    let sectors = build_chain(&ChainSpec {
-        model: ChainModel::MixedFieldIsing {
-            j: 1.0,
-            g: 0.9045,
-            h: 0.8090,
-        },
-        sites: 6,
-        boundary: Boundary::Open,
-        reflection: Reflection::Resolve,
-        site: None,
-    })
-    .unwrap();
+    let sectors = build_chain(&crate::util::mixed_field_spec(6)).unwrap();
     write_file(&path, &sectors).unwrap();
     let p = path.to_str().unwrap();
     // a product state that is not reflection symmetric has weight in both parity sectors
@@ -354,27 +343,4 @@ fn study_with_several_observables_matches_single_observable_runs() {
     }
 }
 
-/// Writes the open mixed-field Ising chains of lengths `sizes` (J = 1, g = 0.9045,
-/// h = 0.8090, reflection sectors resolved) into `dir` as `mfi{L}.h5`.
-fn mixed_field_chains(dir: &std::path::Path, sizes: &[usize]) -> Vec<std::path::PathBuf> {
-    sizes
-        .iter()
-        .map(|&l| {
-            let path = dir.join(format!("mfi{l}.h5"));
-            let sectors = build_chain(&ChainSpec {
-                model: ChainModel::MixedFieldIsing {
-                    j: 1.0,
-                    g: 0.9045,
-                    h: 0.8090,
-                },
-                sites: l,
-                boundary: Boundary::Open,
-                reflection: Reflection::Resolve,
-                site: None,
-            })
-            .unwrap();
-            write_file(&path, &sectors).unwrap();
-            path
-        })
-        .collect()
-}
+use crate::util::mixed_field_chains;

@@ -1,0 +1,6 @@
+//! Reading inputs: h5py fixtures, sector embeddings, the generate/inspect round trip, streaming from a file.
+
+mod embedding;
+mod fixtures;
+mod roundtrip;
+mod stream_file;

@@ -1,0 +1,4 @@
+//! Level statistics on random-matrix spectra and on spin chains.
+
+mod chain;
+mod statistics;

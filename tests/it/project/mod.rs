@@ -1,0 +1,4 @@
+//! The projector: operator forms, streaming, and a NumPy fixture.
+
+mod fixture;
+mod forms;

@@ -1,0 +1,4 @@
+//! Quench dynamics: analytic checks and the command end to end.
+
+mod commands;
+mod dynamics;

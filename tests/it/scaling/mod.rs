@@ -1,0 +1,4 @@
+//! Finite-size fits, resampling, verdicts, and the demo study.
+
+mod demo;
+mod fits;
