@@ -50,11 +50,6 @@ fn check_square(r: usize, c: usize) -> Result<()> {
     Ok(())
 }
 
-/// Copies a row-major or strided ndarray into a faer column-major matrix.
-pub fn mat_from_ndarray<T: Copy>(a: ndarray::ArrayView2<'_, T>) -> Mat<T> {
-    Mat::from_fn(a.nrows(), a.ncols(), |i, j| a[[i, j]])
-}
-
 /// Copies a faer matrix into a row-major ndarray.
 pub fn ndarray_from_mat<T: Copy>(m: MatRef<'_, T>) -> ndarray::Array2<T> {
     ndarray::Array2::from_shape_fn((m.nrows(), m.ncols()), |(i, j)| m[(i, j)])

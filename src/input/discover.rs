@@ -528,6 +528,25 @@ fn want_shape(
     }
 }
 
+/// An error unless the 2-D `shape` is `[dim, dim]` (when the dimension is known) and square.
+fn want_square(file: &Path, path: &str, shape: &[usize], dim: Option<usize>) -> Result<()> {
+    want_shape(
+        file,
+        path,
+        (shape[0], shape[1]),
+        dim.map(|d| (d, d)),
+        "the eigenvector dimension",
+    )?;
+    if shape[0] != shape[1] {
+        return Err(Error::dataset(
+            file,
+            path,
+            format!("shape {} is not square", format_shape(shape)),
+        ));
+    }
+    Ok(())
+}
+
 /// [`probe_operator`] for a dataset: diagonal `[dim]`, dense `[dim, dim]` or, with
 /// attribute `basis = "energy"`, `[n, n]` in the energy eigenbasis.
 fn probe_dataset_operator(
@@ -561,20 +580,7 @@ fn probe_dataset_operator(
                 OperatorForm::Diagonal
             }
             (2, None | Some("computational")) => {
-                want_shape(
-                    file,
-                    path,
-                    (shape[0], shape[1]),
-                    dim.map(|d| (d, d)),
-                    "the eigenvector dimension",
-                )?;
-                if shape[0] != shape[1] {
-                    return Err(Error::dataset(
-                        file,
-                        path,
-                        format!("shape {} is not square", format_shape(&shape)),
-                    ));
-                }
+                want_square(file, path, &shape, dim)?;
                 OperatorForm::Dense
             }
             (2, Some("energy")) if energy_basis_allowed => {
@@ -652,20 +658,7 @@ fn probe_csr_operator(
             format!("attribute shape has {} entries, expected 2", shape.len()),
         ));
     }
-    want_shape(
-        file,
-        path,
-        (shape[0], shape[1]),
-        dim.map(|d| (d, d)),
-        "the eigenvector dimension",
-    )?;
-    if shape[0] != shape[1] {
-        return Err(Error::dataset(
-            file,
-            path,
-            format!("shape {} is not square", format_shape(&shape)),
-        ));
-    }
+    want_square(file, path, &shape, dim)?;
     let dpath = join(path, "data");
     let data = open_ds(file, f, &dpath)?;
     let el = h5::element(file, &dpath, &data)?;

@@ -29,7 +29,6 @@ pub struct VectorReader {
     /// `order[k]` = file index of the k-th lowest state; `None` when sorted.
     order: Option<Vec<usize>>,
     chunk_states: Option<usize>,
-    piece_bytes: usize,
 }
 
 impl std::fmt::Debug for VectorReader {
@@ -93,7 +92,6 @@ impl VectorReader {
             element,
             order: (!spectrum.was_sorted()).then(|| spectrum.order.clone()),
             chunk_states,
-            piece_bytes: PIECE_BYTES,
         })
     }
 
@@ -103,33 +101,9 @@ impl VectorReader {
         self.chunk_states
     }
 
-    /// The largest block width `≤ max_cols` that is a multiple of the chunk extent
-    /// along the state axis (at least one chunk, at least 1).
-    pub fn aligned_block(&self, max_cols: usize) -> usize {
-        let max_cols = max_cols.max(1);
-        match self.chunk_states {
-            Some(c) if c > 0 => (max_cols / c).max(1) * c,
-            _ => max_cols,
-        }
-    }
-
-    /// Sets the size in bytes of the pieces a chunked column-layout read is cut into
-    /// (rounded down to whole chunk columns, at least one; default: one chunk column).
-    /// With one chunk column per read, every chunk lands in a contiguous part of the
-    /// read buffer and HDF5 copies it with one file read; with wider pieces HDF5 1.10
-    /// scatters each chunk row by row (measured: about 5× slower at dim 32768).
-    pub fn set_piece_bytes(&mut self, bytes: usize) {
-        self.piece_bytes = bytes;
-    }
-
     /// Element type as stored.
     pub fn element(&self) -> Element {
         self.element
-    }
-
-    /// Full HDF5 path of the eigenvector dataset.
-    pub fn dataset_path(&self) -> &str {
-        &self.path
     }
 
     /// Reads the file's states `a..b` (file order) as a `[dim, b − a]` matrix.
@@ -166,14 +140,13 @@ impl VectorReader {
         if b <= a {
             return Ok(());
         }
-        // Column layout of a chunked dataset: read pieces cut on chunk boundaries (one
-        // chunk column each by default, see `set_piece_bytes`) and transpose each into its
-        // columns of the result, so that no second full-size copy of the block exists.
-        // A span within one piece is read in one call.
+        // Column layout of a chunked dataset: read one chunk column per call (HDF5 1.10
+        // copies a chunk with one file read only when it lands in a contiguous part of the
+        // buffer) and transpose each into its columns of the result, so that no second
+        // full-size copy of the block exists. A span within one chunk column is one call.
         if let (Layout::Columns, Some(c)) = (self.layout, self.chunk_states) {
             if c > 0 {
-                let piece = c
-                    * (self.piece_bytes / (self.dim.max(1) * c * std::mem::size_of::<T>())).max(1);
+                let piece = c;
                 let mut s0 = a;
                 while s0 < b {
                     let s1 = ((s0 / piece + 1) * piece).min(b);
@@ -265,10 +238,6 @@ fn put_block<T: Copy + Send + Sync>(arr: &Array2<T>, layout: Layout, mut dst: Ma
         }
     }
 }
-
-/// Default bytes per piece of a chunked column-layout read: 0, i.e. one chunk column
-/// (see [`VectorReader::set_piece_bytes`]).
-const PIECE_BYTES: usize = 0;
 
 /// Writes the C-order `rows × cols` slice `v` into `dst` (`rows × cols`), in tiles of
 /// 8 columns × 256 rows so that each source cache line is read once, parallel over

@@ -24,22 +24,8 @@ pub fn bootstrap(
     resamples: usize,
     seed: u64,
 ) -> (f64, f64) {
-    let estimate = statistic(samples);
-    let n = samples.len();
-    if n < 2 || resamples < 2 {
-        return (estimate, f64::NAN);
-    }
-    let mut rng = crate::model::rmt::rng(seed);
-    let mut buf = vec![0.0; n];
-    let stats: Vec<f64> = (0..resamples)
-        .map(|_| {
-            for slot in buf.iter_mut() {
-                *slot = samples[rng.random_range(0..n)];
-            }
-            statistic(&buf)
-        })
-        .collect();
-    (estimate, sample_std(&stats))
+    // the moving-block bootstrap with blocks of one value draws the same starts
+    block_bootstrap(samples, statistic, 1, resamples, seed)
 }
 
 /// Block length used by [`block_bootstrap`] when the caller has no better choice:

@@ -94,9 +94,8 @@ fn streaming_through_the_file_matches_in_memory() {
     let sector = file.select(None).unwrap()[0];
     let spectrum = file.spectrum(sector).unwrap();
     assert_eq!(spectrum.energies, data.e);
-    let mut reader = file.vectors(sector, &spectrum).unwrap();
-    // one chunk per HDF5 read: blocks are assembled from several pieces
-    reader.set_piece_bytes(1);
+    // one chunk column per HDF5 read: blocks are assembled from several pieces
+    let reader = file.vectors(sector, &spectrum).unwrap();
     assert_eq!(reader.chunk_states(), Some(CHUNK));
     let names = ["dense", "hop", "occ"];
     let ops: Vec<Operator> = names
