@@ -29,6 +29,68 @@ impl std::fmt::Display for Field {
     }
 }
 
+/// The random-matrix symmetry class of a sector: the reference ensemble of its level
+/// statistics and matrix elements. It is a property of the physics (an antiunitary symmetry
+/// such as time reversal, or reflection times time reversal in a momentum sector), never
+/// of how the numbers are stored: a real problem stored as complex, or with each
+/// eigenvector multiplied by a phase, stays orthogonal.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum SymmetryClass {
+    /// Orthogonal class: GOE references, ⟨r̃⟩ = 0.5307, Γ = π/2, diagonal/off-diagonal ratio 2.
+    Orthogonal,
+    /// Unitary class: GUE references, ⟨r̃⟩ = 0.5996, Γ = 4/π, ratio 1.
+    Unitary,
+}
+
+impl SymmetryClass {
+    /// Parses `orthogonal` or `unitary`.
+    pub fn parse(s: &str) -> Option<SymmetryClass> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "orthogonal" => Some(SymmetryClass::Orthogonal),
+            "unitary" => Some(SymmetryClass::Unitary),
+            _ => None,
+        }
+    }
+
+    /// The class of data known only by its element type (library callers that give no
+    /// class): real is orthogonal, complex unitary.
+    pub fn of_field(f: Field) -> SymmetryClass {
+        match f {
+            Field::Real => SymmetryClass::Orthogonal,
+            Field::Complex => SymmetryClass::Unitary,
+        }
+    }
+}
+
+impl std::fmt::Display for SymmetryClass {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            SymmetryClass::Orthogonal => "orthogonal",
+            SymmetryClass::Unitary => "unitary",
+        })
+    }
+}
+
+/// A sector's symmetry class and how it was decided (both in every JSON output).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct ClassInfo {
+    /// The class.
+    pub symmetry_class: SymmetryClass,
+    /// How it was decided, in words (`--class`, the attribute, real data, ...).
+    pub class_source: String,
+}
+
+impl ClassInfo {
+    /// The class of a field, decided by the element type alone.
+    pub fn of_field(f: Field) -> ClassInfo {
+        ClassInfo {
+            symmetry_class: SymmetryClass::of_field(f),
+            class_source: format!("{f} elements (no class given)"),
+        }
+    }
+}
+
 /// A dense real or complex matrix (column-major).
 #[derive(Debug, Clone)]
 pub enum Matrix {

@@ -14,6 +14,10 @@
 //!   `clamp(⌊√W⌋, 1, 30)` bins of equal width; each bin reports the mean energy, the mean
 //!   `Aₙₙ`, the count and the standard error `std/√count` (sample std, `count ≥ 2`);
 //! - residuals `Aₙₙ − A(Eₙ)` (with `A(Eₙ)` the mean of `n`'s bin): rms reported;
+//! - `residual_variance`, `residual_lag1`: the variance and lag-1 autocorrelation of the
+//!   residuals about a local smooth fit, with a jackknife error
+//!   ([`crate::analysis::residual`]); unlike `fluct_variance` it is not biased by
+//!   correlated neighbours, and the diagonal/off-diagonal ratio and the scaling fits use it;
 //! - predictions at each bin's mean energy `Ē`: microcanonical (mean of `Aₙₙ` over ALL
 //!   states in the shell `|Eₙ − Ē| ≤ δ`, `δ` = [`thermo::default_dos_width`]) and canonical
 //!   `⟨A⟩_{β(Ē)}` with `β(Ē)` solving `⟨H⟩_β = Ē` over all states; the max and rms of
@@ -101,6 +105,14 @@ pub struct DiagonalResult {
     pub fluct_variance_stderr: f64,
     /// Root-mean-square residual `Aₙₙ − A(Eₙ)` about the binned mean.
     pub residual_rms: f64,
+    /// Variance of `Aₙₙ − A(Eₙ)` about a local smooth fit ([`crate::analysis::residual`]).
+    pub residual_variance: f64,
+    /// Its delete-a-group jackknife standard error.
+    pub residual_variance_stderr: f64,
+    /// Lag-1 autocorrelation of the residuals.
+    pub residual_lag1: f64,
+    /// The local fit and the jackknife, in words.
+    pub residual_rule: String,
     /// How the smooth part was formed.
     pub smooth_rule: String,
     /// Binned smooth `A(E)` with the predictions at each bin.
@@ -228,6 +240,7 @@ fn analyze_impl(
     let w = a_w.len();
     let mean = a_w.iter().sum::<f64>() / w as f64;
     let (diff_mean_abs, diff_max_abs, fluct_variance, fluct_variance_stderr) = fluctuations(a_w);
+    let rf = crate::analysis::residual::residual_fit(e_w, a_w);
 
     // binned smooth part
     let nb = ((w as f64).sqrt().floor() as usize).clamp(1, MAX_BINS);
@@ -327,6 +340,10 @@ fn analyze_impl(
         fluct_variance,
         fluct_variance_stderr,
         residual_rms,
+        residual_variance: rf.residual_variance,
+        residual_variance_stderr: rf.residual_variance_stderr,
+        residual_lag1: rf.residual_lag1,
+        residual_rule: rf.rule,
         smooth_rule: format!(
             "binned mean: {nb} equal-width energy bins over the window (clamp(floor(sqrt(W)), 1, {MAX_BINS})), error = standard error per bin"
         ),

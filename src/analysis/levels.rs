@@ -635,6 +635,9 @@ pub struct SectorLevels {
     pub file: String,
     /// Sector name.
     pub name: String,
+    /// Symmetry class and how it was decided (`symmetry_class`, `class_source`).
+    #[serde(flatten)]
+    pub class: crate::data::ClassInfo,
     /// The measured figures (flattened into the same JSON object).
     #[serde(flatten)]
     pub report: LevelReport,

@@ -5,6 +5,7 @@ pub mod diagonal;
 pub mod levels;
 pub mod offdiagonal;
 pub mod quench;
+pub mod residual;
 pub mod scaling;
 pub mod sector;
 pub mod study;

@@ -7,14 +7,23 @@
 //!
 //! - `pairs`, `low_omega_variance = ⟨|Aₙₘ|²⟩` over pairs with `|ω| < omega_max`;
 //! - `gaussian_ratio Γ = ⟨|Aₙₘ|²⟩ / ⟨|Aₙₘ|⟩²` over the same pairs: `π/2` for real Gaussian
-//!   elements, `4/π` for circular complex Gaussian ones; its standard error by the delta
-//!   method from the sample moments of `|A|` and `|A|²`;
-//! - `excess_kurtosis = ⟨x⁴⟩_c/⟨x²⟩_c² − 3` of `x = Re Aₙₘ` (real elements) or of the pooled
-//!   real and imaginary parts (complex elements): 0 for Gaussian elements;
-//! - `diag_offdiag_ratio = fluct_variance / low_omega_variance`, with `fluct_variance =
-//!   ½⟨(Aₙ₊₁,ₙ₊₁ − Aₙₙ)²⟩` of the same window ([`crate::analysis::diagonal::fluctuations`]):
-//!   2 for real (time-reversal symmetric) and 1 for complex (GUE-like) ETH systems
-//!   (Mehta 2004; D'Alessio et al. 2016);
+//!   elements (orthogonal class), `4/π` for circular complex Gaussian ones (unitary class);
+//! - `gaussian_ratio_rescaled`: Γ of the rescaled elements `e^{S(Ē)/2}|Aₙₘ|` (estimates of
+//!   `|f(Ē, ω)|`): the density of states changes across the window, and a mixture of
+//!   Gaussians of different widths has Γ above the Gaussian value; rescaling removes that
+//!   part of the mixture. The verdict's Gaussianity criterion uses it;
+//! - `excess_kurtosis = ⟨|Aₙₘ|⁴⟩/⟨|Aₙₘ|²⟩² − 3` (orthogonal) or `− 2` (unitary): 0 for
+//!   Gaussian elements of the class; like Γ it depends on `|Aₙₘ|` only, so a phase per
+//!   eigenvector (or complex storage of real data) leaves it unchanged;
+//! - `diag_offdiag_ratio = residual_variance / low_omega_variance`, with the residual
+//!   variance of the window's `Aₙₙ` about a local smooth fit ([`crate::analysis::residual`]):
+//!   2 in the orthogonal and 1 in the unitary class (Mehta 2004; D'Alessio et al. 2016);
+//!   `fluct_variance = ½⟨(Aₙ₊₁,ₙ₊₁ − Aₙₙ)²⟩` is reported beside it;
+//! - every standard error of these figures and of the envelope bins is a delete-a-group
+//!   jackknife over the window's eigenstates ([`crate::analysis::residual`]: a pair is left
+//!   out with either of its states; the ratio leaves the same states out of both parts);
+//! - the reference values come from the symmetry class ([`OffdiagonalOptions::class`]),
+//!   never from the element type of the data;
 //! - `envelope`: mean `|Aₙₘ|²` in bins of `ω` over ALL window pairs, in linear and in
 //!   logarithmic bins, with `|f(Ē, ω)|² = e^{S(Ē)} |Aₙₘ|²` averaged beside it
 //!   (`S = ln ρ`, the Gaussian-smoothed density of states of [`thermo`]);
@@ -32,8 +41,10 @@
 //! finished into an [`OffdiagonalResult`]; nothing of size `W²` is kept.
 
 use crate::analysis::diagonal::fluctuations;
+use crate::analysis::residual::{self, group_of, PairTable};
+use crate::analysis::scaling::{eth_ratio, gaussian_gamma};
 use crate::analysis::thermo::{self, EntropyTable};
-use crate::data::{Field, Matrix};
+use crate::data::{ClassInfo, Field, Matrix, SymmetryClass};
 use crate::error::{Error, Result};
 use crate::project::BlockPair;
 use serde::Serialize;
@@ -59,7 +70,8 @@ pub struct EnvelopeBin {
     pub omega: f64,
     /// Mean `|Aₙₘ|²`.
     pub mean_sq: f64,
-    /// Standard error of `mean_sq`.
+    /// Standard error of `mean_sq` (jackknife over states; the independent-pair error when
+    /// the window has too few states for groups).
     pub mean_sq_stderr: f64,
     /// Mean `e^{S(Ē)} |Aₙₘ|²`, the estimate of `|f(Ē, ω)|²`.
     pub f_sq: f64,
@@ -93,6 +105,10 @@ pub struct OffdiagonalResult {
     pub states: usize,
     /// Element type of the matrix elements (`real` / `complex`).
     pub field: Field,
+    /// The symmetry class of the references (`orthogonal` / `unitary`).
+    pub symmetry_class: SymmetryClass,
+    /// How the class was decided.
+    pub class_source: String,
     /// Mean level spacing in the window.
     pub mean_level_spacing: f64,
     /// Frequency cut of the low-ω statistics.
@@ -107,20 +123,32 @@ pub struct OffdiagonalResult {
     pub low_omega_variance_stderr: f64,
     /// `Γ = ⟨|Aₙₘ|²⟩ / ⟨|Aₙₘ|⟩²` over those pairs.
     pub gaussian_ratio: f64,
-    /// Standard error of Γ (delta method).
+    /// Standard error of Γ (jackknife over states).
     pub gaussian_ratio_stderr: f64,
-    /// Γ of Gaussian elements: π/2 (real) or 4/π (complex).
+    /// Γ of Gaussian elements: π/2 (orthogonal) or 4/π (unitary).
     pub gaussian_ratio_expected: f64,
-    /// Excess kurtosis of the low-ω elements (real part; pooled real and imaginary parts when complex).
+    /// Γ of the rescaled elements `e^{S(Ē)/2}|Aₙₘ|` at low ω.
+    pub gaussian_ratio_rescaled: f64,
+    /// Its jackknife standard error.
+    pub gaussian_ratio_rescaled_stderr: f64,
+    /// Excess kurtosis of `|Aₙₘ|` at low ω relative to the Gaussian elements of the class.
     pub excess_kurtosis: f64,
     /// `½⟨(Aₙ₊₁,ₙ₊₁ − Aₙₙ)²⟩` in the window.
     pub fluct_variance: f64,
-    /// `fluct_variance / low_omega_variance`.
+    /// Variance of the window's `Aₙₙ` about a local smooth fit.
+    pub residual_variance: f64,
+    /// Its jackknife standard error.
+    pub residual_variance_stderr: f64,
+    /// `residual_variance / low_omega_variance`.
     pub diag_offdiag_ratio: f64,
-    /// Its standard error (errors of both parts combined in quadrature).
+    /// Its jackknife standard error (the same states left out of both parts).
     pub diag_offdiag_ratio_stderr: f64,
-    /// 2 (real, time-reversal symmetric) or 1 (complex).
+    /// 2 (orthogonal) or 1 (unitary).
     pub diag_offdiag_ratio_expected: f64,
+    /// Groups of consecutive states of the jackknife.
+    pub jackknife_groups: usize,
+    /// States per jackknife group (the block length).
+    pub jackknife_block_states: usize,
     /// Envelope over all window pairs, linear ω bins.
     pub envelope: Vec<EnvelopeBin>,
     /// Envelope over all window pairs, logarithmic ω bins.
@@ -134,10 +162,13 @@ pub struct OffdiagonalResult {
 }
 
 /// Settings of the off-diagonal analysis.
-#[derive(Debug, Clone, Copy, Default, Serialize)]
+#[derive(Debug, Clone, Default, Serialize)]
 pub struct OffdiagonalOptions {
     /// Frequency cut; default `DEFAULT_OMEGA_SPACINGS` mean level spacings.
     pub omega_max: Option<f64>,
+    /// The symmetry class of the references; `None`: from the element type of the
+    /// projected elements (for library callers that know nothing better).
+    pub class: Option<ClassInfo>,
 }
 
 impl OffdiagonalOptions {
@@ -147,12 +178,15 @@ impl OffdiagonalOptions {
             Some(w) if !(w.is_finite() && w > 0.0) => Err(Error::usage(format!(
                 "--omega-max {w}: expected a positive number"
             ))),
-            _ => Ok(OffdiagonalOptions { omega_max }),
+            _ => Ok(OffdiagonalOptions {
+                omega_max,
+                class: None,
+            }),
         }
     }
 }
 
-#[derive(Debug, Clone, Default)]
+#[derive(Debug, Clone)]
 struct Bin {
     sw: f64,
     s2: f64,
@@ -160,16 +194,31 @@ struct Bin {
     sf: f64,
     sff: f64,
     c: usize,
+    /// (count, Σ|A|², Σ e^S|A|²) by the groups of the pair's states.
+    jack: PairTable<3>,
 }
 
 impl Bin {
-    fn add(&mut self, w: f64, a2: f64, f2: f64) {
+    fn new(groups: usize) -> Self {
+        Bin {
+            sw: 0.0,
+            s2: 0.0,
+            s4: 0.0,
+            sf: 0.0,
+            sff: 0.0,
+            c: 0,
+            jack: PairTable::new(groups),
+        }
+    }
+
+    fn add(&mut self, w: f64, a2: f64, f2: f64, (ga, gb): (usize, usize)) {
         self.sw += w;
         self.s2 += a2;
         self.s4 += a2 * a2;
         self.sf += f2;
         self.sff += f2 * f2;
         self.c += 1;
+        self.jack.add(ga, gb, [1.0, a2, f2]);
     }
 }
 
@@ -199,19 +248,12 @@ pub struct Accumulator {
     spacing: f64,
     entropy: EntropyTable,
     field: Option<Field>,
+    class: Option<ClassInfo>,
     diag: Vec<f64>,
-    // low-ω moments
-    n_low: usize,
-    s1: f64,
-    s2: f64,
-    s3: f64,
-    s4: f64,
-    // moments of the real (and imaginary) parts
-    xn: usize,
-    x1: f64,
-    x2: f64,
-    x3: f64,
-    x4: f64,
+    groups: usize,
+    // low-ω moments (count, Σ|A|, Σ|A|², Σ|A|⁴, Σ|f|, Σf²) by the groups of the pair's
+    // states, with f² = e^S(Ē)|A|²
+    low: PairTable<6>,
     lin: Vec<Bin>,
     lin_width: f64,
     log: Vec<Bin>,
@@ -253,6 +295,7 @@ impl Accumulator {
         let entropy = EntropyTable::new(energies, ew[0], ew[ew.len() - 1], sigma, 257);
         let omega_top = span.max(f64::MIN_POSITIVE);
         let log_lo = (0.1 * spacing).max(omega_top * 1e-9);
+        let groups = residual::groups(window.len());
         let log_step = if omega_top > log_lo {
             (omega_top / log_lo).ln() / LOG_BINS as f64
         } else {
@@ -268,20 +311,13 @@ impl Accumulator {
             spacing,
             entropy,
             field: None,
+            class: opts.class.clone(),
             diag: Vec::new(),
-            n_low: 0,
-            s1: 0.0,
-            s2: 0.0,
-            s3: 0.0,
-            s4: 0.0,
-            xn: 0,
-            x1: 0.0,
-            x2: 0.0,
-            x3: 0.0,
-            x4: 0.0,
-            lin: vec![Bin::default(); LINEAR_BINS],
+            groups,
+            low: PairTable::new(groups),
+            lin: vec![Bin::new(groups); LINEAR_BINS],
             lin_width: omega_top / LINEAR_BINS as f64,
-            log: vec![Bin::default(); LOG_BINS],
+            log: vec![Bin::new(groups); LOG_BINS],
             log_lo,
             log_step,
             log_below: 0,
@@ -293,42 +329,30 @@ impl Accumulator {
         self.omega_max
     }
 
-    fn add_x(&mut self, x: f64) {
-        self.xn += 1;
-        self.x1 += x;
-        self.x2 += x * x;
-        self.x3 += x * x * x;
-        self.x4 += x * x * x * x;
-    }
-
-    fn add_pair(&mut self, n: usize, m: usize, re: f64, im: f64, complex: bool) {
+    fn add_pair(&mut self, n: usize, m: usize, a2: f64) {
         let (en, em) = (self.energies[n], self.energies[m]);
         let w = (em - en).abs();
-        let a2 = re * re + im * im;
-        if w < self.omega_max {
-            let a = a2.sqrt();
-            self.n_low += 1;
-            self.s1 += a;
-            self.s2 += a2;
-            self.s3 += a2 * a;
-            self.s4 += a2 * a2;
-            self.add_x(re);
-            if complex {
-                self.add_x(im);
-            }
-        }
+        let (w0, len) = (self.window.start, self.window.len());
+        let gs = (
+            group_of(n - w0, len, self.groups),
+            group_of(m - w0, len, self.groups),
+        );
         let f2 = self.entropy.at(0.5 * (en + em)).exp() * a2;
+        if w < self.omega_max {
+            self.low
+                .add(gs.0, gs.1, [1.0, a2.sqrt(), a2, a2 * a2, f2.sqrt(), f2]);
+        }
         let k = if self.lin_width > 0.0 {
             ((w / self.lin_width) as usize).min(LINEAR_BINS - 1)
         } else {
             0
         };
-        self.lin[k].add(w, a2, f2);
+        self.lin[k].add(w, a2, f2, gs);
         if w < self.log_lo {
             self.log_below += 1;
         } else {
             let k = (((w / self.log_lo).ln() / self.log_step) as usize).min(LOG_BINS - 1);
-            self.log[k].add(w, a2, f2);
+            self.log[k].add(w, a2, f2, gs);
         }
     }
 
@@ -345,7 +369,6 @@ impl Accumulator {
                 self.name, r.start, r.end, c.start, c.end, self.window.start, self.window.end
             )));
         }
-        let complex = elements.field() == Field::Complex;
         self.field = Some(elements.field());
         let diag_block = blk.is_diagonal();
         for (j, m) in c.clone().enumerate() {
@@ -357,7 +380,7 @@ impl Accumulator {
                     continue;
                 }
                 let z = elements.get_c(i, j);
-                self.add_pair(n, m, z.re, z.im, complex);
+                self.add_pair(n, m, z.norm_sqr());
             }
         }
         Ok(())
@@ -366,52 +389,63 @@ impl Accumulator {
     /// Finishes into the result.
     pub fn finish(self) -> Result<OffdiagonalResult> {
         let field = self.field.unwrap_or(Field::Real);
-        if self.n_low == 0 {
+        let class = self
+            .class
+            .clone()
+            .unwrap_or_else(|| ClassInfo::of_field(field));
+        let low = self.low.total();
+        if low[0] == 0.0 {
             return Err(Error::other(format!(
                 "observable '{}': no pair of states in the window {} lies closer than omega_max = {:.4e}; raise --omega-max",
                 self.name, self.window_label, self.omega_max
             )));
         }
         // diagonal elements arrive block by block in ascending order of the diagonal blocks
-        let (_, _, fluct_variance, fv_err) = fluctuations(&self.diag);
-        let nl = self.n_low as f64;
-        let m1 = self.s1 / nl;
-        let m2 = self.s2 / nl;
-        let m3 = self.s3 / nl;
-        let m4 = self.s4 / nl;
-        let low_var_err = ((m4 - m2 * m2).max(0.0) / nl).sqrt();
-        let gamma = m2 / (m1 * m1);
-        // delta method for Γ = m2/m1²: gradient (1/m1², −2 m2/m1³)
-        let (g1, g2) = (1.0 / (m1 * m1), -2.0 * m2 / (m1 * m1 * m1));
-        let v22 = m4 - m2 * m2; // var |A|²
-        let v11 = m2 - m1 * m1; // var |A|
-        let v12 = m3 - m2 * m1; // cov(|A|², |A|)
-        let gamma_err =
-            ((g1 * g1 * v22 + 2.0 * g1 * g2 * v12 + g2 * g2 * v11).max(0.0) / nl).sqrt();
-        let xn = self.xn as f64;
-        let mu = self.x1 / xn;
-        let c2 = self.x2 / xn - mu * mu;
-        let c4 = self.x4 / xn - 4.0 * mu * self.x3 / xn + 6.0 * mu * mu * self.x2 / xn
-            - 3.0 * mu.powi(4);
-        let kurt = c4 / (c2 * c2) - 3.0;
-        let ratio = fluct_variance / m2;
-        let ratio_err =
-            ratio * ((fv_err / fluct_variance).powi(2) + (low_var_err / m2).powi(2)).sqrt();
+        let (_, _, fluct_variance, _) = fluctuations(&self.diag);
+        let rf = residual::residual_fit(&self.energies[self.window.clone()], &self.diag);
+        let m2_of = |s: &[f64; 6]| s[2] / s[0];
+        let gamma_of = |s: &[f64; 6]| (s[2] / s[0]) / (s[1] / s[0]).powi(2);
+        let gamma_f_of = |s: &[f64; 6]| (s[5] / s[0]) / (s[4] / s[0]).powi(2);
+        let kurt0 = match class.symmetry_class {
+            SymmetryClass::Orthogonal => 3.0,
+            SymmetryClass::Unitary => 2.0,
+        };
+        let m2 = m2_of(&low);
+        let gamma = gamma_of(&low);
+        let gamma_f = gamma_f_of(&low);
+        let kurt = (low[3] / low[0]) / (m2 * m2) - kurt0;
+        let ratio = rf.residual_variance / m2;
+        let g = self.groups;
+        let (low_var_err, gamma_err, gamma_f_err, ratio_err) = if g >= 2 {
+            let ratio_k: Vec<f64> = (0..g)
+                .map(|k| rf.variance_without(k) / m2_of(&self.low.without(k)))
+                .collect();
+            (
+                self.low.stderr(m2_of),
+                self.low.stderr(gamma_of),
+                self.low.stderr(gamma_f_of),
+                residual::jackknife_stderr(&ratio_k),
+            )
+        } else {
+            (f64::NAN, f64::NAN, f64::NAN, f64::NAN)
+        };
         let bins = |v: &[Bin], edge: &dyn Fn(usize) -> f64| -> Vec<EnvelopeBin> {
             v.iter()
                 .enumerate()
                 .filter(|(_, b)| b.c > 0)
                 .map(|(k, b)| {
-                    let (mean_sq, mean_sq_stderr) = mean_err(b.s2, b.s4, b.c);
-                    let (f_sq, f_sq_stderr) = mean_err(b.sf, b.sff, b.c);
+                    let (mean_sq, naive_sq) = mean_err(b.s2, b.s4, b.c);
+                    let (f_sq, naive_f) = mean_err(b.sf, b.sff, b.c);
+                    let jack = |i: usize| b.jack.stderr(|s| s[i] / s[0]);
+                    let pick = |j: f64, naive: f64| if j.is_finite() { j } else { naive };
                     EnvelopeBin {
                         omega_lo: edge(k),
                         omega_hi: edge(k + 1),
                         omega: b.sw / b.c as f64,
                         mean_sq,
-                        mean_sq_stderr,
+                        mean_sq_stderr: pick(jack(1), naive_sq),
                         f_sq,
-                        f_sq_stderr,
+                        f_sq_stderr: pick(jack(2), naive_f),
                         count: b.c,
                     }
                 })
@@ -422,31 +456,35 @@ impl Accumulator {
         let (llo, lstep) = (self.log_lo, self.log_step);
         let envelope_log = bins(&self.log, &|k| llo * (lstep * k as f64).exp());
         let plateau = plateau(&envelope_log);
-        let real = field == Field::Real;
+        let sc = class.symmetry_class;
         Ok(OffdiagonalResult {
             name: self.name,
             window: self.window_label,
             window_states: [self.window.start, self.window.end],
             states: self.window.len(),
             field,
+            symmetry_class: sc,
+            class_source: class.class_source,
             mean_level_spacing: self.spacing,
             omega_max: self.omega_max,
             omega_max_rule: self.omega_rule,
-            pairs: self.n_low,
+            pairs: low[0] as usize,
             low_omega_variance: m2,
             low_omega_variance_stderr: low_var_err,
             gaussian_ratio: gamma,
             gaussian_ratio_stderr: gamma_err,
-            gaussian_ratio_expected: if real {
-                std::f64::consts::FRAC_PI_2
-            } else {
-                4.0 / std::f64::consts::PI
-            },
+            gaussian_ratio_expected: gaussian_gamma(sc),
+            gaussian_ratio_rescaled: gamma_f,
+            gaussian_ratio_rescaled_stderr: gamma_f_err,
             excess_kurtosis: kurt,
             fluct_variance,
+            residual_variance: rf.residual_variance,
+            residual_variance_stderr: rf.residual_variance_stderr,
             diag_offdiag_ratio: ratio,
             diag_offdiag_ratio_stderr: ratio_err,
-            diag_offdiag_ratio_expected: if real { 2.0 } else { 1.0 },
+            diag_offdiag_ratio_expected: eth_ratio(sc),
+            jackknife_groups: g,
+            jackknife_block_states: rf.jackknife_block_states,
             envelope,
             envelope_log,
             envelope_log_below: self.log_below,

@@ -18,7 +18,7 @@ use crate::analysis::diagonal::DiagonalResult;
 use crate::analysis::levels::LevelReport;
 use crate::analysis::offdiagonal::OffdiagonalResult;
 use crate::analysis::scaling::{block_bootstrap, default_block_length, DEFAULT_SEED, RESAMPLES};
-use crate::data::Field;
+use crate::data::{ClassInfo, Field};
 use crate::project::{PredictionStates, StageTiming};
 use serde::Serialize;
 
@@ -57,6 +57,9 @@ pub struct ObservableAnalysis {
     pub points: Vec<(f64, f64)>,
     /// Remarks (e.g. why the off-diagonal analysis was skipped).
     pub notes: Vec<String>,
+    /// The operator's support (attribute `observable_support`), when the file gives it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub support: Option<String>,
 }
 
 impl ObservableAnalysis {
@@ -114,6 +117,7 @@ impl ObservableAnalysis {
             low_omega_vanishes,
             points,
             notes,
+            support: None,
         }
     }
 }
@@ -137,6 +141,9 @@ pub struct SectorAnalysis {
     pub n_states: usize,
     /// Element type of the eigenvectors.
     pub field: Field,
+    /// Symmetry class and how it was decided (`symmetry_class`, `class_source`).
+    #[serde(flatten)]
+    pub class: ClassInfo,
     /// Level statistics.
     pub levels: LevelReport,
     /// One entry per observable.
@@ -195,6 +202,9 @@ pub struct SectorElements<T> {
     pub n_states: usize,
     /// Hilbert-space dimension, when eigenvectors are stored.
     pub dim: Option<usize>,
+    /// Symmetry class and how it was decided (`symmetry_class`, `class_source`).
+    #[serde(flatten)]
+    pub class: ClassInfo,
     /// States whose `Aₙₙ` fed the thermal predictions (`all` or `window`; `diagonal` only).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub prediction_states: Option<PredictionStates>,

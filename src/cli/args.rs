@@ -3,7 +3,9 @@
 
 use crate::analysis::offdiagonal::OffdiagonalOptions;
 use crate::analysis::quench::{self, state::StateSpec, TimeGrid};
+use crate::data::SymmetryClass;
 use crate::error::{Error, Result};
+use crate::pipeline::class::ClassChoice;
 use crate::pipeline::{Inputs, Layout, Overrides};
 use crate::project::Budget;
 use crate::window::{Window, WindowSpec};
@@ -218,5 +220,36 @@ impl DynamicsArgs {
             grid: TimeGrid::parse(&self.times)?,
             drop_weight: self.drop_weight,
         })
+    }
+}
+
+/// Symmetry class of the references.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct ClassArg {
+    /// Symmetry class of the reference ensembles: orthogonal (GOE), unitary (GUE), or auto
+    /// (the sector attribute symmetry_class, else decided from the data, never from the
+    /// storage type alone).
+    #[arg(
+        long = "class",
+        value_name = "orthogonal|unitary|auto",
+        default_value = "auto"
+    )]
+    pub class: String,
+}
+
+impl ClassArg {
+    /// The choice of class.
+    pub fn resolve(&self) -> Result<ClassChoice> {
+        if self.class.eq_ignore_ascii_case("auto") {
+            return Ok(ClassChoice::Auto);
+        }
+        SymmetryClass::parse(&self.class)
+            .map(ClassChoice::Given)
+            .ok_or_else(|| {
+                Error::usage(format!(
+                    "--class {}: expected orthogonal, unitary or auto",
+                    self.class
+                ))
+            })
     }
 }

@@ -47,6 +47,7 @@ pub fn demo_request(files: Vec<PathBuf>) -> Result<StudyRequest> {
                 window: WindowSpec::Fraction(Window::MATRIX_ELEMENTS),
                 offdiagonal: Default::default(),
                 budget,
+                class: Default::default(),
             },
             combine_sectors: false,
         },

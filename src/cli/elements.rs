@@ -1,7 +1,9 @@
 //! `eigentherm diagonal` and `eigentherm offdiagonal`: the flags of the matrix-element
 //! commands, resolved into an [`ElementsRequest`].
 
-use super::args::{InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs};
+use super::args::{
+    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs,
+};
 use super::output;
 use crate::error::{Error, Result};
 use crate::pipeline::elements::{self, ElementsRequest};
@@ -29,6 +31,9 @@ pub struct Common {
     /// Memory budget.
     #[command(flatten)]
     pub memory: MemoryArg,
+    /// Symmetry class.
+    #[command(flatten)]
+    pub class: ClassArg,
 }
 
 impl Common {
@@ -40,6 +45,7 @@ impl Common {
             window: self.window.resolve(Window::MATRIX_ELEMENTS)?,
             observables: self.observables.observables.clone(),
             budget: self.memory.resolve()?,
+            class: self.class.resolve()?,
         })
     }
 }

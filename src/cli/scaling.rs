@@ -1,6 +1,8 @@
 //! `eigentherm scaling`: finite-size scaling of the ETH figures across files and sectors.
 
-use super::args::{InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs};
+use super::args::{
+    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs,
+};
 use super::output;
 use crate::error::Result;
 use crate::pipeline::scaling::{scaling, ScalingRequest};
@@ -31,6 +33,9 @@ pub struct PipelineArgs {
     /// Memory budget.
     #[command(flatten)]
     pub memory: MemoryArg,
+    /// Symmetry class.
+    #[command(flatten)]
+    pub class: ClassArg,
     /// Merge the sectors of one size into one row (default: fit each sector name apart).
     #[arg(long)]
     pub combine_sectors: bool,
@@ -52,6 +57,7 @@ impl PipelineArgs {
                 window: self.window.resolve(Window::MATRIX_ELEMENTS)?,
                 offdiagonal: self.omega.resolve()?,
                 budget: self.memory.resolve()?,
+                class: self.class.resolve()?,
             },
             combine_sectors: self.combine_sectors,
         })

@@ -182,6 +182,7 @@ fn describe(
     let size = attr_count(file, group, &gobj, "size")?;
     let label = attr_string(file, group, &gobj, "label")?;
     let model = attr_string(file, group, &gobj, "model")?;
+    let symmetry_class = attr_string(file, group, &gobj, "symmetry_class")?;
 
     Ok(Sector {
         name: sector_name(group),
@@ -196,6 +197,7 @@ fn describe(
         size,
         label,
         model,
+        symmetry_class,
         energies_path: epath.to_string(),
         energies_element: eel,
         eigenvectors_path: vpath,
@@ -621,6 +623,7 @@ fn probe_dataset_operator(
         path: path.to_string(),
         element: el,
         shape,
+        support: attr_string(file, path, &ds, "observable_support")?,
     })
 }
 
@@ -698,5 +701,6 @@ fn probe_csr_operator(
         path: path.to_string(),
         element: el,
         shape,
+        support: attr_string(file, path, &g, "observable_support")?,
     })
 }

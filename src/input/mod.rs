@@ -121,6 +121,11 @@ pub struct ObservableInfo {
     pub element: Element,
     /// Shape (`[dim]`, `[dim, dim]`, `[n, n]`, or the `shape` attribute of a CSR group).
     pub shape: Vec<usize>,
+    /// Attribute `observable_support` (which sites or degrees of freedom the operator acts
+    /// on, e.g. `sites 5` or `sites 4,5`): operators with different supports are never
+    /// fitted together.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub support: Option<String>,
 }
 
 /// What the file says about one initial state, without reading it.
@@ -165,6 +170,9 @@ pub struct Sector {
     /// Attribute `model` (the model family, written by `eigentherm generate`), when present;
     /// `scaling` groups sectors by it.
     pub model: Option<String>,
+    /// Attribute `symmetry_class` (`orthogonal` or `unitary`), when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub symmetry_class: Option<String>,
     /// Full HDF5 path of the energies.
     pub energies_path: String,
     /// Element type of the energies as stored.

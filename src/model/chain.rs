@@ -349,6 +349,21 @@ pub fn build_chain_timed(spec: &ChainSpec) -> Result<Vec<(SectorData, std::time:
                 notes.push((format!("observables/{name}"), note.to_string()));
             }
         }
+        let osite = observable_site(spec);
+        let mirror = spec.sites + 1 - osite;
+        let support = match (
+            symmetrised && mirror != osite,
+            osite == spec.sites.div_ceil(2),
+        ) {
+            (false, true) => "centre site".to_string(),
+            (true, true) => "two centre sites (average)".to_string(),
+            (false, false) => format!("site {osite} of {}", spec.sites),
+            (true, false) => format!("sites {osite} and {mirror} of {} (average)", spec.sites),
+        };
+        let supports: Vec<(String, String)> = ["sz_site", "sx_site"]
+            .iter()
+            .map(|n| (format!("observables/{n}"), support.clone()))
+            .collect();
         let observables = vec![
             Observable {
                 name: "sz_site".into(),
@@ -412,6 +427,7 @@ pub fn build_chain_timed(spec: &ChainSpec) -> Result<Vec<(SectorData, std::time:
             typed_attributes: typed,
             embedding: Some(basis.embedding()),
             notes,
+            supports,
         };
         Ok((sector, clock.elapsed()))
     };

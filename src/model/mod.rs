@@ -67,6 +67,10 @@ pub struct SectorData {
     /// Attributes `note` on datasets of the sector, as (path relative to the sector group,
     /// e.g. `observables/sz_site`, note text).
     pub notes: Vec<(String, String)>,
+    /// Attributes `observable_support` on observables (path relative to the sector group,
+    /// support in words, e.g. `centre site` or `two centre sites`): `scaling` never fits
+    /// operators of different supports together.
+    pub supports: Vec<(String, String)>,
 }
 
 /// Spin-1/2 chain Hamiltonians (σ are Pauli matrices, sites 1..=L).

@@ -123,5 +123,6 @@ pub fn build_random(spec: &RandomSpec) -> Result<SectorData> {
         ],
         embedding: None,
         notes: Vec::new(),
+        supports: Vec::new(),
     })
 }

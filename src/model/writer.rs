@@ -229,6 +229,16 @@ fn write_sector(ctx: &Ctx, file: &hdf5::File, s: &SectorData) -> Result<()> {
             AttrValue::Text(t) => text_attr(ctx, &g, &gp, k, t)?,
         }
     }
+    for (rel, support) in &s.supports {
+        let p = here(rel);
+        if let Ok(ds) = g.dataset(rel) {
+            text_attr(ctx, &ds, &p, "observable_support", support)?;
+        } else if let Ok(sub) = g.group(rel) {
+            text_attr(ctx, &sub, &p, "observable_support", support)?;
+        } else {
+            return Err(ctx.err(&p, "a support refers to a dataset that was not written"));
+        }
+    }
     for (rel, note) in &s.notes {
         let p = here(rel);
         if !g.link_exists(rel) {

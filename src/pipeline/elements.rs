@@ -15,12 +15,13 @@
 //! streamed in one pass over the eigenvectors (block pairs under the budget) into one
 //! accumulator each; no `W × W` matrix is kept.
 
+use super::class::{sector_class, ClassChoice};
 use super::operators::load_sector;
 use super::Inputs;
 use crate::analysis::diagonal::{self, DiagonalResult};
 use crate::analysis::offdiagonal::{Accumulator, OffdiagonalOptions, OffdiagonalResult};
 use crate::analysis::sector::{ElementsOutput, SectorElements, Timing};
-use crate::data::{ColumnSource, Operator, Spectrum};
+use crate::data::{ClassInfo, ColumnSource, Operator, Spectrum};
 use crate::error::{Context, Result};
 use crate::input::{EigenFile, Sector};
 use crate::project::{self, Budget, PredictionStates};
@@ -41,6 +42,8 @@ pub struct ElementsRequest {
     pub observables: Vec<String>,
     /// Memory and parallelism of the passes.
     pub budget: Budget,
+    /// How the symmetry class is chosen.
+    pub class: ClassChoice,
 }
 
 /// One open sector, handed by [`each_sector`] to a command's pass.
@@ -63,6 +66,8 @@ pub struct SectorWork<'a> {
     pub timing: Timing,
     /// States whose `Aₙₙ` fed the predictions (`diagonal` only).
     pub prediction_states: Option<PredictionStates>,
+    /// The sector's symmetry class.
+    pub class: ClassInfo,
 }
 
 impl SectorWork<'_> {
@@ -91,6 +96,8 @@ pub fn each_sector<T>(
             let spectrum = f.spectrum(s)?;
             let (ops, src) = load_sector(f, s, &req.observables, &spectrum, req.budget.bytes)?;
             let range = req.window.indices(&spectrum.energies);
+            let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
+            let class = sector_class(f, s, Some(src.as_ref()), &refs, req.class)?;
             let mut work = SectorWork {
                 file: f,
                 sector: s,
@@ -104,6 +111,7 @@ pub fn each_sector<T>(
                     ..Timing::default()
                 },
                 prediction_states: None,
+                class,
             };
             let observables = pass(&mut work)?;
             work.timing.total_seconds = t0.elapsed().as_secs_f64();
@@ -112,6 +120,7 @@ pub fn each_sector<T>(
                 name: s.name.clone(),
                 n_states: work.spectrum.len(),
                 dim: s.dim,
+                class: work.class,
                 prediction_states: work.prediction_states,
                 timing: work.timing,
                 observables,
@@ -174,6 +183,11 @@ pub fn offdiagonal(
 ) -> Result<ElementsOutput<OffdiagonalResult>> {
     each_sector(req, |w| {
         let (path, group) = (w.file.path().to_path_buf(), w.group().to_string());
+        let opts = OffdiagonalOptions {
+            class: Some(w.class.clone()),
+            ..opts.clone()
+        };
+        let opts = &opts;
         let mut accs = w
             .ops
             .iter()

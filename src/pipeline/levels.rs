@@ -1,17 +1,20 @@
 //! `eigentherm levels`: the ascending spectrum of every selected sector of every file, and
 //! its level statistics ([`crate::analysis::levels::analyze`]).
 
+use super::class::{sector_class, ClassChoice};
 use super::Inputs;
 use crate::analysis::levels::{self, LevelOptions, LevelsOutput, SectorLevels};
 use crate::error::{Context, Result};
 use crate::window::WindowSpec;
 
-/// The level statistics of every selected sector (`sector`: only this one) in the window.
+/// The level statistics of every selected sector (`sector`: only this one) in the window,
+/// with the symmetry class of each ([`super::class`]).
 pub fn levels(
     inputs: &Inputs,
     sector: Option<&str>,
     window: &WindowSpec,
     opts: &LevelOptions,
+    class: ClassChoice,
 ) -> Result<LevelsOutput> {
     let mut sectors = Vec::new();
     for file in inputs.open()? {
@@ -20,9 +23,17 @@ pub fn levels(
             let dataset = format!("{}/energies", s.group.trim_end_matches('/'));
             let report =
                 levels::analyze(&spectrum.energies, window, opts).at(file.path(), dataset)?;
+            let vectors = match s.dim {
+                Some(_) => Some(file.vectors(s, &spectrum)?),
+                None => None,
+            };
+            let src = vectors
+                .as_ref()
+                .map(|v| v as &dyn crate::data::ColumnSource);
             sectors.push(SectorLevels {
                 file: file.path().display().to_string(),
                 name: s.name.clone(),
+                class: sector_class(&file, s, src, &[], class)?,
                 report,
             });
         }

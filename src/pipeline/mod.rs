@@ -18,6 +18,7 @@
 //! `scaling` and `study`), [`scaling`], [`quench`] (a state split over the sectors of one
 //! file), [`study`], [`inspect`] and [`demo`].
 
+pub mod class;
 pub mod demo;
 pub mod elements;
 pub mod inspect;

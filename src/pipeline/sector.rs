@@ -10,6 +10,7 @@
 //! only the window is projected ([`project::auto_prediction_states`]) and the canonical
 //! prediction is left out.
 
+use super::class::{sector_class, ClassChoice};
 use super::operators::load_sector;
 use crate::analysis::diagonal;
 use crate::analysis::levels::{self, LevelOptions};
@@ -33,6 +34,8 @@ pub struct SectorSettings {
     pub offdiagonal: OffdiagonalOptions,
     /// Memory and parallelism of the passes.
     pub budget: Budget,
+    /// How the symmetry class is chosen.
+    pub class: ClassChoice,
 }
 
 /// Runs the whole pipeline on one sector for the observables `names` (all when empty).
@@ -55,6 +58,11 @@ pub fn analyze_sector(
         crate::input::validate::require_orthonormal(file, sector, src.as_ref())?;
     }
     let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
+    let class = sector_class(file, sector, Some(src.as_ref()), &refs, settings.class)?;
+    let off_opts = OffdiagonalOptions {
+        class: Some(class.clone()),
+        ..settings.offdiagonal.clone()
+    };
     let n = spectrum.len();
     let range = settings.window.indices(&spectrum.energies);
     let label = settings.window.label();
@@ -69,13 +77,7 @@ pub fn analyze_sector(
         .iter()
         .zip(notes.iter_mut())
         .map(|((name, _), note)| {
-            let a = Accumulator::new(
-                name,
-                &spectrum.energies,
-                range.clone(),
-                &label,
-                &settings.offdiagonal,
-            );
+            let a = Accumulator::new(name, &spectrum.energies, range.clone(), &label, &off_opts);
             a.map_err(|e| note.push(format!("off-diagonal analysis skipped: {e}")))
                 .ok()
         })
@@ -150,14 +152,14 @@ pub fn analyze_sector(
             .copied()
             .zip(d.iter().copied())
             .collect();
-        observables.push(ObservableAnalysis::new(
-            name,
-            diagonal,
-            offdiagonal,
-            window_values,
-            points,
-            note,
-        ));
+        let mut obs =
+            ObservableAnalysis::new(name, diagonal, offdiagonal, window_values, points, note);
+        obs.support = sector
+            .observables
+            .iter()
+            .find(|o| &o.name == name)
+            .and_then(|o| o.support.clone());
+        observables.push(obs);
     }
     let file_name = path.display().to_string();
     Ok(SectorAnalysis {
@@ -172,6 +174,7 @@ pub fn analyze_sector(
         dimension: sector.dim.unwrap_or(n),
         n_states: n,
         field: sector.field.unwrap_or(Field::Real),
+        class,
         levels,
         observables,
     })

@@ -168,6 +168,7 @@ fn verdict_class(v: Verdict) -> &'static str {
         Verdict::Thermalizes => "thermalizes",
         Verdict::DoesNotThermalize => "does_not_thermalize",
         Verdict::Inconclusive => "inconclusive",
+        Verdict::SymmetriesUnresolved => "inconclusive",
     }
 }
 

@@ -5,17 +5,19 @@
 //! (written by `eigentherm generate`; files without it form one family), by the sector
 //! name (kept apart by default; with `combine_sectors` the sectors of one size are merged
 //! into one row: figures averaged, errors combined as `√(Σσ²)/k`, dimension averaged), and
-//! by observable. Each family's figures are fitted to `figure ∝ D^(−α)` (and `∝ e^(−κL)`
+//! by observable and its support (the attribute `observable_support`, or, without it, the
+//! parity of the number of sites: a site observable of an even chain is not the operator of
+//! an odd one). Each family's figures are fitted to `figure ∝ D^(−α)` (and `∝ e^(−κL)`
 //! where sizes are known, [`super::fit`]) and judged by [`super::verdict::decide`].
 
 use super::fit::{fit_exponential, fit_power_law, ScalingFit};
 use super::resample::RESAMPLES;
 use super::verdict::{
-    decide, CanonicalDeviation, ExponentEvidence, RatioAtSize, RatioEvidence, Symmetry,
-    VerdictInputs, VerdictReport,
+    decide, CanonicalDeviation, ExponentEvidence, GammaAtSize, LocalExponent, RatioAtSize,
+    RatioEvidence, VerdictInputs, VerdictReport, MEAN_R_POISSON,
 };
 use crate::analysis::sector::{ObservableAnalysis, SectorAnalysis};
-use crate::data::Field;
+use crate::data::{Field, SymmetryClass};
 use crate::error::{Error, Result};
 use serde::Serialize;
 
@@ -54,7 +56,17 @@ pub struct Row {
     pub gaussian_ratio: f64,
     /// Its standard error.
     pub gaussian_ratio_stderr: f64,
-    /// `fluct_variance / low_omega_variance`.
+    /// Γ of the density-of-states rescaled elements (the verdict's Gaussianity figure).
+    pub gaussian_ratio_rescaled: f64,
+    /// Its standard error.
+    pub gaussian_ratio_rescaled_stderr: f64,
+    /// Variance of `Aₙₙ` about a local smooth fit in the window.
+    pub residual_variance: f64,
+    /// Its jackknife standard error.
+    pub residual_variance_stderr: f64,
+    /// Lag-1 autocorrelation of the residuals.
+    pub residual_lag1: f64,
+    /// `residual_variance / low_omega_variance`.
     pub diag_offdiag_ratio: f64,
     /// Its standard error.
     pub diag_offdiag_ratio_stderr: f64,
@@ -62,8 +74,14 @@ pub struct Row {
     pub canonical_rms_deviation: f64,
     /// Spread max Aₙₙ − min Aₙₙ over all states (scale of the canonical criterion).
     pub observable_spread: f64,
-    /// Element type (real: GOE references; complex: GUE references).
+    /// Element type of the eigenvectors (storage only: the references follow the class).
     pub field: Field,
+    /// Symmetry class of the references.
+    pub symmetry_class: SymmetryClass,
+    /// How the class was decided.
+    pub class_source: String,
+    /// Fraction of consecutive level pairs in the levels window that are degenerate.
+    pub degenerate_fraction: f64,
     /// True when all diagonal elements vanish by symmetry.
     pub diagonal_vanishes: bool,
 }
@@ -73,14 +91,19 @@ pub struct Row {
 pub struct FigureFit {
     /// Family key.
     pub family: String,
-    /// Figure name (`fluct_variance`, `diff_mean_abs`, `low_omega_variance`).
+    /// Figure name (`residual_variance`, `fluct_variance`, `diff_mean_abs`,
+    /// `low_omega_variance`).
     pub figure: String,
     /// α in figure ∝ D^(−α).
     pub alpha: f64,
     /// Standard error of α.
     pub alpha_stderr: f64,
+    /// Degrees of freedom of the power-law fit (points − 2).
+    pub dof: usize,
     /// Full power-law fit.
     pub power_law: ScalingFit,
+    /// Exponents between consecutive sizes.
+    pub local: Vec<LocalExponent>,
     /// κ in figure ∝ e^(−κL), when every row has a size.
     pub exponential: Option<ScalingFit>,
 }
@@ -135,10 +158,15 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Scali
     for fam in &families {
         let fr: Vec<&Row> = rows.iter().filter(|r| &r.family == fam).collect();
         let mut fluct_fit = None;
-        for figure in ["fluct_variance", "diff_mean_abs", "low_omega_variance"] {
+        for figure in [
+            "residual_variance",
+            "fluct_variance",
+            "diff_mean_abs",
+            "low_omega_variance",
+        ] {
             if let Some(fit) = fit_figure(fam, figure, &fr) {
-                if figure == "fluct_variance" {
-                    fluct_fit = Some(fit.power_law.clone());
+                if figure == "residual_variance" {
+                    fluct_fit = Some(fit.clone());
                 }
                 fits.push(fit);
             }
@@ -147,10 +175,12 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Scali
     }
     Ok(ScalingReport {
         method: format!(
-            "families = (model attribute, sector{}, observable); fits: weighted least squares of ln(figure) \
-             against ln D (and against L where sizes are known); fluctuation errors: moving-block bootstrap \
-             of consecutive differences, {RESAMPLES} resamples, fixed seed; off-diagonal errors: analytic \
-             standard errors over pairs",
+            "families = (model attribute, sector{}, observable, observable support or parity of L); fits: \
+             weighted least squares of ln(figure) against ln D (and against L where sizes are known), with \
+             points - 2 degrees of freedom (three sizes: one); errors: residual variance and every \
+             off-diagonal figure by a delete-a-group jackknife over the window's eigenstates (groups of \
+             consecutive states), fluct_variance and diff_mean_abs by a moving-block bootstrap of \
+             consecutive differences, {RESAMPLES} resamples, fixed seed",
             if combine_sectors { "s of one size combined" } else { " kept apart" }
         ),
         rows,
@@ -177,6 +207,9 @@ fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row
             )
         })
         .unwrap_or((nan, nan, nan, nan, nan, nan));
+    let (gf, gf_e) = off
+        .map(|x| (x.gaussian_ratio_rescaled, x.gaussian_ratio_rescaled_stderr))
+        .unwrap_or((nan, nan));
     let (r, r_e) = if o.low_omega_vanishes || o.diagonal_vanishes {
         (nan, nan)
     } else {
@@ -193,9 +226,15 @@ fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row
     } else {
         a.sector.clone()
     };
+    let support = match (&o.support, a.size) {
+        (Some(s), _) => format!(" | {s}"),
+        (None, Some(l)) if l % 2 == 0 => " | even L".to_string(),
+        (None, Some(_)) => " | odd L".to_string(),
+        (None, None) => String::new(),
+    };
     Row {
         family: format!(
-            "{} | {} | {}",
+            "{} | {} | {}{support}",
             a.model.clone().unwrap_or_else(|| "-".into()),
             sector_key,
             o.name
@@ -215,6 +254,11 @@ fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row
         low_omega_variance_stderr: lo_e,
         gaussian_ratio: g,
         gaussian_ratio_stderr: g_e,
+        gaussian_ratio_rescaled: gf,
+        gaussian_ratio_rescaled_stderr: gf_e,
+        residual_variance: d.residual_variance,
+        residual_variance_stderr: d.residual_variance_stderr,
+        residual_lag1: d.residual_lag1,
         diag_offdiag_ratio: r,
         diag_offdiag_ratio_stderr: r_e,
         canonical_rms_deviation: d
@@ -225,21 +269,55 @@ fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row
             .unwrap_or(nan),
         observable_spread: amax - amin,
         field: a.field,
+        symmetry_class: a.class.symmetry_class,
+        class_source: a.class.class_source.clone(),
+        degenerate_fraction: a.levels.degenerate_pairs as f64
+            / a.levels.states.saturating_sub(1).max(1) as f64,
         diagonal_vanishes: o.diagonal_vanishes,
     }
 }
 
+/// Fraction of degenerate consecutive level pairs above which a sector is taken not to be
+/// a single symmetry sector.
+pub const UNRESOLVED_DEGENERATE_FRACTION: f64 = 0.01;
+
+/// Why the rows' sectors are not single symmetry sectors, if they are not: many exact
+/// degeneracies, or ⟨r̃⟩ far below Poisson (levels of several sectors interleaved with
+/// exact coincidences), at any size.
+fn unresolved(fr: &[&Row]) -> Option<String> {
+    for r in fr {
+        if r.degenerate_fraction > UNRESOLVED_DEGENERATE_FRACTION {
+            return Some(format!(
+                "{:.1}% of the consecutive level pairs at D = {} are exactly degenerate (more than {}%): \
+                 the sector holds several symmetry sectors; resolve the symmetry that maps them onto each \
+                 other (a conserved magnetization S^z, spin flip, reflection or momentum) and analyze each \
+                 sector on its own",
+                100.0 * r.degenerate_fraction,
+                r.dimension,
+                100.0 * UNRESOLVED_DEGENERATE_FRACTION
+            ));
+        }
+        let margin = (5.0 * r.mean_r_stderr).max(0.05);
+        if r.mean_r < MEAN_R_POISSON - margin {
+            return Some(format!(
+                "<r> = {:.4} at D = {} lies below Poisson ({MEAN_R_POISSON:.4}) by more than {margin:.3}: \
+                 level coincidences of interleaved symmetry sectors; resolve the conserved quantities \
+                 (S^z, spin flip, reflection, momentum) before judging thermalization",
+                r.mean_r, r.dimension
+            ));
+        }
+    }
+    None
+}
+
 /// The verdict of one family from its rows (ascending dimension) and the fit of its
-/// fluctuation variance.
-fn family_verdict(fam: &str, fr: &[&Row], fluct_fit: Option<ScalingFit>) -> Result<FamilyVerdict> {
+/// residual variance.
+fn family_verdict(fam: &str, fr: &[&Row], fluct_fit: Option<FigureFit>) -> Result<FamilyVerdict> {
     let last = fr.last().ok_or_else(|| Error::other("empty family"))?;
-    let symmetry = match last.field {
-        Field::Real => Symmetry::Real,
-        Field::Complex => Symmetry::Complex,
-    };
     let vanishes = fr.iter().all(|r| r.diagonal_vanishes);
     let inputs = VerdictInputs {
-        symmetry,
+        symmetry: last.symmetry_class,
+        unresolved: unresolved(fr),
         mean_r: fr
             .iter()
             .map(|r| RatioAtSize {
@@ -251,7 +329,11 @@ fn family_verdict(fam: &str, fr: &[&Row], fluct_fit: Option<ScalingFit>) -> Resu
         fluctuation: if vanishes {
             None
         } else {
-            fluct_fit.map(|f| ExponentEvidence::variance(f.exponent, f.exponent_stderr))
+            fluct_fit.map(|f| ExponentEvidence {
+                dof: f.dof,
+                local: f.local.clone(),
+                ..ExponentEvidence::variance(f.alpha, f.alpha_stderr)
+            })
         },
         canonical: (last.canonical_rms_deviation.is_finite() && last.observable_spread > 0.0)
             .then_some(CanonicalDeviation {
@@ -264,6 +346,15 @@ fn family_verdict(fam: &str, fr: &[&Row], fluct_fit: Option<ScalingFit>) -> Resu
                 stderr: last.diag_offdiag_ratio_stderr,
             }
         }),
+        gaussianity: fr
+            .iter()
+            .filter(|r| r.gaussian_ratio_rescaled.is_finite())
+            .map(|r| GammaAtSize {
+                dimension: r.dimension,
+                gamma: r.gaussian_ratio_rescaled,
+                stderr: r.gaussian_ratio_rescaled_stderr,
+            })
+            .collect(),
     };
     let mut verdict = decide(&inputs);
     if vanishes {
@@ -283,6 +374,7 @@ fn family_verdict(fam: &str, fr: &[&Row], fluct_fit: Option<ScalingFit>) -> Resu
 /// than two usable (positive, finite) points.
 fn fit_figure(family: &str, figure: &str, rows: &[&Row]) -> Option<FigureFit> {
     let pick = |r: &Row| match figure {
+        "residual_variance" => (r.residual_variance, r.residual_variance_stderr),
         "fluct_variance" => (r.fluct_variance, r.fluct_variance_stderr),
         "diff_mean_abs" => (r.diff_mean_abs, r.diff_mean_abs_stderr),
         _ => (r.low_omega_variance, r.low_omega_variance_stderr),
@@ -316,13 +408,28 @@ fn fit_figure(family: &str, figure: &str, rows: &[&Row]) -> Option<FigureFit> {
     } else {
         None
     };
+    let local = dims
+        .windows(2)
+        .zip(ys.windows(2).zip(es.windows(2)))
+        .filter(|(d, _)| d[1] > d[0])
+        .map(|(d, (y, e))| {
+            let ld = (d[1] / d[0]).ln();
+            LocalExponent {
+                dimension: (d[0] * d[1]).sqrt(),
+                alpha: -(y[1] / y[0]).ln() / ld,
+                stderr: ((e[0] / y[0]).powi(2) + (e[1] / y[1]).powi(2)).sqrt() / ld,
+            }
+        })
+        .collect();
     Some(FigureFit {
         family: family.to_string(),
         figure: figure.to_string(),
         alpha: power_law.exponent,
         alpha_stderr: power_law.exponent_stderr,
+        dof: power_law.dof,
         power_law,
         exponential,
+        local,
     })
 }
 
@@ -360,6 +467,12 @@ fn combine(rows: Vec<Row>) -> Vec<Row> {
         r.low_omega_variance_stderr = comb(&|x| x.low_omega_variance_stderr);
         r.gaussian_ratio = avg(&|x| x.gaussian_ratio);
         r.gaussian_ratio_stderr = comb(&|x| x.gaussian_ratio_stderr);
+        r.gaussian_ratio_rescaled = avg(&|x| x.gaussian_ratio_rescaled);
+        r.gaussian_ratio_rescaled_stderr = comb(&|x| x.gaussian_ratio_rescaled_stderr);
+        r.residual_variance = avg(&|x| x.residual_variance);
+        r.residual_variance_stderr = comb(&|x| x.residual_variance_stderr);
+        r.residual_lag1 = avg(&|x| x.residual_lag1);
+        r.degenerate_fraction = g.iter().map(|x| x.degenerate_fraction).fold(0.0, f64::max);
         r.diag_offdiag_ratio = avg(&|x| x.diag_offdiag_ratio);
         r.diag_offdiag_ratio_stderr = comb(&|x| x.diag_offdiag_ratio_stderr);
         r.canonical_rms_deviation = avg(&|x| x.canonical_rms_deviation);

@@ -278,6 +278,7 @@ fn study_with_several_observables_matches_single_observable_runs() {
                     window: WindowSpec::Fraction(Window::MATRIX_ELEMENTS),
                     offdiagonal: Default::default(),
                     budget,
+                    class: Default::default(),
                 },
                 combine_sectors: false,
             },

@@ -1,7 +1,7 @@
 //! The HTML report: sections, inline SVG, provenance digests, atomic write.
 
 use eigentherm::analysis::scaling::{
-    decide, ExponentEvidence, RatioAtSize, RatioEvidence, Symmetry, VerdictInputs, MEAN_R_GOE,
+    decide, ExponentEvidence, RatioAtSize, RatioEvidence, VerdictInputs, MEAN_R_GOE,
     MEAN_R_POISSON, RULE,
 };
 use eigentherm::provenance::{sha256_file, shell_quote, Provenance};
@@ -54,7 +54,9 @@ fn demo_report(dir: &std::path::Path) -> Page {
     prov.add_input(&input).unwrap();
 
     let verdict = decide(&VerdictInputs {
-        symmetry: Symmetry::Real,
+        symmetry: eigentherm::data::SymmetryClass::Orthogonal,
+        unresolved: None,
+        gaussianity: Vec::new(),
         mean_r: vec![
             RatioAtSize {
                 dimension: 512.0,

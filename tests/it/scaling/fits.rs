@@ -2,9 +2,10 @@
 
 use eigentherm::analysis::scaling::{
     block_bootstrap, bootstrap, decide, default_block_length, fit_exponential, fit_power_law, mean,
-    CanonicalDeviation, ExponentEvidence, Outcome, RatioAtSize, RatioEvidence, Symmetry, Verdict,
-    VerdictInputs, DEFAULT_SEED, MEAN_R_GOE, MEAN_R_POISSON, RESAMPLES,
+    CanonicalDeviation, ExponentEvidence, GammaAtSize, LocalExponent, Outcome, RatioAtSize,
+    RatioEvidence, Verdict, VerdictInputs, DEFAULT_SEED, MEAN_R_GOE, MEAN_R_POISSON, RESAMPLES,
 };
+use eigentherm::data::SymmetryClass;
 use eigentherm::model::rmt::rng;
 use rand::Rng;
 use rand_distr::StandardNormal;
@@ -161,7 +162,8 @@ fn block_bootstrap_sees_correlations() {
 
 fn chaotic_inputs() -> VerdictInputs {
     VerdictInputs {
-        symmetry: Symmetry::Real,
+        symmetry: SymmetryClass::Orthogonal,
+        unresolved: None,
         mean_r: vec![
             RatioAtSize {
                 dimension: 256.0,
@@ -183,6 +185,18 @@ fn chaotic_inputs() -> VerdictInputs {
             ratio: 1.9,
             stderr: 0.1,
         }),
+        gaussianity: vec![
+            GammaAtSize {
+                dimension: 256.0,
+                gamma: 1.58,
+                stderr: 0.02,
+            },
+            GammaAtSize {
+                dimension: 4096.0,
+                gamma: 1.575,
+                stderr: 0.005,
+            },
+        ],
     }
 }
 
@@ -195,7 +209,7 @@ fn verdict_rule_cases() {
     assert_eq!(ok.verdict, Verdict::Thermalizes, "{:#?}", ok.reasons);
     assert!(ok.criteria.iter().all(|c| c.outcome == Outcome::Pass));
     assert!(ok.caveat.contains("Finite-size"));
-    assert_eq!(ok.reasons.len(), 4);
+    assert_eq!(ok.reasons.len(), 5);
 
     // Poisson levels and non-decaying fluctuations: does not thermalize.
     let mut integ = chaotic_inputs();
@@ -241,10 +255,162 @@ fn verdict_rule_cases() {
 
     // Complex systems compare with GUE and ratio 1.
     let mut complex = chaotic_inputs();
-    complex.symmetry = Symmetry::Complex;
+    complex.symmetry = SymmetryClass::Unitary;
     let v = decide(&complex);
     assert_eq!(v.criteria[0].outcome, Outcome::Unclear); // 0.530 is eta = 0.67 vs GUE
     assert_eq!(v.criteria[3].outcome, Outcome::Fail); // 1.9 vs 1
     let json = serde_json::to_value(&v).unwrap();
     assert_eq!(json["verdict"], "inconclusive");
+}
+
+/// The outcome of one named criterion of the verdict on `inputs`.
+fn outcome(inputs: &VerdictInputs, name: &str) -> Outcome {
+    decide(inputs)
+        .criteria
+        .iter()
+        .find(|c| c.name == name)
+        .unwrap_or_else(|| panic!("no criterion {name}"))
+        .outcome
+}
+
+#[test]
+fn fluctuation_criterion_at_its_thresholds() {
+    // The README's rule [F] (alpha0 = 1, Kim, Ikeda, Huse PRE 90, 052105 (2014), from
+    // memory): pass needs |alpha - 1| <= 2 sigma and alpha - 2 sigma >= 0.5, and the local
+    // exponents not falling; fail when alpha + 2 sigma < 0.5. Each case sits just inside or
+    // just outside one threshold (common practice, no source).
+    let with = |alpha: f64, sigma: f64| {
+        let mut i = chaotic_inputs();
+        i.fluctuation = Some(ExponentEvidence::variance(alpha, sigma));
+        i
+    };
+    // consistency with ETH within 2 sigma
+    assert_eq!(outcome(&with(0.91, 0.05), "fluctuations"), Outcome::Pass);
+    assert_eq!(outcome(&with(0.89, 0.05), "fluctuations"), Outcome::Unclear);
+    assert_eq!(decide(&with(0.91, 0.05)).verdict, Verdict::Thermalizes);
+    assert_eq!(decide(&with(0.89, 0.05)).verdict, Verdict::Inconclusive);
+    // the lower bound must clear the floor 0.5
+    assert_eq!(outcome(&with(0.91, 0.2), "fluctuations"), Outcome::Pass);
+    assert_eq!(outcome(&with(0.89, 0.2), "fluctuations"), Outcome::Unclear);
+    // an upper bound reaching the pass band is no longer enough: 0.25 +- 0.25 and the
+    // mixed-field even sector's 0.56(14) do not pass
+    assert_eq!(outcome(&with(0.25, 0.25), "fluctuations"), Outcome::Unclear);
+    assert_eq!(outcome(&with(0.56, 0.14), "fluctuations"), Outcome::Unclear);
+    // fail just below, unclear just above alpha + 2 sigma = 0.5
+    assert_eq!(outcome(&with(0.29, 0.1), "fluctuations"), Outcome::Fail);
+    assert_eq!(outcome(&with(0.31, 0.1), "fluctuations"), Outcome::Unclear);
+    // local exponents that fall with size make a consistent fit unclear
+    let mut falling = with(0.95, 0.05);
+    if let Some(f) = falling.fluctuation.as_mut() {
+        f.local = vec![
+            LocalExponent {
+                dimension: 300.0,
+                alpha: 1.1,
+                stderr: 0.05,
+            },
+            LocalExponent {
+                dimension: 3000.0,
+                alpha: 0.95,
+                stderr: 0.05,
+            },
+        ];
+    }
+    // 1.1 - 0.95 = 0.15 > 2 x sqrt(2) x 0.05 = 0.141
+    assert_eq!(outcome(&falling, "fluctuations"), Outcome::Unclear);
+    if let Some(f) = falling.fluctuation.as_mut() {
+        f.local[1].alpha = 0.97; // 0.13 < 0.141
+    }
+    assert_eq!(outcome(&falling, "fluctuations"), Outcome::Pass);
+}
+
+#[test]
+fn gaussianity_criterion_at_its_thresholds() {
+    // Gamma0 = pi/2 for real Gaussian elements (the half-normal moments, common practice):
+    // fail when more than 3 sigma and more than 5 % away at the largest size, or when the
+    // distance grows with size by more than 3 combined sigma (README rule [G])
+    let g0 = std::f64::consts::FRAC_PI_2;
+    // both sizes at the same Gamma
+    let with = |gamma: f64, sigma: f64| {
+        let mut i = chaotic_inputs();
+        for (k, d) in [256.0, 4096.0].into_iter().enumerate() {
+            i.gaussianity[k] = GammaAtSize {
+                dimension: d,
+                gamma,
+                stderr: sigma,
+            };
+        }
+        i
+    };
+    // 5 % at the largest size weakens (unclear), 10 % at any size fails
+    assert_eq!(
+        outcome(&with(g0 * 1.049, 0.001), "gaussianity"),
+        Outcome::Pass
+    );
+    assert_eq!(
+        outcome(&with(g0 * 1.051, 0.001), "gaussianity"),
+        Outcome::Unclear
+    );
+    assert_eq!(
+        decide(&with(g0 * 1.051, 0.001)).verdict,
+        Verdict::Thermalizes
+    );
+    assert_eq!(
+        outcome(&with(g0 * 1.099, 0.001), "gaussianity"),
+        Outcome::Unclear
+    );
+    assert_eq!(
+        outcome(&with(g0 * 1.101, 0.001), "gaussianity"),
+        Outcome::Fail
+    );
+    assert_eq!(
+        decide(&with(g0 * 1.101, 0.001)).verdict,
+        Verdict::Inconclusive
+    );
+    // at the smallest size alone
+    let mut small = with(g0, 0.001);
+    small.gaussianity[0].gamma = g0 * 1.101;
+    assert_eq!(outcome(&small, "gaussianity"), Outcome::Fail);
+    // 3 % away at the largest size, exact at the smallest: growing away by more than
+    // 3 x sqrt(2) x 0.002 = 0.0085 and beyond 2.5 %
+    let mut grown = with(g0 * 1.03, 0.002);
+    grown.gaussianity[0].gamma = g0;
+    assert_eq!(outcome(&grown, "gaussianity"), Outcome::Fail);
+    grown.gaussianity[0].gamma = g0 * 1.03 - 0.008; // grows by 0.008 < 0.0085
+    assert_eq!(outcome(&grown, "gaussianity"), Outcome::Pass);
+    // within 3 sigma: pass however far
+    assert_eq!(
+        outcome(&with(g0 + 0.14, 0.05), "gaussianity"),
+        Outcome::Pass
+    );
+    assert_eq!(
+        outcome(&with(g0 + 0.16, 0.05), "gaussianity"),
+        Outcome::Fail
+    );
+    // the near-integrable mixed-field chain's sigma^x at L = 11: 1.737(42), measured with
+    // this tool (g = 0.9045, h = 0.1, even sector)
+    let mut ni = with(1.632, 0.013);
+    ni.gaussianity[0] = GammaAtSize {
+        dimension: 1056.0,
+        gamma: 1.737,
+        stderr: 0.042,
+    };
+    let v = decide(&ni);
+    assert_eq!(v.criteria[4].outcome, Outcome::Fail);
+    assert_ne!(v.verdict, Verdict::Thermalizes);
+    // unitary class: Gamma0 = 4/pi, so a real system's pi/2 fails there
+    let mut u = with(g0, 0.001);
+    u.symmetry = SymmetryClass::Unitary;
+    assert_eq!(outcome(&u, "gaussianity"), Outcome::Fail);
+}
+
+#[test]
+fn unresolved_symmetries_stop_the_judgement() {
+    // a sector holding several symmetry sectors is invalid input (README rule [U])
+    let mut i = chaotic_inputs();
+    i.unresolved = Some("half of the level pairs are degenerate".into());
+    let v = decide(&i);
+    assert_eq!(v.verdict, Verdict::SymmetriesUnresolved);
+    assert_eq!(v.criteria.len(), 1);
+    let json = serde_json::to_value(&v).unwrap();
+    assert_eq!(json["verdict"], "symmetries unresolved");
 }
