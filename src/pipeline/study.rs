@@ -79,8 +79,8 @@ fn parameters(req: &StudyRequest) -> Vec<(String, String)> {
             ),
         ),
         (
-            "memory budget (bytes)".to_string(),
-            st.budget.bytes.to_string(),
+            "memory budget".to_string(),
+            crate::project::human_bytes(st.budget.bytes as f64),
         ),
         (
             "sectors".to_string(),

@@ -47,7 +47,13 @@ pub fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Name
 
 /// ⟨r̃⟩ against size with the three references.
 fn mean_r_figure(analyses: &[SectorAnalysis]) -> Named {
-    let mut fig = Figure::new("L (sites) or D when sizes are unknown", "⟨r̃⟩")
+    let x_title = if analyses.iter().all(|a| a.size.is_some()) {
+        "L (sites)"
+    } else {
+        "D (Hilbert-space dimension)"
+    };
+    let sized = analyses.iter().all(|a| a.size.is_some());
+    let mut fig = Figure::new(x_title, "⟨r̃⟩")
         .reference(MEAN_R_POISSON, "Poisson")
         .reference(MEAN_R_GOE, "GOE")
         .reference(MEAN_R_GUE, "GUE")
@@ -63,7 +69,11 @@ fn mean_r_figure(analyses: &[SectorAnalysis]) -> Named {
             .iter()
             .map(|a| {
                 (
-                    a.size.map(|s| s as f64).unwrap_or(a.dimension as f64),
+                    if sized {
+                        a.size.unwrap_or(0) as f64
+                    } else {
+                        a.dimension as f64
+                    },
                     a.levels.mean_r,
                     a.levels.mean_r_stderr,
                 )
@@ -216,27 +226,31 @@ fn fluctuation_figure(
     obs: &str,
     stem: &str,
 ) -> Option<Named> {
-    let pts: Vec<&&Row> = rows.iter().filter(|r| r.fluct_variance > 0.0).collect();
+    // no evidence when every diagonal element vanishes by symmetry: no figure, no fit
+    if rows.iter().all(|r| r.diagonal_vanishes) {
+        return None;
+    }
+    let pts: Vec<&&Row> = rows.iter().filter(|r| r.residual_variance > 0.0).collect();
     if pts.len() < 2 {
         return None;
     }
-    let mut fig = Figure::new("D (Hilbert-space dimension)", "fluctuation variance ½⟨ΔA²⟩")
+    let mut fig = Figure::new("D (Hilbert-space dimension)", "variance of Aₙₙ about A(E)")
         .axes(Axis::Log, Axis::Log)
         .series(
             Series::points(
                 "measured",
                 pts.iter()
-                    .map(|r| (r.dimension, r.fluct_variance))
+                    .map(|r| (r.dimension, r.residual_variance))
                     .collect(),
             )
-            .with_errors(pts.iter().map(|r| r.fluct_variance_stderr).collect())
+            .with_errors(pts.iter().map(|r| r.residual_variance_stderr).collect())
             .color(0),
         )
         .legend(Legend::UpperRight);
     if let Some(f) = scaling
         .fits
         .iter()
-        .find(|f| f.family == fam && f.figure == "fluct_variance")
+        .find(|f| f.family == fam && f.figure == "residual_variance")
     {
         let (d0, d1) = (pts[0].dimension, pts[pts.len() - 1].dimension);
         let line: Vec<(f64, f64)> = (0..=20)
@@ -244,7 +258,7 @@ fn fluctuation_figure(
             .map(|d| (d, f.power_law.predict(d)))
             .collect();
         fig = fig.series(
-            Series::line(format!("fit ∝ D^−{:.2}", f.alpha), line)
+            Series::line(format!("fit ∝ {}", power_of_d(-f.alpha)), line)
                 .style(Style::Dashed)
                 .color(1),
         );
@@ -252,8 +266,17 @@ fn fluctuation_figure(
     Some((
             format!("fluct_{stem}"),
             fig,
-            format!("Eigenstate-to-eigenstate fluctuation variance of {obs} against Hilbert-space dimension with the power-law fit (ETH expects ∝ D^−1; Kim, Ikeda, Huse 2014, from memory)."),
+            format!("Variance of the diagonal elements of {obs} about their smooth part A(E) (local linear fit; jackknife errors over states) against Hilbert-space dimension, with the weighted power-law fit (ETH expects ∝ D^−1; Kim, Ikeda, Huse 2014, from memory)."),
         ))
+}
+
+/// `D^−0.93` for the exponent `−0.93`, `D^+0.20` for `0.20` (one sign, never `D^−-x`).
+pub fn power_of_d(exponent: f64) -> String {
+    if exponent < 0.0 {
+        format!("D^−{:.2}", -exponent)
+    } else {
+        format!("D^+{exponent:.2}")
+    }
 }
 
 /// Legend label of one quench run: `L = size` (or `D = dimension`) and the file stem.
@@ -396,4 +419,16 @@ pub fn slug(s: &str) -> String {
         }
     }
     out.trim_matches('_').to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn exponents_carry_one_sign() {
+        // a fit exponent of −1.61 is D^−1.61, never D^−-1.61 (common practice, no source)
+        assert_eq!(power_of_d(-1.61), "D^−1.61");
+        assert_eq!(power_of_d(0.2), "D^+0.20");
+    }
 }

@@ -70,7 +70,7 @@ pub fn levels_table(sectors: &[SectorAnalysis]) -> Table {
             Cell::Value(l.ks_poisson),
             Cell::Value(l.ks_goe),
             Cell::Value(l.ks_gue),
-            Cell::from(format!("{:?}", l.nearest_ensemble)),
+            Cell::from(l.nearest_ensemble.to_string()),
             Cell::from(l.degenerate_pairs),
         ]);
     }
