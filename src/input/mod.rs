@@ -51,7 +51,10 @@
 //! # Checks
 //!
 //! Metadata (shapes, element types, attributes) is checked when a file is opened;
-//! values (NaN/Inf, Hermiticity, CSR indices) when they are read. The numerical
+//! values (NaN/Inf, Hermiticity, CSR indices) when they are read. Before any read, the
+//! bytes it will hold are computed from the declared shape and checked against the
+//! [`Limit`] ([`limit`]: the `--memory` budget of [`Overrides::memory`], never above the
+//! machine's memory), and a dataset whose values were never written is refused. The numerical
 //! checks of an eigenbasis (orthonormality, residuals) are in [`validate`]; the
 //! summary printed by `eigentherm inspect` is built by [`inspect`].
 //!
@@ -60,11 +63,13 @@
 mod discover;
 mod h5;
 pub mod inspect;
+pub mod limit;
 mod operators;
 pub mod validate;
 mod vectors;
 
 pub use h5::Element;
+pub use limit::Limit;
 pub use vectors::VectorReader;
 
 use crate::data::{Field, Operator, OperatorForm, Spectrum, Vector};
@@ -183,7 +188,8 @@ pub struct Sector {
     pub state_info: Vec<StateInfo>,
 }
 
-/// Dataset path overrides for files that follow another layout (from the command line).
+/// How to read files: dataset path overrides for files that follow another layout, and the
+/// memory limit of every read (from the command line).
 #[derive(Debug, Clone, Default)]
 pub struct Overrides {
     /// Path of the energies dataset: when given, this defines the single sector.
@@ -196,6 +202,9 @@ pub struct Overrides {
     pub observables: Vec<(String, String)>,
     /// Path of the Hamiltonian.
     pub hamiltonian: Option<String>,
+    /// Memory budget in bytes (`--memory`): no read sized by a file header may hold more
+    /// (see [`limit`]); `None`: the default budget, half of the machine's memory.
+    pub memory: Option<usize>,
 }
 
 /// An eigenbasis file opened read-only.
@@ -204,6 +213,8 @@ pub struct EigenFile {
     path: PathBuf,
     sectors: Vec<Sector>,
     h5: hdf5::File,
+    /// The most bytes one read may hold.
+    limit: Limit,
     /// Sectors whose "unsorted" warning was already printed.
     warned: Mutex<HashSet<String>>,
 }
@@ -269,12 +280,17 @@ impl EigenFile {
             path: path.to_path_buf(),
             sectors,
             h5,
+            limit: Limit::new(overrides.memory),
             warned: Mutex::new(HashSet::new()),
         })
     }
     /// The file's path.
     pub fn path(&self) -> &Path {
         &self.path
+    }
+    /// The memory limit of every read from this file.
+    pub fn limit(&self) -> &Limit {
+        &self.limit
     }
     /// All sectors, in a stable order (depth-first, names sorted).
     pub fn sectors(&self) -> &[Sector] {
@@ -329,12 +345,19 @@ impl EigenFile {
             .h5
             .dataset(p)
             .map_err(|e| h5::h5err(&self.path, p, "cannot open dataset", e))?;
+        // the values, the sorted copy and the permutation: 24 bytes per state
+        let shape = ds.shape();
+        let need = 24.0 * limit::elements(&shape);
+        let what = sector.energies_element.to_string();
+        self.limit
+            .check(&self.path, p, &shape, &what, need, "to read and sort")?;
+        h5::require_written(&self.path, p, &ds)?;
         let raw = h5::read_real(&self.path, p, &ds)?;
         Ok(Spectrum::from_unsorted(raw))
     }
     /// A reader of eigenvector columns in ascending-energy order, reading hyperslabs on demand.
     pub fn vectors(&self, sector: &Sector, spectrum: &Spectrum) -> Result<VectorReader> {
-        VectorReader::new(&self.path, &self.h5, sector, spectrum)
+        VectorReader::new(&self.path, &self.h5, sector, spectrum, &self.limit)
     }
     /// An observable by name (energy-basis operators come back in ascending-energy order);
     /// an unknown name is an error listing the known ones.
@@ -360,12 +383,14 @@ impl EigenFile {
         } else {
             None
         };
-        operators::read_operator(&self.path, &self.h5, info, order.as_deref())
+        operators::read_operator(&self.path, &self.h5, info, order.as_deref(), &self.limit)
     }
     /// The stored Hamiltonian, if any.
     pub fn hamiltonian(&self, sector: &Sector) -> Result<Option<Operator>> {
         match &sector.hamiltonian {
-            Some(info) => operators::read_operator(&self.path, &self.h5, info, None).map(Some),
+            Some(info) => {
+                operators::read_operator(&self.path, &self.h5, info, None, &self.limit).map(Some)
+            }
             None => Ok(None),
         }
     }
@@ -382,7 +407,7 @@ impl EigenFile {
         if discover::kind(&self.h5, &path).is_none() {
             return Ok(None);
         }
-        operators::read_embedding(&self.path, &self.h5, &path, sector.dim).map(Some)
+        operators::read_embedding(&self.path, &self.h5, &path, sector.dim, &self.limit).map(Some)
     }
     /// An initial state by name (`states/<name>`).
     pub fn state(&self, sector: &Sector, name: &str) -> Result<Vector> {
@@ -401,6 +426,6 @@ impl EigenFile {
                 },
             ));
         };
-        operators::read_vector(&self.path, &self.h5, &info.path, info.element)
+        operators::read_vector(&self.path, &self.h5, &info.path, info.element, &self.limit)
     }
 }

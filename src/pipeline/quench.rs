@@ -193,6 +193,16 @@ fn components<'a>(
             // No embedding, one sector: its basis is the full computational basis if dim = 2^L.
             let s = single(sectors, path, "a product state without sector embeddings")?;
             let dim = sector_dim(s, path)?;
+            let vpath = format!("{}/eigenvectors", s.group.trim_end_matches('/'));
+            let need = 16.0 * dim as f64;
+            file.limit().check(
+                path,
+                &vpath,
+                &[dim],
+                "complex128",
+                need,
+                "for the product state",
+            )?;
             let psi = state_vector(spec, dim).map_err(|e| {
                 e.at(
                     path,

@@ -2,5 +2,6 @@
 
 mod embedding;
 mod fixtures;
+mod limits;
 mod roundtrip;
 mod stream_file;
