@@ -7,7 +7,8 @@
 //!
 //! A **sector** is any group (the root group included) holding a dataset named
 //! `energies`. Sectors are found by a depth-first walk over all groups, member
-//! names sorted, so the order is stable (`/`, `/L10`, `/L10/even`, `/L10/odd`,
+//! names sorted, each group searched once (remembered by its address, so link cycles
+//! end; one warning lists the links skipped), so the order is stable (`/`, `/L10`, `/L10/even`, `/L10/odd`,
 //! `/L12`, ...). A sector's name is its group path without the leading `/`
 //! (`even`, `L12/odd`), or `/` for the root group. Inside a sector group:
 //!
@@ -186,6 +187,10 @@ pub struct Sector {
     pub hamiltonian: Option<ObservableInfo>,
     /// The initial states (type and path).
     pub state_info: Vec<StateInfo>,
+    /// Members reached through external links: `"PATH -> OTHER_FILE:/path"` (their data
+    /// are read, read-only, from that file).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub external: Vec<String>,
 }
 
 /// How to read files: dataset path overrides for files that follow another layout, and the
@@ -404,7 +409,7 @@ impl EigenFile {
     /// orthonormal columns (`PᵀP = 1`); any problem is a one-line error naming the group.
     pub fn embedding(&self, sector: &Sector) -> Result<Option<crate::data::Csr<f64>>> {
         let path = discover::join(&sector.group, "embedding");
-        if discover::kind(&self.h5, &path).is_none() {
+        if discover::kind(&self.path, &self.h5, &path)?.is_none() {
             return Ok(None);
         }
         operators::read_embedding(&self.path, &self.h5, &path, sector.dim, &self.limit).map(Some)

@@ -379,7 +379,7 @@ pub fn read_embedding(
             )
         })?;
     for part in ["data", "indices", "indptr"] {
-        if super::discover::kind(f, &join(path, part)) != Some(hdf5::LocationType::Dataset) {
+        if super::discover::kind(file, f, &join(path, part))? != Some(hdf5::LocationType::Dataset) {
             return Err(Error::dataset(
                 file,
                 join(path, part),

@@ -3,5 +3,6 @@
 mod embedding;
 mod fixtures;
 mod limits;
+mod links;
 mod roundtrip;
 mod stream_file;
