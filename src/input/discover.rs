@@ -777,6 +777,16 @@ fn probe_csr_operator(
     let dpath = join(path, "data");
     let data = open_ds(file, f, &dpath)?;
     let el = h5::element(file, &dpath, &data)?;
+    if data.ndim() != 1 {
+        return Err(Error::dataset(
+            file,
+            &dpath,
+            format!(
+                "expected a 1-D dataset of values, found shape {}",
+                format_shape(&data.shape())
+            ),
+        ));
+    }
     let nnz = data.size();
     let ipath = join(path, "indices");
     let idx = open_ds(file, f, &ipath)?;
@@ -794,7 +804,9 @@ fn probe_csr_operator(
     let ppath = join(path, "indptr");
     let ptr = open_ds(file, f, &ppath)?;
     h5::require_integer(file, &ppath, &ptr)?;
-    if ptr.size() != shape[0] + 1 || ptr.ndim() != 1 {
+    // shape[0] + 1 computed without overflow: a shape attribute of 2⁶⁴ − 1 rows cannot match
+    let rows_plus_one = shape[0].checked_add(1);
+    if Some(ptr.size()) != rows_plus_one || ptr.ndim() != 1 {
         return Err(Error::dataset(
             file,
             &ppath,
@@ -802,7 +814,7 @@ fn probe_csr_operator(
                 "shape {} does not match {} rows (expected [{}])",
                 format_shape(&ptr.shape()),
                 shape[0],
-                shape[0] + 1
+                rows_plus_one.map_or_else(|| format!("{} + 1", shape[0]), |r| r.to_string())
             ),
         ));
     }

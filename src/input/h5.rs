@@ -341,20 +341,43 @@ pub fn require_integer(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<()
     }
 }
 
-/// Reads a whole integer dataset as non-negative indices.
+/// Reads a whole integer dataset as non-negative indices. Unsigned data are read as
+/// `u64` and signed data as `i64`, so that every value is reported as stored (HDF5 would
+/// clip a `uint64` above 2⁶³ − 1 when converting it to `int64`).
 pub fn read_indices(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<Vec<usize>> {
-    require_integer(file, path, ds)?;
-    let v = ds
-        .read_raw::<i64>()
-        .map_err(|e| h5err(file, path, "cannot read", e))?;
-    v.into_iter()
-        .enumerate()
-        .map(|(i, x)| {
-            usize::try_from(x).map_err(|_| {
-                Error::dataset(file, path, format!("negative index {x} at position {i}"))
-            })
-        })
-        .collect()
+    let desc = ds
+        .dtype()
+        .and_then(|t| t.to_descriptor())
+        .map_err(|e| h5err(file, path, "unreadable element type", e))?;
+    let read = |e: hdf5::Error| h5err(file, path, "cannot read", e);
+    let bad = |i: usize, x: String| {
+        Error::dataset(
+            file,
+            path,
+            format!("index {x} at position {i} is not a valid index (negative or beyond this machine's range)"),
+        )
+    };
+    match desc {
+        TypeDescriptor::Unsigned(_) => ds
+            .read_raw::<u64>()
+            .map_err(read)?
+            .into_iter()
+            .enumerate()
+            .map(|(i, x)| usize::try_from(x).map_err(|_| bad(i, x.to_string())))
+            .collect(),
+        TypeDescriptor::Integer(_) => ds
+            .read_raw::<i64>()
+            .map_err(read)?
+            .into_iter()
+            .enumerate()
+            .map(|(i, x)| usize::try_from(x).map_err(|_| bad(i, x.to_string())))
+            .collect(),
+        other => Err(Error::dataset(
+            file,
+            path,
+            format!("found {}; integers are needed", describe(&other)),
+        )),
+    }
 }
 
 /// First non-finite entry of a real slice, as (index, value).

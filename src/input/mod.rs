@@ -74,7 +74,7 @@ pub use limit::Limit;
 pub use vectors::VectorReader;
 
 use crate::data::{Field, Operator, OperatorForm, Spectrum, Vector};
-use crate::error::{Error, Result};
+use crate::error::{escape, Error, Result};
 use serde::Serialize;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
@@ -224,6 +224,11 @@ pub struct EigenFile {
     warned: Mutex<HashSet<String>>,
 }
 
+/// Names joined by `", "`, each with its control characters escaped.
+fn names<'a>(it: impl Iterator<Item = &'a str>) -> String {
+    it.map(escape).collect::<Vec<_>>().join(", ")
+}
+
 /// Opens `path` read-only with HDF5's own error printing silenced.
 fn open_h5(path: &Path) -> Result<hdf5::File> {
     hdf5::silence_errors(true);
@@ -314,12 +319,9 @@ impl EigenFile {
             None => Err(Error::file(
                 &self.path,
                 format!(
-                    "no sector named '{name}'; sectors: {}",
-                    self.sectors
-                        .iter()
-                        .map(|s| s.name.as_str())
-                        .collect::<Vec<_>>()
-                        .join(", ")
+                    "no sector named '{}'; sectors: {}",
+                    escape(name),
+                    names(self.sectors.iter().map(|s| s.name.as_str()))
                 ),
             )),
         }
@@ -368,17 +370,17 @@ impl EigenFile {
     /// an unknown name is an error listing the known ones.
     pub fn observable(&self, sector: &Sector, name: &str) -> Result<Operator> {
         let Some(info) = sector.observables.iter().find(|o| o.name == name) else {
-            let known: Vec<&str> = sector.observables.iter().map(|o| o.name.as_str()).collect();
             let where_ = discover::join(&sector.group, "observables");
+            let name = escape(name);
             return Err(Error::dataset(
                 &self.path,
                 where_,
-                if known.is_empty() {
+                if sector.observables.is_empty() {
                     format!("no observable named '{name}': the sector has no observables")
                 } else {
                     format!(
                         "no observable named '{name}'; observables: {}",
-                        known.join(", ")
+                        names(sector.observables.iter().map(|o| o.name.as_str()))
                     )
                 },
             ));
@@ -418,6 +420,7 @@ impl EigenFile {
     pub fn state(&self, sector: &Sector, name: &str) -> Result<Vector> {
         let Some(info) = sector.state_info.iter().find(|s| s.name == name) else {
             let where_ = discover::join(&sector.group, "states");
+            let name = escape(name);
             return Err(Error::dataset(
                 &self.path,
                 where_,
@@ -426,7 +429,7 @@ impl EigenFile {
                 } else {
                     format!(
                         "no state named '{name}'; states: {}",
-                        sector.states.join(", ")
+                        names(sector.states.iter().map(String::as_str))
                     )
                 },
             ));

@@ -452,33 +452,34 @@ pub fn read_embedding(
             format!("found {el}; an embedding must be real"),
         ));
     }
-    let data = h5::read_real(file, &dpath, &dds)?;
+    // the declared lengths of indices and indptr are checked before anything is read
     let ipath = join(path, "indices");
-    let indices = h5::read_indices(file, &ipath, &open(file, f, &ipath)?)?;
     let ppath = join(path, "indptr");
-    let indptr = h5::read_indices(file, &ppath, &open(file, f, &ppath)?)?;
-    if indices.len() != data.len() {
+    let (ids, pds) = (open_meta(file, f, &ipath)?, open_meta(file, f, &ppath)?);
+    if ids.size() != dds.size() || ids.ndim() != 1 {
         return Err(Error::dataset(
             file,
             &ipath,
             format!(
-                "holds {} entries but data holds {}",
-                indices.len(),
-                data.len()
+                "shape {} does not match {} values in data",
+                h5::format_shape(&ids.shape()),
+                dds.size()
             ),
         ));
     }
-    if indptr.len() != full_dim + 1 {
+    if Some(pds.size()) != full_dim.checked_add(1) || pds.ndim() != 1 {
         return Err(Error::dataset(
             file,
             &ppath,
             format!(
-                "holds {} entries, expected full_dim + 1 = {}",
-                indptr.len(),
-                full_dim + 1
+                "shape {} does not match full_dim + 1 = {full_dim} + 1 entries",
+                h5::format_shape(&pds.shape()),
             ),
         ));
     }
+    let data = h5::read_real(file, &dpath, &dds)?;
+    let indices = h5::read_indices(file, &ipath, &open(file, f, &ipath)?)?;
+    let indptr = h5::read_indices(file, &ppath, &open(file, f, &ppath)?)?;
     let csr = Csr {
         nrows: full_dim,
         ncols,

@@ -16,7 +16,7 @@ use crate::analysis::quench::{
     self, state::StateSpec, QuenchOptions, QuenchReport, SectorPart, TimeGrid,
 };
 use crate::data::{c64, Csr};
-use crate::error::{Error, Result};
+use crate::error::{escape, Error, Result};
 use crate::input::{EigenFile, Overrides, Sector};
 use std::path::Path;
 
@@ -155,7 +155,9 @@ fn components<'a>(
                             if s.states.is_empty() {
                                 "none".to_string()
                             } else {
-                                s.states.join(", ")
+                                let known: Vec<String> =
+                                    s.states.iter().map(|n| escape(n)).collect();
+                                known.join(", ")
                             }
                         ),
                     ));
@@ -209,12 +211,12 @@ fn components<'a>(
                     format!("{}/eigenvectors", s.group.trim_end_matches('/')),
                 )
             })?;
-            eprintln!(
-                "note: {}: sector '{}' has no embedding; taking its basis as the full σᶻ basis of {} sites",
+            crate::progress::note(&format!(
+                "{}: sector '{}' has no embedding; taking its basis as the full σᶻ basis of {} sites",
                 path.display(),
                 s.name,
                 dim.trailing_zeros()
-            );
+            ));
             Ok(vec![(s, psi)])
         }
     }
@@ -229,7 +231,7 @@ fn single<'a>(sectors: &[&'a Sector], path: &Path, what: &str) -> Result<&'a Sec
                 "{what} needs one sector: choose it with --sector (known: {})",
                 sectors
                     .iter()
-                    .map(|s| s.name.as_str())
+                    .map(|s| escape(&s.name))
                     .collect::<Vec<_>>()
                     .join(", ")
             ),
@@ -363,12 +365,12 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
             });
         }
         if let Some(cap) = captured.filter(|&c| c < 1.0 - 1e-6) {
-            eprintln!(
-                "warning: {}: sector '{}': the stored eigenstates hold only {:.6} of the state's weight (partial eigenbasis); the analysis uses the normalised projection",
+            crate::progress::warn(&format!(
+                "{}: sector '{}': the stored eigenstates hold only {:.6} of the state's weight (partial eigenbasis); the analysis uses the normalised projection",
                 path.display(),
                 s.name,
                 cap
-            );
+            ));
         }
         spectra.push(spectrum.energies);
     }

@@ -4,5 +4,6 @@ mod embedding;
 mod fixtures;
 mod limits;
 mod links;
+mod names;
 mod roundtrip;
 mod stream_file;
