@@ -17,7 +17,7 @@ use std::path::{Path, PathBuf};
 #[derive(Debug, thiserror::Error)]
 pub enum Error {
     /// A problem with a whole file (missing, not HDF5, no sector found, ...).
-    #[error("{}: {problem}", file.display())]
+    #[error("{}: {problem}", escape_path(file))]
     File {
         /// The file concerned.
         file: PathBuf,
@@ -25,7 +25,7 @@ pub enum Error {
         problem: String,
     },
     /// A problem with one dataset or group inside a file.
-    #[error("{}: {dataset}: {problem}", file.display())]
+    #[error("{}: {}: {problem}", escape_path(file), escape(dataset))]
     Dataset {
         /// The file concerned.
         file: PathBuf,
@@ -38,7 +38,7 @@ pub enum Error {
     #[error("{0}")]
     Usage(String),
     /// An input/output error while writing results.
-    #[error("{}: {source}", path.display())]
+    #[error("{}: {}", escape_path(path), escape(&source.to_string()))]
     Io {
         /// The path being written or read.
         path: PathBuf,
@@ -48,7 +48,7 @@ pub enum Error {
     },
     /// An analysis that cannot be carried out on one dataset (too few states, a singular
     /// fit, ...): an [`Error::Other`] given its file and dataset by [`Error::at`].
-    #[error("{}: {dataset}: {problem}", file.display())]
+    #[error("{}: {}: {problem}", escape_path(file), escape(dataset))]
     Analysis {
         /// The file concerned.
         file: PathBuf,
@@ -146,9 +146,10 @@ impl<T> Context<T> for Result<T> {
     }
 }
 
-/// Folds a possibly multi-line message (HDF5 error stacks are) into one line.
+/// Folds a possibly multi-line message (HDF5 error stacks are) into one line, and shows
+/// any other control character as an escape.
 fn one_line(s: String) -> String {
-    if s.contains('\n') {
+    let s = if s.contains('\n') {
         s.split('\n')
             .map(str::trim)
             .filter(|l| !l.is_empty())
@@ -156,8 +157,47 @@ fn one_line(s: String) -> String {
             .join("; ")
     } else {
         s
+    };
+    escape(&s)
+}
+
+/// A name or message with its control characters shown as escapes (`\n`, `\t`, `\r`,
+/// `\u{1b}`, ...), so that a name read from a file or the command line can never break a
+/// one-line error or warning. Other characters are kept as they are.
+pub fn escape(s: &str) -> String {
+    if !s.chars().any(char::is_control) {
+        return s.to_string();
     }
+    s.chars()
+        .map(|c| {
+            if c.is_control() {
+                c.escape_default().to_string()
+            } else {
+                c.to_string()
+            }
+        })
+        .collect()
+}
+
+/// [`escape`] of a path as displayed.
+pub fn escape_path(p: &Path) -> String {
+    escape(&p.display().to_string())
 }
 
 /// Result alias of the library.
 pub type Result<T, E = Error> = std::result::Result<T, E>;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn names_with_control_characters_stay_on_one_line() {
+        // our own convention (common practice, no source): Rust's escape_default spelling
+        let e = Error::dataset("a\nb.h5", "/x\ny\t", "bad \u{1b}[31m value");
+        assert_eq!(e.to_string(), "a\\nb.h5: /x\\ny\\t: bad \\u{1b}[31m value");
+        assert_eq!(escape("plain é"), "plain é");
+        // HDF5 error stacks are folded, not escaped
+        assert_eq!(Error::other("one\n  two\n").to_string(), "one; two");
+    }
+}

@@ -24,6 +24,7 @@ pub mod data;
 pub mod error;
 pub mod input;
 pub mod linalg;
+pub mod memory;
 pub mod model;
 pub mod pipeline;
 pub mod progress;

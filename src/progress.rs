@@ -30,7 +30,13 @@ fn draw_target() -> ProgressDrawTarget {
     }
 }
 
-/// Prints a warning line on stderr (`warning: ...`).
+/// Prints a warning line on stderr (`warning: ...`), control characters escaped so that it
+/// stays one line.
 pub fn warn(msg: &str) {
-    eprintln!("warning: {msg}");
+    eprintln!("warning: {}", crate::error::escape(msg));
+}
+
+/// Prints a note line on stderr (`note: ...`), control characters escaped.
+pub fn note(msg: &str) {
+    eprintln!("note: {}", crate::error::escape(msg));
 }

@@ -23,12 +23,19 @@ pub struct InputArgs {
 }
 
 impl InputArgs {
-    /// The files and their overrides.
+    /// The files and their overrides; reads are limited by the default budget.
     pub fn resolve(&self) -> Result<Inputs> {
         Ok(Inputs {
             files: self.files.clone(),
             overrides: self.paths.resolve()?,
         })
+    }
+
+    /// The files and their overrides, every read limited by the `--memory` budget.
+    pub fn resolve_within(&self, memory: &MemoryArg) -> Result<Inputs> {
+        let mut inputs = self.resolve()?;
+        inputs.overrides.memory = Some(memory.resolve()?.bytes);
+        Ok(inputs)
     }
 }
 
@@ -75,6 +82,7 @@ impl PathArgs {
             layout,
             observables,
             hamiltonian: self.hamiltonian_path.clone(),
+            memory: None,
         })
     }
 }
@@ -140,7 +148,7 @@ impl ObservableArgs {
 /// Working-memory budget of every pass over the eigenvectors.
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct MemoryArg {
-    /// Working-memory budget of the passes over the eigenvectors, e.g. 6G or 512M (default: half the machine's memory).
+    /// Working-memory budget of the passes over the eigenvectors and of any one read from a file, e.g. 6G or 512M (default: half the machine's memory).
     #[arg(long, value_name = "SIZE")]
     pub memory: Option<String>,
 }

@@ -40,7 +40,7 @@ impl Common {
     /// The request of the pipeline.
     pub fn resolve(&self) -> Result<ElementsRequest> {
         Ok(ElementsRequest {
-            inputs: self.input.resolve()?,
+            inputs: self.input.resolve_within(&self.memory)?,
             sector: self.sector.sector.clone(),
             window: self.window.resolve(Window::MATRIX_ELEMENTS)?,
             observables: self.observables.observables.clone(),

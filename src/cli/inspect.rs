@@ -2,7 +2,7 @@
 //! `--verify`, checks the eigenbasis. A failed check ends with an error (non-zero exit)
 //! after the summary has been printed.
 
-use super::args::{InputArgs, JsonArg, SectorArg};
+use super::args::{InputArgs, JsonArg, MemoryArg, SectorArg};
 use super::output;
 use crate::error::Result;
 use crate::pipeline::inspect::{first_failure, inspect_files};
@@ -22,12 +22,15 @@ pub struct Args {
     /// Output format.
     #[command(flatten)]
     pub json: JsonArg,
+    /// Memory budget (no read sized by a file header may hold more).
+    #[command(flatten)]
+    pub memory: MemoryArg,
 }
 
 /// Runs `eigentherm inspect`.
 pub fn run(args: &Args) -> Result<()> {
     let reports = inspect_files(
-        &args.input.resolve()?,
+        &args.input.resolve_within(&args.memory)?,
         args.sector.sector.as_deref(),
         args.verify,
     )?;

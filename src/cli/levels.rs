@@ -1,6 +1,6 @@
 //! `eigentherm levels`: level statistics of every selected sector of every file.
 
-use super::args::{ClassArg, InputArgs, JsonArg, SectorArg, WindowArgs};
+use super::args::{ClassArg, InputArgs, JsonArg, MemoryArg, SectorArg, WindowArgs};
 use super::output;
 use crate::analysis::levels::{LevelOptions, UnfoldMethod};
 use crate::error::{Error, Result};
@@ -24,6 +24,9 @@ pub struct Args {
     /// Symmetry class.
     #[command(flatten)]
     pub class: ClassArg,
+    /// Memory budget (no read sized by a file header may hold more).
+    #[command(flatten)]
+    pub memory: MemoryArg,
     /// Unfolding: `poly:D` (least-squares polynomial of degree D fitted to the staircase N(E);
     /// the default, D = 5), `kernel:K` (Gaussian-broadened density of states with widths of K
     /// local mean spacings; `kernel` alone means K = 32) or `kernel-energy:SIGMA` (fixed width
@@ -93,7 +96,7 @@ impl Args {
 pub fn run(args: &Args) -> Result<()> {
     let opts = args.options()?;
     let window = args.window.resolve(Window::LEVELS)?;
-    let inputs = args.input.resolve()?;
+    let inputs = args.input.resolve_within(&args.memory)?;
     let out = crate::pipeline::levels::levels(
         &inputs,
         args.sector.sector.as_deref(),

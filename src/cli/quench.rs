@@ -47,7 +47,7 @@ impl Args {
             }
         }
         Ok(QuenchRequest {
-            inputs: self.input.resolve()?,
+            inputs: self.input.resolve_within(&self.memory)?,
             sector: self.sector.sector.clone(),
             observables: self.observables.required()?,
             states: dynamics.states,

@@ -49,7 +49,7 @@ impl PipelineArgs {
             None => WindowSpec::Fraction(Window::LEVELS),
         };
         Ok(ScalingRequest {
-            inputs: self.input.resolve()?,
+            inputs: self.input.resolve_within(&self.memory)?,
             sector: self.sector.sector.clone(),
             observables: self.observables.required()?,
             settings: SectorSettings {

@@ -9,9 +9,10 @@ use super::{Layout, ObservableInfo, Overrides, Sector, StateInfo};
 use crate::data::{Field, OperatorForm};
 use crate::error::{Error, Result};
 use hdf5::LocationType;
+use std::collections::HashMap;
 use std::path::Path;
 
-/// Deepest group nesting followed (guards against cycles through soft links).
+/// Deepest group nesting followed.
 const MAX_DEPTH: usize = 32;
 
 /// Joins a group path and a member name (`"/" + "a"` → `"/a"`, `"/a" + "b"` → `"/a/b"`).
@@ -33,27 +34,63 @@ pub fn resolve(group: &str, path: &str) -> String {
     }
 }
 
-/// The type of the object at `path`, or `None` when nothing (readable) is there.
-pub fn kind(f: &hdf5::File, path: &str) -> Option<LocationType> {
+/// The type of the object at `path`; `Ok(None)` when no link of the path exists. A link
+/// that exists but cannot be followed (a dangling soft link, an external link to a missing
+/// file, a non-HDF5 file or a missing object) is an error naming that link: it never reads
+/// as "not stored".
+pub fn kind(file: &Path, f: &hdf5::File, path: &str) -> Result<Option<LocationType>> {
     if path == "/" {
-        return Some(LocationType::Group);
+        return Ok(Some(LocationType::Group));
     }
-    // Check every link along the path first: opening through a missing group is an
-    // HDF5 error we do not want to provoke.
+    // Follow the path link by link: opening through a missing group is an HDF5 error we do
+    // not want to provoke, and a broken link must be named as such.
     let mut at = String::new();
+    let mut found = None;
     for part in path.trim_start_matches('/').split('/') {
         let parent = if at.is_empty() {
             "/".to_string()
         } else {
             at.clone()
         };
-        let g = f.group(&parent).ok()?;
+        if found.is_some_and(|t| t != LocationType::Group) {
+            return Ok(None);
+        }
+        let g = f
+            .group(&parent)
+            .map_err(|e| h5::h5err(file, &parent, "cannot open group", e))?;
         if !g.link_exists(part) {
-            return None;
+            return Ok(None);
         }
         at = join(&parent, part);
+        match f.loc_type_by_name(&at) {
+            Ok(t) => found = Some(t),
+            Err(_) => return Err(Error::dataset(file, &at, broken_link(&g, part))),
+        }
     }
-    f.loc_type_by_name(path).ok()
+    Ok(found)
+}
+
+/// What is wrong with the link `name` of `g`, which exists but cannot be followed.
+fn broken_link(g: &hdf5::Group, name: &str) -> String {
+    use hdf5::{IndexType, IterationOrder, LinkType};
+    let ty = g
+        .links(IndexType::Name, IterationOrder::Native)
+        .ok()
+        .and_then(|l| l.into_iter().find(|(n, _)| n == name))
+        .map(|(_, info)| info.link_type);
+    match ty {
+        Some(LinkType::Soft) => "dangling soft link: its target does not exist".into(),
+        Some(LinkType::External) => "external link whose target cannot be opened (a missing file, not an HDF5 file, or no such object in it)".into(),
+        _ => "link that cannot be followed".into(),
+    }
+}
+
+/// Where the data of `ds` live when that is another file than `f` (the dataset was
+/// reached through an external link): `"OTHER_FILE:/path"`.
+pub fn external_origin(f: &hdf5::File, ds: &hdf5::Dataset) -> Option<String> {
+    let here = f.filename();
+    let there = ds.filename();
+    (there != here).then(|| format!("{there}:{}", ds.name()))
 }
 
 /// Sector name of a group path: without the leading `/`, or `"/"` for the root.
@@ -70,7 +107,7 @@ pub fn sector_name(group: &str) -> String {
 pub fn discover(file: &Path, f: &hdf5::File, ov: &Overrides) -> Result<Vec<Sector>> {
     if let Some(e) = &ov.energies {
         let epath = resolve("/", e);
-        if kind(f, &epath) != Some(LocationType::Dataset) {
+        if kind(file, f, &epath)? != Some(LocationType::Dataset) {
             return Err(Error::dataset(
                 file,
                 &epath,
@@ -84,7 +121,10 @@ pub fn discover(file: &Path, f: &hdf5::File, ov: &Overrides) -> Result<Vec<Secto
         return Ok(vec![describe(file, f, &group, &epath, ov)?]);
     }
     let mut groups = Vec::new();
-    walk(file, f, "/", 0, &mut groups)?;
+    let mut visited = Visited::default();
+    visited.first(f, "/");
+    walk(file, f, "/", 0, &mut visited, &mut groups)?;
+    visited.warn(file);
     if groups.is_empty() {
         return Err(Error::file(
             file,
@@ -106,11 +146,56 @@ const SECTOR_MEMBERS: [&str; 5] = [
     "hamiltonian",
 ];
 
+/// Groups already walked, by object address, so that link cycles and second names of one
+/// group are walked once; the links skipped for that reason, as (link, first path).
+#[derive(Default)]
+struct Visited {
+    seen: HashMap<(u64, String), String>,
+    skipped: Vec<(String, String)>,
+}
+
+impl Visited {
+    /// True the first time the group at `path` is seen (by its address in its file).
+    fn first(&mut self, f: &hdf5::File, path: &str) -> bool {
+        let Ok(info) = f.loc_info_by_name(path) else {
+            return false;
+        };
+        let key = (info.fileno, format!("{:?}", info.token));
+        match self.seen.get(&key) {
+            Some(first) => {
+                self.skipped.push((path.to_string(), first.clone()));
+                false
+            }
+            None => {
+                self.seen.insert(key, path.to_string());
+                true
+            }
+        }
+    }
+
+    /// One warning for all the links skipped.
+    fn warn(&self, file: &Path) {
+        let Some((link, first)) = self.skipped.first() else {
+            return;
+        };
+        let more = match self.skipped.len() {
+            1 => String::new(),
+            k => format!(" and {} more", k - 1),
+        };
+        crate::progress::warn(&format!(
+            "{}: {link}: leads to the group already searched as {first}{more} (a link cycle or a second name of one group); not searched again",
+            file.display()
+        ));
+    }
+}
+
+/// Depth-first search for sectors below `group` (already marked visited).
 fn walk(
     file: &Path,
     f: &hdf5::File,
     group: &str,
     depth: usize,
+    visited: &mut Visited,
     out: &mut Vec<String>,
 ) -> Result<()> {
     if depth > MAX_DEPTH {
@@ -120,7 +205,7 @@ fn walk(
         .group(group)
         .map_err(|e| h5::h5err(file, group, "cannot open group", e))?;
     let is_sector = g.link_exists("energies")
-        && f.loc_type_by_name(&join(group, "energies")).ok() == Some(LocationType::Dataset);
+        && kind(file, f, &join(group, "energies"))? == Some(LocationType::Dataset);
     if is_sector {
         out.push(group.to_string());
     }
@@ -133,16 +218,17 @@ fn walk(
             continue;
         }
         let child = join(group, &name);
-        // Unreadable links (dangling soft or external links) are skipped.
-        if f.loc_type_by_name(&child).ok() == Some(LocationType::Group) {
-            walk(file, f, &child, depth + 1, out)?;
+        // Unreadable links (dangling soft or external links) outside sectors are skipped.
+        if f.loc_type_by_name(&child).ok() == Some(LocationType::Group) && visited.first(f, &child)
+        {
+            walk(file, f, &child, depth + 1, visited, out)?;
         }
     }
     Ok(())
 }
 
 fn open_ds(file: &Path, f: &hdf5::File, path: &str) -> Result<hdf5::Dataset> {
-    match kind(f, path) {
+    match kind(file, f, path)? {
         Some(LocationType::Dataset) => f
             .dataset(path)
             .map_err(|e| h5::h5err(file, path, "cannot open dataset", e)),
@@ -184,7 +270,7 @@ fn describe(
     let model = attr_string(file, group, &gobj, "model")?;
     let symmetry_class = attr_string(file, group, &gobj, "symmetry_class")?;
 
-    Ok(Sector {
+    let mut sector = Sector {
         name: sector_name(group),
         group: group.to_string(),
         n_states: n,
@@ -206,7 +292,36 @@ fn describe(
         filters,
         hamiltonian,
         state_info,
-    })
+        external: Vec::new(),
+    };
+    sector.external = external_members(file, f, &sector);
+    Ok(sector)
+}
+
+/// The members of a sector reached through external links, as `"PATH -> OTHER_FILE:/path"`,
+/// each with a warning: their data are read (read-only) from another file.
+fn external_members(file: &Path, f: &hdf5::File, s: &Sector) -> Vec<String> {
+    let mut paths = vec![s.energies_path.clone()];
+    paths.extend(s.eigenvectors_path.iter().cloned());
+    for o in s.observables.iter().chain(&s.hamiltonian) {
+        paths.push(match o.form {
+            OperatorForm::Csr => join(&o.path, "data"),
+            _ => o.path.clone(),
+        });
+    }
+    paths.extend(s.state_info.iter().map(|st| st.path.clone()));
+    let mut out = Vec::new();
+    for p in paths {
+        let Some(origin) = f.dataset(&p).ok().and_then(|ds| external_origin(f, &ds)) else {
+            continue;
+        };
+        crate::progress::warn(&format!(
+            "{}: {p}: an external link: the data are read (read-only) from {origin}",
+            file.display()
+        ));
+        out.push(format!("{p} -> {origin}"));
+    }
+    out
 }
 
 /// The energies dataset: 1-D, real, non-empty; its length and element type.
@@ -262,7 +377,7 @@ fn describe_vectors(
         Some(p) => Some(resolve(group, p)),
         None => {
             let p = join(group, "eigenvectors");
-            kind(f, &p).map(|_| p)
+            kind(file, f, &p)?.map(|_| p)
         }
     };
     let mut v = Vectors {
@@ -354,7 +469,7 @@ fn describe_observables(
 ) -> Result<Vec<ObservableInfo>> {
     let mut observables = Vec::new();
     let opath = join(group, "observables");
-    match kind(f, &opath) {
+    match kind(file, f, &opath)? {
         Some(LocationType::Group) => {
             let g = f
                 .group(&opath)
@@ -379,7 +494,7 @@ fn describe_observables(
     }
     for (name, p) in &ov.observables {
         let p = resolve(group, p);
-        if kind(f, &p).is_none() {
+        if kind(file, f, &p)?.is_none() {
             return Err(Error::dataset(
                 file,
                 &p,
@@ -405,7 +520,7 @@ fn describe_hamiltonian(
     let hpath = match &ov.hamiltonian {
         Some(p) => {
             let p = resolve(group, p);
-            if kind(f, &p).is_none() {
+            if kind(file, f, &p)?.is_none() {
                 return Err(Error::dataset(
                     file,
                     &p,
@@ -416,7 +531,7 @@ fn describe_hamiltonian(
         }
         None => {
             let p = join(group, "hamiltonian");
-            kind(f, &p).map(|_| p)
+            kind(file, f, &p)?.map(|_| p)
         }
     };
     match &hpath {
@@ -442,7 +557,7 @@ fn describe_states(
 ) -> Result<Vec<StateInfo>> {
     let mut state_info = Vec::new();
     let spath = join(group, "states");
-    if kind(f, &spath) == Some(LocationType::Group) {
+    if kind(file, f, &spath)? == Some(LocationType::Group) {
         let g = f
             .group(&spath)
             .map_err(|e| h5::h5err(file, &spath, "cannot open group", e))?;
@@ -503,7 +618,7 @@ fn probe_operator(
     n: usize,
     energy_basis_allowed: bool,
 ) -> Result<ObservableInfo> {
-    match kind(f, path) {
+    match kind(file, f, path)? {
         Some(LocationType::Dataset) => {
             probe_dataset_operator(file, f, name, path, dim, n, energy_basis_allowed)
         }
@@ -639,7 +754,7 @@ fn probe_csr_operator(
         .group(path)
         .map_err(|e| h5::h5err(file, path, "cannot open group", e))?;
     for part in ["data", "indices", "indptr"] {
-        if kind(f, &join(path, part)) != Some(LocationType::Dataset) {
+        if kind(file, f, &join(path, part))? != Some(LocationType::Dataset) {
             return Err(Error::dataset(
                 file,
                 join(path, part),
@@ -665,6 +780,16 @@ fn probe_csr_operator(
     let dpath = join(path, "data");
     let data = open_ds(file, f, &dpath)?;
     let el = h5::element(file, &dpath, &data)?;
+    if data.ndim() != 1 {
+        return Err(Error::dataset(
+            file,
+            &dpath,
+            format!(
+                "expected a 1-D dataset of values, found shape {}",
+                format_shape(&data.shape())
+            ),
+        ));
+    }
     let nnz = data.size();
     let ipath = join(path, "indices");
     let idx = open_ds(file, f, &ipath)?;
@@ -682,7 +807,9 @@ fn probe_csr_operator(
     let ppath = join(path, "indptr");
     let ptr = open_ds(file, f, &ppath)?;
     h5::require_integer(file, &ppath, &ptr)?;
-    if ptr.size() != shape[0] + 1 || ptr.ndim() != 1 {
+    // shape[0] + 1 computed without overflow: a shape attribute of 2⁶⁴ − 1 rows cannot match
+    let rows_plus_one = shape[0].checked_add(1);
+    if Some(ptr.size()) != rows_plus_one || ptr.ndim() != 1 {
         return Err(Error::dataset(
             file,
             &ppath,
@@ -690,7 +817,7 @@ fn probe_csr_operator(
                 "shape {} does not match {} rows (expected [{}])",
                 format_shape(&ptr.shape()),
                 shape[0],
-                shape[0] + 1
+                rows_plus_one.map_or_else(|| format!("{} + 1", shape[0]), |r| r.to_string())
             ),
         ));
     }

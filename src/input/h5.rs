@@ -34,6 +34,14 @@ impl Element {
             Element::Complex64 | Element::Complex128 => Field::Complex,
         }
     }
+
+    /// Bytes of one value in memory after promotion (8 real, 16 complex).
+    pub fn value_bytes(self) -> usize {
+        match self.field() {
+            Field::Real => 8,
+            Field::Complex => 16,
+        }
+    }
 }
 
 impl std::fmt::Display for Element {
@@ -50,6 +58,56 @@ impl std::fmt::Display for Element {
 /// Maps an `hdf5` error to our one-line error about `dataset` of `file`.
 pub fn h5err(file: &Path, dataset: &str, what: &str, e: hdf5::Error) -> Error {
     Error::dataset(file, dataset, format!("{what}: {e}"))
+}
+
+/// An error when the values of `ds` were never written: a contiguous dataset without
+/// allocated storage, or a chunked one with fewer chunks stored than its declared shape
+/// needs. Reading such a dataset gives fill values (zeros) where nothing was written, which
+/// would be analysed as if they were data. Compact, virtual and externally stored datasets
+/// are not checked.
+pub fn require_written(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<()> {
+    use hdf5::dataset::Layout;
+    let shape = ds.shape();
+    if shape.contains(&0) {
+        return Ok(());
+    }
+    match ds.layout() {
+        Layout::Contiguous => {
+            let external = ds.dcpl().map(|p| !p.external().is_empty()).unwrap_or(true);
+            if !external && ds.storage_size() == 0 {
+                return Err(Error::dataset(
+                    file,
+                    path,
+                    format!(
+                        "declared shape {} but no value was ever written (the file stores none; reading would give fill values)",
+                        format_shape(&shape)
+                    ),
+                ));
+            }
+        }
+        Layout::Chunked => {
+            let (Some(chunk), Some(stored)) = (ds.chunk(), ds.num_chunks()) else {
+                return Ok(());
+            };
+            let expected: f64 = shape
+                .iter()
+                .zip(&chunk)
+                .map(|(&s, &c)| (s as f64 / c.max(1) as f64).ceil())
+                .product();
+            if (stored as f64) < expected {
+                return Err(Error::dataset(
+                    file,
+                    path,
+                    format!(
+                        "only {stored} of the {expected:.0} chunks of the declared shape {} were ever written (reading the rest would give fill values)",
+                        format_shape(&shape)
+                    ),
+                ));
+            }
+        }
+        _ => {}
+    }
+    Ok(())
 }
 
 /// Describes a type descriptor for an error message ("integer elements (int64)").
@@ -185,6 +243,9 @@ pub fn attr_string(
     Ok(s.map(|s| s.trim_end_matches('\0').to_string()))
 }
 
+/// Most values read from one numeric attribute (ours hold one or two).
+const MAX_ATTR_VALUES: usize = 1024;
+
 /// Reads a non-negative integer attribute `name` (any integer type, or a float with
 /// an integral value). `Ok(None)` when the attribute does not exist.
 pub fn attr_count(
@@ -215,6 +276,17 @@ pub fn attr_counts(
     let Some((attr, desc, apath)) = open_attr(file, path, loc, name)? else {
         return Ok(None);
     };
+    if attr.size() > MAX_ATTR_VALUES {
+        return Err(Error::dataset(
+            file,
+            &apath,
+            format!(
+                "declared shape {} holds {} values; a numeric attribute of ours holds at most {MAX_ATTR_VALUES}",
+                format_shape(&attr.shape()),
+                attr.size()
+            ),
+        ));
+    }
     let read = |e: hdf5::Error| h5err(file, &apath, "cannot read", e);
     let bad = |v: String| {
         Error::dataset(
@@ -269,20 +341,43 @@ pub fn require_integer(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<()
     }
 }
 
-/// Reads a whole integer dataset as non-negative indices.
+/// Reads a whole integer dataset as non-negative indices. Unsigned data are read as
+/// `u64` and signed data as `i64`, so that every value is reported as stored (HDF5 would
+/// clip a `uint64` above 2⁶³ − 1 when converting it to `int64`).
 pub fn read_indices(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<Vec<usize>> {
-    require_integer(file, path, ds)?;
-    let v = ds
-        .read_raw::<i64>()
-        .map_err(|e| h5err(file, path, "cannot read", e))?;
-    v.into_iter()
-        .enumerate()
-        .map(|(i, x)| {
-            usize::try_from(x).map_err(|_| {
-                Error::dataset(file, path, format!("negative index {x} at position {i}"))
-            })
-        })
-        .collect()
+    let desc = ds
+        .dtype()
+        .and_then(|t| t.to_descriptor())
+        .map_err(|e| h5err(file, path, "unreadable element type", e))?;
+    let read = |e: hdf5::Error| h5err(file, path, "cannot read", e);
+    let bad = |i: usize, x: String| {
+        Error::dataset(
+            file,
+            path,
+            format!("index {x} at position {i} is not a valid index (negative or beyond this machine's range)"),
+        )
+    };
+    match desc {
+        TypeDescriptor::Unsigned(_) => ds
+            .read_raw::<u64>()
+            .map_err(read)?
+            .into_iter()
+            .enumerate()
+            .map(|(i, x)| usize::try_from(x).map_err(|_| bad(i, x.to_string())))
+            .collect(),
+        TypeDescriptor::Integer(_) => ds
+            .read_raw::<i64>()
+            .map_err(read)?
+            .into_iter()
+            .enumerate()
+            .map(|(i, x)| usize::try_from(x).map_err(|_| bad(i, x.to_string())))
+            .collect(),
+        other => Err(Error::dataset(
+            file,
+            path,
+            format!("found {}; integers are needed", describe(&other)),
+        )),
+    }
 }
 
 /// First non-finite entry of a real slice, as (index, value).

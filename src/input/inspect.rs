@@ -7,6 +7,7 @@
 
 use super::validate::{self, OrthoCheck, ResidualCheck};
 use super::{EigenFile, Sector};
+use crate::data::ColumnSource;
 use crate::error::Result;
 use serde::Serialize;
 
@@ -77,9 +78,10 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
             }
             if s.eigenvectors_path.is_some() {
                 let reader = file.vectors(s, &spec)?;
+                let k = validate::sample_within(file.limit(), reader.dim());
                 v.orthonormality = Some(validate::orthonormality(
                     &reader,
-                    validate::SAMPLE,
+                    k,
                     validate::ortho_tolerance(s),
                 )?);
                 if let Some(h) = file.hamiltonian(s)? {
@@ -88,7 +90,7 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
                         &reader,
                         &spec,
                         &h,
-                        validate::SAMPLE,
+                        k,
                         validate::residual_tolerance(s),
                     )?);
                 }

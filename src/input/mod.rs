@@ -7,7 +7,8 @@
 //!
 //! A **sector** is any group (the root group included) holding a dataset named
 //! `energies`. Sectors are found by a depth-first walk over all groups, member
-//! names sorted, so the order is stable (`/`, `/L10`, `/L10/even`, `/L10/odd`,
+//! names sorted, each group searched once (remembered by its address, so link cycles
+//! end; one warning lists the links skipped), so the order is stable (`/`, `/L10`, `/L10/even`, `/L10/odd`,
 //! `/L12`, ...). A sector's name is its group path without the leading `/`
 //! (`even`, `L12/odd`), or `/` for the root group. Inside a sector group:
 //!
@@ -51,7 +52,10 @@
 //! # Checks
 //!
 //! Metadata (shapes, element types, attributes) is checked when a file is opened;
-//! values (NaN/Inf, Hermiticity, CSR indices) when they are read. The numerical
+//! values (NaN/Inf, Hermiticity, CSR indices) when they are read. Before any read, the
+//! bytes it will hold are computed from the declared shape and checked against the
+//! [`Limit`] ([`limit`]: the `--memory` budget of [`Overrides::memory`], never above the
+//! machine's memory), and a dataset whose values were never written is refused. The numerical
 //! checks of an eigenbasis (orthonormality, residuals) are in [`validate`]; the
 //! summary printed by `eigentherm inspect` is built by [`inspect`].
 //!
@@ -60,15 +64,17 @@
 mod discover;
 mod h5;
 pub mod inspect;
+pub mod limit;
 mod operators;
 pub mod validate;
 mod vectors;
 
 pub use h5::Element;
+pub use limit::Limit;
 pub use vectors::VectorReader;
 
 use crate::data::{Field, Operator, OperatorForm, Spectrum, Vector};
-use crate::error::{Error, Result};
+use crate::error::{escape, Error, Result};
 use serde::Serialize;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
@@ -189,9 +195,14 @@ pub struct Sector {
     pub hamiltonian: Option<ObservableInfo>,
     /// The initial states (type and path).
     pub state_info: Vec<StateInfo>,
+    /// Members reached through external links: `"PATH -> OTHER_FILE:/path"` (their data
+    /// are read, read-only, from that file).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub external: Vec<String>,
 }
 
-/// Dataset path overrides for files that follow another layout (from the command line).
+/// How to read files: dataset path overrides for files that follow another layout, and the
+/// memory limit of every read (from the command line).
 #[derive(Debug, Clone, Default)]
 pub struct Overrides {
     /// Path of the energies dataset: when given, this defines the single sector.
@@ -204,6 +215,9 @@ pub struct Overrides {
     pub observables: Vec<(String, String)>,
     /// Path of the Hamiltonian.
     pub hamiltonian: Option<String>,
+    /// Memory budget in bytes (`--memory`): no read sized by a file header may hold more
+    /// (see [`limit`]); `None`: the default budget, half of the machine's memory.
+    pub memory: Option<usize>,
 }
 
 /// An eigenbasis file opened read-only.
@@ -212,8 +226,15 @@ pub struct EigenFile {
     path: PathBuf,
     sectors: Vec<Sector>,
     h5: hdf5::File,
+    /// The most bytes one read may hold.
+    limit: Limit,
     /// Sectors whose "unsorted" warning was already printed.
     warned: Mutex<HashSet<String>>,
+}
+
+/// Names joined by `", "`, each with its control characters escaped.
+fn names<'a>(it: impl Iterator<Item = &'a str>) -> String {
+    it.map(escape).collect::<Vec<_>>().join(", ")
 }
 
 /// Opens `path` read-only with HDF5's own error printing silenced.
@@ -277,12 +298,17 @@ impl EigenFile {
             path: path.to_path_buf(),
             sectors,
             h5,
+            limit: Limit::new(overrides.memory),
             warned: Mutex::new(HashSet::new()),
         })
     }
     /// The file's path.
     pub fn path(&self) -> &Path {
         &self.path
+    }
+    /// The memory limit of every read from this file.
+    pub fn limit(&self) -> &Limit {
+        &self.limit
     }
     /// All sectors, in a stable order (depth-first, names sorted).
     pub fn sectors(&self) -> &[Sector] {
@@ -301,12 +327,9 @@ impl EigenFile {
             None => Err(Error::file(
                 &self.path,
                 format!(
-                    "no sector named '{name}'; sectors: {}",
-                    self.sectors
-                        .iter()
-                        .map(|s| s.name.as_str())
-                        .collect::<Vec<_>>()
-                        .join(", ")
+                    "no sector named '{}'; sectors: {}",
+                    escape(name),
+                    names(self.sectors.iter().map(|s| s.name.as_str()))
                 ),
             )),
         }
@@ -337,28 +360,35 @@ impl EigenFile {
             .h5
             .dataset(p)
             .map_err(|e| h5::h5err(&self.path, p, "cannot open dataset", e))?;
+        // the values, the sorted copy and the permutation: 24 bytes per state
+        let shape = ds.shape();
+        let need = 24.0 * limit::elements(&shape);
+        let what = sector.energies_element.to_string();
+        self.limit
+            .check(&self.path, p, &shape, &what, need, "to read and sort")?;
+        h5::require_written(&self.path, p, &ds)?;
         let raw = h5::read_real(&self.path, p, &ds)?;
         Ok(Spectrum::from_unsorted(raw))
     }
     /// A reader of eigenvector columns in ascending-energy order, reading hyperslabs on demand.
     pub fn vectors(&self, sector: &Sector, spectrum: &Spectrum) -> Result<VectorReader> {
-        VectorReader::new(&self.path, &self.h5, sector, spectrum)
+        VectorReader::new(&self.path, &self.h5, sector, spectrum, &self.limit)
     }
     /// An observable by name (energy-basis operators come back in ascending-energy order);
     /// an unknown name is an error listing the known ones.
     pub fn observable(&self, sector: &Sector, name: &str) -> Result<Operator> {
         let Some(info) = sector.observables.iter().find(|o| o.name == name) else {
-            let known: Vec<&str> = sector.observables.iter().map(|o| o.name.as_str()).collect();
             let where_ = discover::join(&sector.group, "observables");
+            let name = escape(name);
             return Err(Error::dataset(
                 &self.path,
                 where_,
-                if known.is_empty() {
+                if sector.observables.is_empty() {
                     format!("no observable named '{name}': the sector has no observables")
                 } else {
                     format!(
                         "no observable named '{name}'; observables: {}",
-                        known.join(", ")
+                        names(sector.observables.iter().map(|o| o.name.as_str()))
                     )
                 },
             ));
@@ -368,12 +398,14 @@ impl EigenFile {
         } else {
             None
         };
-        operators::read_operator(&self.path, &self.h5, info, order.as_deref())
+        operators::read_operator(&self.path, &self.h5, info, order.as_deref(), &self.limit)
     }
     /// The stored Hamiltonian, if any.
     pub fn hamiltonian(&self, sector: &Sector) -> Result<Option<Operator>> {
         match &sector.hamiltonian {
-            Some(info) => operators::read_operator(&self.path, &self.h5, info, None).map(Some),
+            Some(info) => {
+                operators::read_operator(&self.path, &self.h5, info, None, &self.limit).map(Some)
+            }
             None => Ok(None),
         }
     }
@@ -387,15 +419,16 @@ impl EigenFile {
     /// orthonormal columns (`PᵀP = 1`); any problem is a one-line error naming the group.
     pub fn embedding(&self, sector: &Sector) -> Result<Option<crate::data::Csr<f64>>> {
         let path = discover::join(&sector.group, "embedding");
-        if discover::kind(&self.h5, &path).is_none() {
+        if discover::kind(&self.path, &self.h5, &path)?.is_none() {
             return Ok(None);
         }
-        operators::read_embedding(&self.path, &self.h5, &path, sector.dim).map(Some)
+        operators::read_embedding(&self.path, &self.h5, &path, sector.dim, &self.limit).map(Some)
     }
     /// An initial state by name (`states/<name>`).
     pub fn state(&self, sector: &Sector, name: &str) -> Result<Vector> {
         let Some(info) = sector.state_info.iter().find(|s| s.name == name) else {
             let where_ = discover::join(&sector.group, "states");
+            let name = escape(name);
             return Err(Error::dataset(
                 &self.path,
                 where_,
@@ -404,11 +437,11 @@ impl EigenFile {
                 } else {
                     format!(
                         "no state named '{name}'; states: {}",
-                        sector.states.join(", ")
+                        names(sector.states.iter().map(String::as_str))
                     )
                 },
             ));
         };
-        operators::read_vector(&self.path, &self.h5, &info.path, info.element)
+        operators::read_vector(&self.path, &self.h5, &info.path, info.element, &self.limit)
     }
 }

@@ -5,6 +5,7 @@
 
 use super::discover::join;
 use super::h5::{self, Element};
+use super::limit::{self, Limit};
 use super::ObservableInfo;
 use crate::data::{c64, Csr, Field, OpData, Operator, OperatorForm, Vector};
 use crate::error::{Error, Result};
@@ -78,13 +79,32 @@ impl Scalar for c64 {
     }
 }
 
+/// Opens a dataset to be read: its values must have been written ([`h5::require_written`]).
 fn open(file: &Path, f: &hdf5::File, path: &str) -> Result<hdf5::Dataset> {
+    let ds = f
+        .dataset(path)
+        .map_err(|e| h5::h5err(file, path, "cannot open dataset", e))?;
+    h5::require_written(file, path, &ds)?;
+    Ok(ds)
+}
+
+/// Opens a dataset without reading it (for its shape).
+fn open_meta(file: &Path, f: &hdf5::File, path: &str) -> Result<hdf5::Dataset> {
     f.dataset(path)
         .map_err(|e| h5::h5err(file, path, "cannot open dataset", e))
 }
 
 /// Reads a 1-D dataset (state or diagonal) as a real or complex vector.
-pub fn read_vector(file: &Path, f: &hdf5::File, path: &str, el: Element) -> Result<Vector> {
+pub fn read_vector(
+    file: &Path,
+    f: &hdf5::File,
+    path: &str,
+    el: Element,
+    limit: &Limit,
+) -> Result<Vector> {
+    let shape = open_meta(file, f, path)?.shape();
+    let need = limit::elements(&shape) * el.value_bytes() as f64;
+    limit.check(file, path, &shape, &el.to_string(), need, "to read")?;
     let ds = open(file, f, path)?;
     match el.field() {
         Field::Real => Ok(Vector::Real(h5::read_real(file, path, &ds)?)),
@@ -100,7 +120,9 @@ pub fn read_operator(
     f: &hdf5::File,
     info: &ObservableInfo,
     order: Option<&[usize]>,
+    limit: &Limit,
 ) -> Result<Operator> {
+    check_operator_fits(file, f, info, order.is_some(), limit)?;
     match info.field {
         Field::Real => read_typed::<f64>(file, f, info, order, |ds| {
             h5::read_real(file, &info.path, ds)
@@ -110,6 +132,50 @@ pub fn read_operator(
             h5::read_complex(file, &info.path, ds)
         })
         .map(Operator::Complex),
+    }
+}
+
+/// An error unless the operator `info`, read and checked, fits `limit`: `dim·s` bytes for
+/// a diagonal, `r·c·s` plus one read slab for a dense or energy-basis matrix (twice `r·c·s`
+/// when an energy-basis matrix is reordered), and for a CSR group `nnz·(3s + 48) +
+/// 16·(rows + 1)` (values, column indices read and converted, row pointers, and the map of
+/// entries of the Hermiticity check).
+fn check_operator_fits(
+    file: &Path,
+    f: &hdf5::File,
+    info: &ObservableInfo,
+    reordered: bool,
+    limit: &Limit,
+) -> Result<()> {
+    let s = info.element.value_bytes() as f64;
+    let el = info.element.to_string();
+    let n = limit::elements(&info.shape);
+    match info.form {
+        OperatorForm::Diagonal => limit.check(file, &info.path, &info.shape, &el, n * s, "to read"),
+        OperatorForm::Dense | OperatorForm::EnergyBasis => {
+            let need = if reordered && info.form == OperatorForm::EnergyBasis {
+                2.0 * n * s
+            } else {
+                n * s + (n * s).min(h5::SLAB_BYTES as f64)
+            };
+            let what = format!("to hold the {} operator whole", info.form);
+            limit.check(file, &info.path, &info.shape, &el, need, &what)
+        }
+        OperatorForm::Csr => {
+            let dpath = join(&info.path, "data");
+            let dshape = open_meta(file, f, &dpath)?.shape();
+            let nnz = limit::elements(&dshape);
+            let rows = info.shape.first().copied().unwrap_or(0) as f64;
+            let need = nnz * (3.0 * s + 48.0) + 16.0 * (rows + 1.0);
+            limit.check(
+                file,
+                &dpath,
+                &dshape,
+                &el,
+                need,
+                "for the CSR arrays and the Hermiticity check",
+            )
+        }
     }
 }
 
@@ -301,6 +367,7 @@ pub fn read_embedding(
     f: &hdf5::File,
     path: &str,
     dim: Option<usize>,
+    limit: &Limit,
 ) -> Result<Csr<f64>> {
     let g = f
         .group(path)
@@ -312,7 +379,7 @@ pub fn read_embedding(
             )
         })?;
     for part in ["data", "indices", "indptr"] {
-        if super::discover::kind(f, &join(path, part)) != Some(hdf5::LocationType::Dataset) {
+        if super::discover::kind(file, f, &join(path, part))? != Some(hdf5::LocationType::Dataset) {
             return Err(Error::dataset(
                 file,
                 join(path, part),
@@ -363,6 +430,19 @@ pub fn read_embedding(
         }
     }
     let dpath = join(path, "data");
+    let dds = open_meta(file, f, &dpath)?;
+    // values, indices (read and converted), row pointers, column norms, the full-space state
+    let dshape = dds.shape();
+    let need =
+        limit::elements(&dshape) * 24.0 + (full_dim as f64 + 1.0) * 32.0 + ncols as f64 * 8.0;
+    limit.check(
+        file,
+        &dpath,
+        &dshape,
+        "an embedding",
+        need,
+        "for the embedding and a full-space state",
+    )?;
     let dds = open(file, f, &dpath)?;
     let el = h5::element(file, &dpath, &dds)?;
     if el.field() != Field::Real {
@@ -372,33 +452,34 @@ pub fn read_embedding(
             format!("found {el}; an embedding must be real"),
         ));
     }
-    let data = h5::read_real(file, &dpath, &dds)?;
+    // the declared lengths of indices and indptr are checked before anything is read
     let ipath = join(path, "indices");
-    let indices = h5::read_indices(file, &ipath, &open(file, f, &ipath)?)?;
     let ppath = join(path, "indptr");
-    let indptr = h5::read_indices(file, &ppath, &open(file, f, &ppath)?)?;
-    if indices.len() != data.len() {
+    let (ids, pds) = (open_meta(file, f, &ipath)?, open_meta(file, f, &ppath)?);
+    if ids.size() != dds.size() || ids.ndim() != 1 {
         return Err(Error::dataset(
             file,
             &ipath,
             format!(
-                "holds {} entries but data holds {}",
-                indices.len(),
-                data.len()
+                "shape {} does not match {} values in data",
+                h5::format_shape(&ids.shape()),
+                dds.size()
             ),
         ));
     }
-    if indptr.len() != full_dim + 1 {
+    if Some(pds.size()) != full_dim.checked_add(1) || pds.ndim() != 1 {
         return Err(Error::dataset(
             file,
             &ppath,
             format!(
-                "holds {} entries, expected full_dim + 1 = {}",
-                indptr.len(),
-                full_dim + 1
+                "shape {} does not match full_dim + 1 = {full_dim} + 1 entries",
+                h5::format_shape(&pds.shape()),
             ),
         ));
     }
+    let data = h5::read_real(file, &dpath, &dds)?;
+    let indices = h5::read_indices(file, &ipath, &open(file, f, &ipath)?)?;
+    let indptr = h5::read_indices(file, &ppath, &open(file, f, &ppath)?)?;
     let csr = Csr {
         nrows: full_dim,
         ncols,
@@ -407,13 +488,14 @@ pub fn read_embedding(
         data,
     };
     check_csr(file, path, &csr)?;
-    check_isometry(file, path, &csr)?;
+    check_isometry(file, path, &csr, limit)?;
     Ok(csr)
 }
 
 /// Checks `PᵀP = 1` for an embedding: all column norms, and all column overlaps when
-/// `Σ_rows nnz_row² ≤ EMBEDDING_PAIR_LIMIT`.
-fn check_isometry(file: &Path, path: &str, p: &Csr<f64>) -> Result<()> {
+/// `Σ_rows nnz_row² ≤ EMBEDDING_PAIR_LIMIT` and their map (about 48 bytes per pair) fits
+/// `limit`.
+fn check_isometry(file: &Path, path: &str, p: &Csr<f64>, limit: &Limit) -> Result<()> {
     let mut norms = vec![0.0f64; p.ncols];
     let mut pairs = 0usize;
     for i in 0..p.nrows {
@@ -434,7 +516,7 @@ fn check_isometry(file: &Path, path: &str, p: &Csr<f64>) -> Result<()> {
             format!("column {a} has squared norm {x:.12}, not 1: the columns of an embedding must be orthonormal"),
         ));
     }
-    if pairs > EMBEDDING_PAIR_LIMIT {
+    if pairs > EMBEDDING_PAIR_LIMIT || !limit.fits(48.0 * pairs as f64) {
         return Ok(());
     }
     let mut overlaps: HashMap<(usize, usize), f64> = HashMap::new();

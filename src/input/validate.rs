@@ -10,7 +10,7 @@
 //!   `tol · max(1, max_j |E_j|)` (relative to the spectral scale) with the same
 //!   tolerances (float32 when either energies or eigenvectors are float32).
 
-use super::{EigenFile, Element, Sector};
+use super::{EigenFile, Element, Limit, Sector};
 use crate::data::{c64, ColumnSource, Matrix, OpData, Operator, Spectrum};
 use crate::error::{Error, Result};
 use faer::Mat;
@@ -66,6 +66,14 @@ pub struct ResidualCheck {
     pub threshold: f64,
     /// `max_residual ≤ threshold`.
     pub pass: bool,
+}
+
+/// The sample size of the checks for eigenvectors of dimension `dim` within `limit`: at
+/// most [`SAMPLE`], as many columns as fit twice over as complex numbers (the sample and the
+/// column being read).
+pub fn sample_within(limit: &Limit, dim: usize) -> usize {
+    let per_column = 2.0 * 16.0 * dim.max(1) as f64;
+    ((limit.bytes() as f64 / per_column) as usize).clamp(1, SAMPLE)
 }
 
 /// `k` indices spread evenly over `0..n` (all of them when `n ≤ k`):
@@ -208,7 +216,8 @@ pub fn require_orthonormal(
     sector: &Sector,
     src: &dyn ColumnSource,
 ) -> Result<OrthoCheck> {
-    let c = orthonormality(src, SAMPLE, ortho_tolerance(sector))?;
+    let k = sample_within(file.limit(), src.dim());
+    let c = orthonormality(src, k, ortho_tolerance(sector))?;
     if !c.pass {
         return Err(Error::dataset(
             file.path(),

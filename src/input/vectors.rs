@@ -52,6 +52,7 @@ impl VectorReader {
         f: &hdf5::File,
         sector: &Sector,
         spectrum: &Spectrum,
+        limit: &super::Limit,
     ) -> Result<VectorReader> {
         let (Some(path), Some(dim), Some(element)) =
             (&sector.eigenvectors_path, sector.dim, sector.element)
@@ -76,6 +77,18 @@ impl VectorReader {
         let ds = f
             .dataset(path)
             .map_err(|e| h5::h5err(file, path, "cannot open dataset", e))?;
+        // the smallest working set of a pass: four eigenvectors (two in use, two read ahead)
+        let shape = ds.shape();
+        let need = 4.0 * dim as f64 * element.value_bytes() as f64;
+        limit.check(
+            file,
+            path,
+            &shape,
+            &element.to_string(),
+            need,
+            "for the four eigenvectors a pass holds at least",
+        )?;
+        h5::require_written(file, path, &ds)?;
         let axis = match sector.layout {
             Layout::Columns => 1,
             Layout::Rows => 0,

@@ -16,7 +16,7 @@ use crate::analysis::quench::{
     self, state::StateSpec, QuenchOptions, QuenchReport, SectorPart, TimeGrid,
 };
 use crate::data::{c64, Csr};
-use crate::error::{Error, Result};
+use crate::error::{escape, Error, Result};
 use crate::input::{EigenFile, Overrides, Sector};
 use std::path::Path;
 
@@ -155,7 +155,9 @@ fn components<'a>(
                             if s.states.is_empty() {
                                 "none".to_string()
                             } else {
-                                s.states.join(", ")
+                                let known: Vec<String> =
+                                    s.states.iter().map(|n| escape(n)).collect();
+                                known.join(", ")
                             }
                         ),
                     ));
@@ -193,18 +195,28 @@ fn components<'a>(
             // No embedding, one sector: its basis is the full computational basis if dim = 2^L.
             let s = single(sectors, path, "a product state without sector embeddings")?;
             let dim = sector_dim(s, path)?;
+            let vpath = format!("{}/eigenvectors", s.group.trim_end_matches('/'));
+            let need = 16.0 * dim as f64;
+            file.limit().check(
+                path,
+                &vpath,
+                &[dim],
+                "complex128",
+                need,
+                "for the product state",
+            )?;
             let psi = state_vector(spec, dim).map_err(|e| {
                 e.at(
                     path,
                     format!("{}/eigenvectors", s.group.trim_end_matches('/')),
                 )
             })?;
-            eprintln!(
-                "note: {}: sector '{}' has no embedding; taking its basis as the full σᶻ basis of {} sites",
+            crate::progress::note(&format!(
+                "{}: sector '{}' has no embedding; taking its basis as the full σᶻ basis of {} sites",
                 path.display(),
                 s.name,
                 dim.trailing_zeros()
-            );
+            ));
             Ok(vec![(s, psi)])
         }
     }
@@ -219,7 +231,7 @@ fn single<'a>(sectors: &[&'a Sector], path: &Path, what: &str) -> Result<&'a Sec
                 "{what} needs one sector: choose it with --sector (known: {})",
                 sectors
                     .iter()
-                    .map(|s| s.name.as_str())
+                    .map(|s| escape(&s.name))
                     .collect::<Vec<_>>()
                     .join(", ")
             ),
@@ -353,12 +365,12 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
             });
         }
         if let Some(cap) = captured.filter(|&c| c < 1.0 - 1e-6) {
-            eprintln!(
-                "warning: {}: sector '{}': the stored eigenstates hold only {:.6} of the state's weight (partial eigenbasis); the analysis uses the normalised projection",
+            crate::progress::warn(&format!(
+                "{}: sector '{}': the stored eigenstates hold only {:.6} of the state's weight (partial eigenbasis); the analysis uses the normalised projection",
                 path.display(),
                 s.name,
                 cap
-            );
+            ));
         }
         spectra.push(spectrum.energies);
     }

@@ -16,11 +16,9 @@
 use crate::error::{Error, Result};
 use faer::Par;
 
-/// Fraction of the machine's total memory used as the default budget.
-pub const DEFAULT_MEMORY_FRACTION: f64 = 0.5;
-
-/// Budget used when `/proc/meminfo` cannot be read: 4 GiB.
-pub const FALLBACK_BUDGET_BYTES: usize = 4 << 30;
+pub use crate::memory::{
+    default_budget_bytes, human_bytes, DEFAULT_MEMORY_FRACTION, FALLBACK_BUDGET_BYTES,
+};
 
 /// Memory and parallelism of a pass over the eigenvectors.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -69,21 +67,6 @@ impl Budget {
             ..*self
         }
     }
-}
-
-/// Default budget: `DEFAULT_MEMORY_FRACTION × MemTotal` from `/proc/meminfo`, or
-/// [`FALLBACK_BUDGET_BYTES`] when that cannot be read.
-pub fn default_budget_bytes() -> usize {
-    std::fs::read_to_string("/proc/meminfo")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("MemTotal:"))
-                .and_then(|l| l.split_whitespace().nth(1))
-                .and_then(|kb| kb.parse::<f64>().ok())
-        })
-        .map(|kb| (kb * 1024.0 * DEFAULT_MEMORY_FRACTION) as usize)
-        .unwrap_or(FALLBACK_BUDGET_BYTES)
 }
 
 /// Parses a memory size: a number with an optional binary suffix `K`, `M`, `G`, `T`
@@ -146,18 +129,6 @@ pub fn block_size(w: usize, q: usize, dim: usize, elem: usize, budget: &Budget) 
         }
     }
     lo
-}
-
-/// `"1.50 GiB"`-style rendering of a byte count.
-pub fn human_bytes(b: f64) -> String {
-    const UNITS: [&str; 5] = ["B", "KiB", "MiB", "GiB", "TiB"];
-    let mut x = b;
-    let mut u = 0;
-    while x >= 1024.0 && u + 1 < UNITS.len() {
-        x /= 1024.0;
-        u += 1;
-    }
-    format!("{x:.2} {}", UNITS[u])
 }
 
 #[cfg(test)]

@@ -7,19 +7,7 @@
 use std::path::Path;
 use std::process::Command;
 
-/// Runs `eigentherm ARGS` in the crate root and returns (exit code, stdout, stderr).
-fn run(args: &[&str]) -> (Option<i32>, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_eigentherm"))
-        .args(args)
-        .current_dir(Path::new(env!("CARGO_MANIFEST_DIR")))
-        .output()
-        .expect("the binary runs");
-    (
-        out.status.code(),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
+use crate::util::run_binary as run;
 
 /// Asserts that `args` fails with exactly the one-line `expected` on stderr and the exit
 /// status of a usage or input error, 2 (the README's exit statuses).

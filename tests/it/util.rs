@@ -31,3 +31,32 @@ pub fn mixed_field_chains(dir: &Path, sizes: &[usize]) -> Vec<PathBuf> {
         })
         .collect()
 }
+
+/// Runs `eigentherm ARGS` in the crate root and returns (exit code, stdout, stderr).
+pub fn run_binary(args: &[&str]) -> (Option<i32>, String, String) {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_eigentherm"))
+        .args(args)
+        .current_dir(Path::new(env!("CARGO_MANIFEST_DIR")))
+        .output()
+        .expect("the binary runs");
+    (
+        out.status.code(),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+/// Asserts that `args` ends with exit status 2 and exactly one stderr line, starting
+/// `error: ` and containing every one of `parts`; returns that line.
+pub fn fails_naming(args: &[&str], parts: &[&str]) -> String {
+    let (code, _out, err) = run_binary(args);
+    assert_eq!(code, Some(2), "exit code of {args:?}; stderr: {err}");
+    assert!(!err.contains("panicked"), "{err}");
+    let lines: Vec<&str> = err.lines().collect();
+    assert_eq!(lines.len(), 1, "one line on stderr for {args:?}: {err}");
+    assert!(lines[0].starts_with("error: "), "{err}");
+    for p in parts {
+        assert!(lines[0].contains(p), "{p:?} missing from: {err}");
+    }
+    lines[0].to_string()
+}

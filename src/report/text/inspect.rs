@@ -93,6 +93,9 @@ fn format_sector(o: &mut String, r: &SectorSummary) {
             let _ = writeln!(o, "    hamiltonian   none");
         }
     }
+    for e in &s.external {
+        let _ = writeln!(o, "    external link {e} (read-only)");
+    }
     let size = s.size.map(|x| x.to_string()).unwrap_or_else(|| "-".into());
     let label = s.label.clone().unwrap_or_else(|| "-".into());
     let _ = writeln!(o, "    attributes    size {size}, label {label}");

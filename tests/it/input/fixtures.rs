@@ -361,6 +361,7 @@ fn overrides_define_a_single_sector_from_custom_paths() {
         layout: None,
         observables: vec![("hop".into(), "/chain/observables/sz".into())],
         hamiltonian: None,
+        memory: None,
     };
     // /chain/observables/sz has dim 32, this sector dim 24: a shape error
     let err = EigenFile::open(&fixture("good.h5"), &ov)

@@ -2,5 +2,8 @@
 
 mod embedding;
 mod fixtures;
+mod limits;
+mod links;
+mod names;
 mod roundtrip;
 mod stream_file;
