@@ -285,8 +285,8 @@ fn study_with_several_observables_matches_single_observable_runs() {
             out: out.clone(),
             states: states.clone(),
             times: "lin:0:10:21".to_string(),
-            // the default drop leaves a scattered set of kept states, whose eigenvectors are
-            // gathered once and shared by the observables
+            // the default drop leaves a scattered set of kept states; one pass forms the
+            // kept-state matrices of all the observables
             drop_weight: eigentherm::analysis::quench::DEFAULT_DROP_WEIGHT,
         };
         let res = study::study(&args).unwrap();

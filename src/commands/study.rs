@@ -462,7 +462,6 @@ fn quench_all(args: &Args, project: crate::project::Budget) -> Result<Vec<Quench
         .collect::<Result<Vec<_>>>()?;
     let opts = QuenchOptions {
         drop_weight: args.drop_weight,
-        project,
         ..QuenchOptions::default()
     };
     let overrides = args.input.paths.overrides()?;
@@ -481,6 +480,7 @@ fn quench_all(args: &Args, project: crate::project::Budget) -> Result<Vec<Quench
             sector: args.select.sector.as_deref(),
             grid,
             opts: &opts,
+            budget: project,
         };
         runs.push(
             args.input
