@@ -14,6 +14,10 @@ The file follows eigentherm's input layout (README / DESIGN.md), in the root gro
   observables/dense_rand [dim,dim] random symmetric matrix (only dim <= 8192 by
                                    default), off-diagonal entries N(0, 1/dim),
                                    diagonal entries N(0, 2/dim) (GOE scaling)
+  states/NAME         [dim]        optional initial states for `eigentherm quench`
+                                   (--state NAME=random: a normalised vector of
+                                   N(0, 1) entries, seed fixed; --state NAME=basis:K:
+                                   the basis vector |K>)
 
 The eigenvectors are the columns of the orthonormal DCT-II matrix
 C[k, j] = sqrt(2/dim) * c_k * cos(pi * k * (2j + 1) / (2 dim)), c_0 = 1/sqrt(2),
@@ -128,10 +132,32 @@ def main():
     )
     p.add_argument("--seed", type=int, default=20240607)
     p.add_argument("--block", type=int, default=512, help="columns per write block")
+    p.add_argument(
+        "--state",
+        action="append",
+        default=[],
+        metavar="NAME=KIND",
+        help="write states/NAME: KIND is `random` (normalised, seed fixed) or `basis:K` "
+        "(repeatable)",
+    )
     args = p.parse_args()
     dim = args.dim
     if dim < 2:
         sys.exit(f"error: --dim must be at least 2, got {dim}")
+    states = []
+    for spec in args.state:
+        name, _, kind = spec.partition("=")
+        if not name or "/" in name:
+            sys.exit(f"error: --state {spec!r}: expected NAME=random or NAME=basis:K")
+        if kind == "random":
+            v = np.random.default_rng([args.seed, 2, len(states)]).standard_normal(dim)
+            v /= np.linalg.norm(v)
+        elif kind.startswith("basis:") and kind[6:].isdigit() and int(kind[6:]) < dim:
+            v = np.zeros(dim)
+            v[int(kind[6:])] = 1.0
+        else:
+            sys.exit(f"error: --state {spec!r}: expected NAME=random or NAME=basis:K (K < dim)")
+        states.append((name, v))
 
     t0 = time.perf_counter()
     tmp = args.path + ".part"
@@ -153,6 +179,10 @@ def main():
         g.attrs["shape"] = np.array([dim, dim], dtype=np.int64)
         if dim <= args.dense_max:
             write_dense(obs, dim, args.seed, tile=min(dim, 1024))
+        if states:
+            st = f.create_group("states")
+            for name, v in states:
+                st.create_dataset(name, data=v)
     os.replace(tmp, args.path)
     size = os.path.getsize(args.path)
     print(

@@ -6,7 +6,7 @@
 //! contiguous eigenvector.
 
 pub use faer::c64;
-use faer::Mat;
+use faer::{Mat, MatRef};
 use serde::{Deserialize, Serialize};
 use std::ops::Range;
 
@@ -142,6 +142,226 @@ impl Matrix {
             Matrix::Real(m) => Mat::from_fn(m.nrows(), m.ncols(), |i, j| c64::new(m[(i, j)], 0.0)),
             Matrix::Complex(m) => m.clone(),
         }
+    }
+}
+
+/// A view of one column panel of a [`HermitianPanels`] matrix: rows `0..cols.end`,
+/// columns `cols`.
+#[derive(Debug, Clone, Copy)]
+pub enum PanelRef<'a> {
+    /// Real entries.
+    Real(MatRef<'a, f64>),
+    /// Complex entries.
+    Complex(MatRef<'a, c64>),
+}
+
+/// Where one column panel of a [`HermitianPanels`] matrix is stored.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Panel {
+    /// The columns `cols.start..cols.end` of the panel; its stored rows are `0..cols.end`.
+    pub cols: Range<usize>,
+    /// Index of the storage matrix that holds the panel.
+    pub storage: usize,
+    /// First column of the panel in that storage matrix (rows start at 0).
+    pub offset: usize,
+}
+
+/// A Hermitian `k × k` matrix stored by the upper parts of its column panels.
+///
+/// The columns `0..k` are cut into consecutive panels `[j₀, j₁)`; a panel stores the
+/// entries `(a, b)` with `a < j₁` and `j₀ ≤ b < j₁`: everything above its diagonal block and
+/// the whole diagonal block (both triangles). The entries below are the adjoints,
+/// `A[a, b] = conj(A[b, a])`. For panels of width `w` this takes about `k(k + w)/2`
+/// elements instead of `k²`. A panel lives in rows `0..j₁` of consecutive columns of a
+/// storage matrix; several panels may share one storage matrix (the projector writes the
+/// panels of a block of eigenvectors over the eigenvectors it no longer needs).
+#[derive(Debug, Clone)]
+pub struct HermitianPanels {
+    k: usize,
+    field: Field,
+    storage: Vec<Matrix>,
+    panels: Vec<Panel>,
+}
+
+impl HermitianPanels {
+    /// The matrix of dimension `k` whose panels `panels` are stored in `storage`. Fails
+    /// (with the problem in words) unless the panels cover `0..k` in order, fit their
+    /// storage matrices, and every storage matrix has the element type `field`.
+    pub fn new(
+        k: usize,
+        field: Field,
+        storage: Vec<Matrix>,
+        panels: Vec<Panel>,
+    ) -> std::result::Result<Self, String> {
+        if let Some(m) = storage.iter().find(|m| m.field() != field) {
+            return Err(format!(
+                "a {} storage matrix in a {field} panel matrix",
+                m.field()
+            ));
+        }
+        let mut next = 0;
+        for p in &panels {
+            if p.cols.start != next || p.cols.end <= p.cols.start || p.cols.end > k {
+                return Err(format!(
+                    "panel {}..{} does not continue the panels of a {k}×{k} matrix at column {next}",
+                    p.cols.start, p.cols.end
+                ));
+            }
+            let fits = storage
+                .get(p.storage)
+                .is_some_and(|m| m.nrows() >= p.cols.end && m.ncols() >= p.offset + p.cols.len());
+            if !fits {
+                return Err(format!(
+                    "panel {}..{} does not fit its storage matrix",
+                    p.cols.start, p.cols.end
+                ));
+            }
+            next = p.cols.end;
+        }
+        if next != k {
+            return Err(format!("the panels end at column {next} of {k}"));
+        }
+        Ok(HermitianPanels {
+            k,
+            field,
+            storage,
+            panels,
+        })
+    }
+
+    /// The upper panels of width `width` (at least 1; the last one may be narrower) of
+    /// the square matrix `m`, assumed Hermitian (its lower triangle outside the diagonal
+    /// blocks is not read). Each panel gets its own storage matrix.
+    pub fn from_full(m: &Matrix, width: usize) -> Self {
+        let k = m.nrows().min(m.ncols());
+        let width = width.max(1);
+        let mut storage = Vec::new();
+        let mut panels = Vec::new();
+        let mut j0 = 0;
+        while j0 < k {
+            let j1 = (j0 + width).min(k);
+            storage.push(match m {
+                Matrix::Real(x) => Matrix::Real(x.submatrix(0, j0, j1, j1 - j0).to_owned()),
+                Matrix::Complex(x) => Matrix::Complex(x.submatrix(0, j0, j1, j1 - j0).to_owned()),
+            });
+            panels.push(Panel {
+                cols: j0..j1,
+                storage: storage.len() - 1,
+                offset: 0,
+            });
+            j0 = j1;
+        }
+        HermitianPanels {
+            k,
+            field: m.field(),
+            storage,
+            panels,
+        }
+    }
+
+    /// Dimension `k`.
+    pub fn dim(&self) -> usize {
+        self.k
+    }
+
+    /// Element type.
+    pub fn field(&self) -> Field {
+        self.field
+    }
+
+    /// The panels, in column order.
+    pub fn panels(&self) -> &[Panel] {
+        &self.panels
+    }
+
+    /// The stored part of panel `p` (rows `0..cols.end`, columns `cols`).
+    pub fn panel(&self, p: usize) -> PanelRef<'_> {
+        let q = &self.panels[p];
+        let (r, w) = (q.cols.end, q.cols.len());
+        match &self.storage[q.storage] {
+            Matrix::Real(m) => PanelRef::Real(m.submatrix(0, q.offset, r, w)),
+            Matrix::Complex(m) => PanelRef::Complex(m.submatrix(0, q.offset, r, w)),
+        }
+    }
+
+    /// Entry `(a, b)` promoted to complex (`a, b < k`).
+    pub fn get_c(&self, a: usize, b: usize) -> c64 {
+        if a > b {
+            return self.get_c(b, a).conj();
+        }
+        let p = self.panels.partition_point(|q| q.cols.end <= b);
+        match self.panel(p) {
+            PanelRef::Real(m) => c64::new(m[(a, b - self.panels[p].cols.start)], 0.0),
+            PanelRef::Complex(m) => m[(a, b - self.panels[p].cols.start)],
+        }
+    }
+
+    /// The whole `k × k` matrix.
+    pub fn to_full(&self) -> Matrix {
+        fn fill<'a, T: Copy + Default + 'a>(
+            h: &'a HermitianPanels,
+            view: impl Fn(usize) -> Option<MatRef<'a, T>>,
+            conj: impl Fn(T) -> T,
+        ) -> Mat<T> {
+            let mut out = Mat::from_fn(h.k, h.k, |_, _| T::default());
+            for (p, q) in h.panels.iter().enumerate() {
+                let Some(m) = view(p) else { continue };
+                for (c, b) in q.cols.clone().enumerate() {
+                    for a in 0..q.cols.end {
+                        out[(a, b)] = m[(a, c)];
+                        if a < q.cols.start {
+                            out[(b, a)] = conj(m[(a, c)]);
+                        }
+                    }
+                }
+            }
+            out
+        }
+        match self.field {
+            Field::Real => Matrix::Real(fill(
+                self,
+                |p| match self.panel(p) {
+                    PanelRef::Real(m) => Some(m),
+                    PanelRef::Complex(_) => None,
+                },
+                |x| x,
+            )),
+            Field::Complex => Matrix::Complex(fill(
+                self,
+                |p| match self.panel(p) {
+                    PanelRef::Complex(m) => Some(m),
+                    PanelRef::Real(_) => None,
+                },
+                |x: c64| x.conj(),
+            )),
+        }
+    }
+
+    /// Bytes of the storage matrices (shared storage counted once).
+    pub fn storage_bytes(&self) -> usize {
+        self.storage
+            .iter()
+            .map(|m| {
+                m.nrows()
+                    * m.ncols()
+                    * match m.field() {
+                        Field::Real => 8,
+                        Field::Complex => 16,
+                    }
+            })
+            .sum()
+    }
+
+    /// Bytes of the panels of a `k × k` matrix cut into panels of width `width`
+    /// (`Σ j₁·(j₁ − j₀)` elements of `field`), without shared storage.
+    pub fn bytes(k: usize, width: usize, field: Field) -> f64 {
+        let (k, w) = (k as f64, width.max(1) as f64);
+        let elem = match field {
+            Field::Real => 8.0,
+            Field::Complex => 16.0,
+        };
+        // Σ over panels of j₁·w ≤ k(k + w)/2 + k·w/2
+        (k * (k + w) / 2.0 + k.min(w) * w / 2.0) * elem
     }
 }
 
@@ -424,6 +644,48 @@ impl ColumnSource for Matrix {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn hermitian_panels_round_trip() {
+        // the upper panels hold the whole Hermitian matrix (definition of the storage)
+        let a = Mat::from_fn(7, 7, |i, j| {
+            let (lo, hi) = (i.min(j) as f64, i.max(j) as f64);
+            c64::new(
+                lo + 10.0 * hi,
+                if i < j {
+                    0.5
+                } else if i > j {
+                    -0.5
+                } else {
+                    0.0
+                },
+            )
+        });
+        let h = HermitianPanels::from_full(&Matrix::Complex(a.clone()), 3);
+        assert_eq!(h.panels().len(), 3);
+        let full = h.to_full();
+        for i in 0..7 {
+            for j in 0..7 {
+                assert_eq!(full.get_c(i, j), a[(i, j)]);
+                assert_eq!(h.get_c(i, j), a[(i, j)]);
+            }
+        }
+        // panels must cover the columns in order and fit their storage
+        let bad = vec![Panel {
+            cols: 0..2,
+            storage: 0,
+            offset: 0,
+        }];
+        let st = vec![Matrix::Real(Mat::zeros(3, 3))];
+        assert!(HermitianPanels::new(3, Field::Real, st.clone(), bad).is_err());
+        let wide = vec![Panel {
+            cols: 0..3,
+            storage: 0,
+            offset: 1,
+        }];
+        assert!(HermitianPanels::new(3, Field::Real, st.clone(), wide).is_err());
+        assert!(HermitianPanels::new(3, Field::Complex, st, Vec::new()).is_err());
+    }
 
     #[test]
     fn spectrum_sorting_keeps_permutation() {

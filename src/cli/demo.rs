@@ -59,9 +59,9 @@ pub fn demo_request(files: Vec<PathBuf>) -> Result<StudyRequest> {
             grid: TimeGrid::parse(DEMO_TIMES)?,
             opts: QuenchOptions {
                 drop_weight: quench::DEFAULT_DROP_WEIGHT,
-                project: budget,
                 ..QuenchOptions::default()
             },
+            budget,
         }),
         times_label: DEMO_TIMES.to_string(),
     })

@@ -55,9 +55,9 @@ impl Args {
             opts: QuenchOptions {
                 shell_half_width: self.shell_width.map(|w| 0.5 * w),
                 drop_weight: dynamics.drop_weight,
-                project: self.memory.resolve()?,
                 ..QuenchOptions::default()
             },
+            budget: self.memory.resolve()?,
         })
     }
 }

@@ -40,9 +40,9 @@ impl Args {
             grid: dynamics.grid,
             opts: QuenchOptions {
                 drop_weight: dynamics.drop_weight,
-                project: scaling.settings.budget,
                 ..QuenchOptions::default()
             },
+            budget: scaling.settings.budget,
         });
         Ok(StudyRequest {
             scaling,

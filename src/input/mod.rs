@@ -46,8 +46,8 @@
 //! range of states (ascending energy) by HDF5 hyperslab selection, mapping through
 //! the sorting permutation when the file was not sorted and reading contiguous
 //! runs of the file. Where the dataset is chunked, [`VectorReader::chunk_states`]
-//! gives the chunk extent along the state axis so that callers can choose
-//! chunk-aligned blocks ([`VectorReader::aligned_block`]).
+//! gives the chunk extent along the state axis so that callers can cut their blocks on
+//! chunk boundaries (the projector's stream does).
 //!
 //! # Checks
 //!

@@ -6,6 +6,11 @@
 //! is at most twice as wide as the request) or each contiguous run separately,
 //! so an unsorted file never forces a read of the whole dataset. Columns land in
 //! a `[dim, w]` faer matrix: column-major, so each eigenvector is contiguous.
+//!
+//! A column-layout read goes through a staging copy in the stored order, which is
+//! transposed into the block; it is cut into pieces (one chunk column of a chunked dataset,
+//! slabs of rows of [`CONTIGUOUS_PIECE_BYTES`] of a contiguous one) so that the staging
+//! copy stays small next to the block.
 
 use super::h5::{self, Element};
 use super::{Layout, Sector};
@@ -163,29 +168,48 @@ impl VectorReader {
                 let mut s0 = a;
                 while s0 < b {
                     let s1 = ((s0 / piece + 1) * piece).min(b);
-                    let arr = self.read_checked::<T>(s0, s1, &finite)?;
+                    let arr = self.read_checked::<T>(0..self.dim, s0, s1, &finite)?;
                     put_block(&arr, self.layout, dst.as_mut().subcols_mut(s0 - a, s1 - s0));
                     s0 = s1;
                 }
                 return Ok(());
             }
         }
-        let arr = self.read_checked::<T>(a, b, &finite)?;
+        // Column layout of a contiguous dataset: a block of columns is a strided selection,
+        // whose rows HDF5 gathers through its sieve buffer at the same cost whatever the
+        // cut; read it in slabs of rows of at most CONTIGUOUS_PIECE_BYTES so that the staging
+        // copy stays small next to the block.
+        if self.layout == Layout::Columns {
+            let w = b - a;
+            let budget = CONTIGUOUS_PIECE_BYTES;
+            let rows = (budget / (w * std::mem::size_of::<T>()).max(1)).clamp(1, self.dim.max(1));
+            let mut r0 = 0;
+            while r0 < self.dim {
+                let r1 = (r0 + rows).min(self.dim);
+                let arr = self.read_checked::<T>(r0..r1, a, b, &finite)?;
+                put_block(&arr, self.layout, dst.as_mut().subrows_mut(r0, r1 - r0));
+                r0 = r1;
+            }
+            return Ok(());
+        }
+        let arr = self.read_checked::<T>(0..self.dim, a, b, &finite)?;
         put_block(&arr, self.layout, dst);
         Ok(())
     }
 
-    /// Reads the file's states `a..b` (`a < b`) as stored (`[dim, w]` or `[w, dim]`) and
-    /// checks that every value is finite.
+    /// Reads the components `comps` of the file's states `a..b` (`a < b`) as stored
+    /// (`[comps, w]` or `[w, comps]`) and checks that every value is finite.
     fn read_checked<T: hdf5::H5Type + Copy + std::fmt::Display>(
         &self,
+        comps: Range<usize>,
         a: usize,
         b: usize,
         finite: &impl Fn(&T) -> bool,
     ) -> Result<Array2<T>> {
+        let c0 = comps.start;
         let arr: Array2<T> = match self.layout {
-            Layout::Columns => self.ds.read_slice_2d(s![.., a..b]),
-            Layout::Rows => self.ds.read_slice_2d(s![a..b, ..]),
+            Layout::Columns => self.ds.read_slice_2d(s![comps, a..b]),
+            Layout::Rows => self.ds.read_slice_2d(s![a..b, comps]),
         }
         .map_err(|e| {
             h5::h5err(
@@ -205,8 +229,8 @@ impl VectorReader {
             if let Some((k, x)) = arr.iter().enumerate().find(|(_, x)| !finite(x)) {
                 let (r, c) = (k / cols.max(1), k % cols.max(1));
                 let (state, comp) = match self.layout {
-                    Layout::Columns => (a + c, r),
-                    Layout::Rows => (a + r, c),
+                    Layout::Columns => (a + c, c0 + r),
+                    Layout::Rows => (a + r, c0 + c),
                 };
                 return Err(Error::dataset(
                     &self.file,
@@ -251,6 +275,11 @@ fn put_block<T: Copy + Send + Sync>(arr: &Array2<T>, layout: Layout, mut dst: Ma
         }
     }
 }
+
+/// Bytes per slab of rows of a column-layout read from a contiguous dataset: 4 MiB.
+/// Every slab of a block costs HDF5 the same scan of the file rows it spans, so the cut
+/// changes the staging memory, not the reading time.
+pub const CONTIGUOUS_PIECE_BYTES: usize = 4 << 20;
 
 /// Writes the C-order `rows × cols` slice `v` into `dst` (`rows × cols`), in tiles of
 /// 8 columns × 256 rows so that each source cache line is read once, parallel over

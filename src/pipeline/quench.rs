@@ -13,11 +13,13 @@
 use super::Inputs;
 use crate::analysis::quench::outcome::{FileResult, SectorResult};
 use crate::analysis::quench::{
-    self, state::StateSpec, QuenchOptions, QuenchReport, SectorPart, TimeGrid,
+    self, state::StateSpec, QuenchOptions, QuenchReport, SectorData, SectorPart, SectorQuench,
+    TimeGrid, Work,
 };
-use crate::data::{c64, Csr};
+use crate::data::{c64, ColumnSource, Csr, Operator};
 use crate::error::{escape, Error, Result};
 use crate::input::{EigenFile, Overrides, Sector};
+use crate::project::{self, Budget, StageTiming};
 use std::path::Path;
 
 /// What to run on one file (see [`quench_file`]).
@@ -35,6 +37,9 @@ pub struct Job<'a> {
     pub grid: TimeGrid,
     /// Analysis options.
     pub opts: &'a QuenchOptions,
+    /// Memory budget and parallelism of the passes over the eigenvectors and of the
+    /// analysis (`--memory`).
+    pub budget: Budget,
 }
 
 /// The quench of several states and observables on several files.
@@ -52,6 +57,9 @@ pub struct QuenchRequest {
     pub grid: TimeGrid,
     /// Analysis options.
     pub opts: QuenchOptions,
+    /// Memory budget and parallelism of the passes over the eigenvectors and of the
+    /// analysis (`--memory`).
+    pub budget: Budget,
 }
 
 /// Runs [`quench_file`] for every state and file: the results in the order state, file,
@@ -66,6 +74,7 @@ pub fn quench_all(req: &QuenchRequest) -> Result<Vec<FileResult>> {
             sector: req.sector.as_deref(),
             grid: req.grid,
             opts: &req.opts,
+            budget: req.budget,
         };
         for f in &req.inputs.files {
             out.extend(quench_file(f, &req.inputs.overrides, &job)?);
@@ -288,16 +297,105 @@ fn state_vector(spec: &StateSpec, full_dim: usize) -> Result<Vec<c64>> {
     }
 }
 
+/// One sector of a quench: the eigenvectors, their energies, the operators, and the
+/// state's component in the sector's computational basis.
+#[derive(Clone, Copy)]
+pub struct SectorInput<'a> {
+    /// The eigenvectors (ascending energies).
+    pub src: &'a dyn ColumnSource,
+    /// The ascending energies of the `src.n_states()` eigenvectors.
+    pub energies: &'a [f64],
+    /// The operators (one result each, in this order).
+    pub ops: &'a [&'a Operator],
+    /// The state in the sector's computational basis.
+    pub psi: &'a [c64],
+}
+
+/// What an error of [`quench_sector`] concerns.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Stage {
+    /// The eigenvectors (the passes over them, shared by the operators).
+    Eigenvectors,
+    /// The analysis of the operator with this index.
+    Observable(usize),
+}
+
+/// One sector's quench for every operator of `input`: the state pass
+/// ([`project::state_pass`]: `cₙ = vₙᴴψ` and `Aₙₙ` of every operator, the eigenvectors kept
+/// in memory when the budget allows), the kept states ([`quench::kept_states`] with
+/// `opts.drop_weight`), the kept-state matrices of all operators in one more pass
+/// ([`project::kept_matrices`]), then [`quench::analyze`] per operator with the budget's
+/// parallelism and the memory the matrices leave as scratch. Each operator's range
+/// ([`quench::operator_range`]) tightens its bound unless `opts` gives one.
+pub fn quench_sector(
+    input: &SectorInput<'_>,
+    times: &[f64],
+    opts: &QuenchOptions,
+    budget: &Budget,
+) -> std::result::Result<Vec<SectorQuench>, (Stage, Error)> {
+    let vec_err = |e| (Stage::Eigenvectors, e);
+    let src = input.src;
+    if input.energies.len() != src.n_states() {
+        return Err(vec_err(Error::other(format!(
+            "quench: {} energies but {} eigenvectors",
+            input.energies.len(),
+            src.n_states()
+        ))));
+    }
+    let mut timing = StageTiming::default();
+    let mut pass =
+        project::state_pass(src, input.ops, input.psi, budget, &mut timing).map_err(vec_err)?;
+    let weights: Vec<f64> = pass.coefficients.iter().map(|c| c.norm_sqr()).collect();
+    let kept = quench::kept_states(&weights, opts.drop_weight);
+    let matrices = project::kept_matrices(
+        src,
+        input.ops,
+        &kept.indices,
+        &mut pass,
+        budget,
+        &mut timing,
+    )
+    .map_err(vec_err)?;
+    let work = Work {
+        par: budget.par,
+        scratch_bytes: budget.bytes.saturating_sub(matrices.bytes()),
+    };
+    let mut out = Vec::with_capacity(input.ops.len());
+    for (k, ((op, a_kk), diag_all)) in input
+        .ops
+        .iter()
+        .zip(&matrices.matrices)
+        .zip(std::mem::take(&mut pass.diagonals))
+        .enumerate()
+    {
+        let mut opts = opts.clone();
+        if opts.operator_range.is_none() {
+            opts.operator_range = quench::operator_range(op);
+        }
+        let data = SectorData {
+            energies: input.energies,
+            diag_all: &diag_all,
+            coeffs: &pass.coefficients,
+            kept: &kept.indices,
+            a_kk,
+        };
+        let report =
+            quench::analyze(&data, times, &opts, work).map_err(|e| (Stage::Observable(k), e))?;
+        out.push(SectorQuench { report, diag_all });
+    }
+    Ok(out)
+}
+
 /// Runs the quench on one file for every observable of the job: the state's sector
 /// components (through the embeddings for a full-space state), the analysis of each sector
 /// with weight, their combination, and the whole-state figures. One result per observable,
 /// in the order of `job.observables` (at least one).
 ///
 /// Per sector, the eigenvectors are streamed once for the coefficients `cₙ = ⟨n|ψ⟩` and the
-/// diagonal elements of every observable, and the kept eigenvectors are gathered at most once
-/// ([`quench::prepare_sector`]); each observable then only forms its own `A_KK`. The results
-/// are those of one run per observable. All the observables of a sector are held in memory
-/// together, as in the per-sector pipeline of `study`.
+/// diagonal elements of every observable, and the kept-state matrices of all observables
+/// come from one more pass, or from the eigenvectors that pass kept ([`quench_sector`]). The
+/// results are those of one run per observable. All the observables of a sector are held in
+/// memory together, as in the per-sector pipeline of `study`.
 pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<Vec<FileResult>> {
     let (spec, grid, opts) = (job.spec, job.grid, job.opts);
     if job.observables.is_empty() {
@@ -333,28 +431,27 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         let mut ops = Vec::with_capacity(nobs);
         for name in job.observables {
             let op = file.observable(s, name)?;
-            quench::basis::check_operator(&op, &vectors).map_err(|e| e.at(path, obs_path(name)))?;
+            project::check_operator(&vectors, &op).map_err(|e| e.at(path, obs_path(name)))?;
             ops.push(op);
         }
         size = size.or(s.size);
         model = model.or_else(|| s.model.clone());
         dimension += s.dim.unwrap_or(0);
-        let refs: Vec<&crate::data::Operator> = ops.iter().collect();
-        // errors of the shared pass concern the eigenvectors (the operators are checked)
-        let (mut prepared, sector_diags) =
-            quench::prepare_sector(&vectors, &spectrum.energies, &refs, &c, opts)
-                .map_err(|e| e.at(path, format!("{group}/eigenvectors")))?;
+        let refs: Vec<&Operator> = ops.iter().collect();
+        let input = SectorInput {
+            src: &vectors,
+            energies: &spectrum.energies,
+            ops: &refs,
+            psi: &c,
+        };
+        // errors of the shared passes concern the eigenvectors (the operators are checked)
+        let quenches =
+            quench_sector(&input, &times, opts, &job.budget).map_err(|(st, e)| match st {
+                Stage::Eigenvectors => e.at(path, format!("{group}/eigenvectors")),
+                Stage::Observable(k) => e.at(path, obs_path(&job.observables[k])),
+            })?;
         let mut captured = None;
-        for (k, ((name, op), diag)) in job
-            .observables
-            .iter()
-            .zip(&ops)
-            .zip(sector_diags)
-            .enumerate()
-        {
-            let sq = prepared
-                .quench(&vectors, &spectrum.energies, op, diag, &times, opts)
-                .map_err(|e| e.at(path, obs_path(name)))?;
+        for (k, sq) in quenches.into_iter().enumerate() {
             let cap = *captured.get_or_insert(sq.report.norm / weight);
             diags[k].push(sq.diag_all);
             results[k].push(SectorResult {

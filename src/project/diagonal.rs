@@ -5,6 +5,11 @@
 //! Cost per state: `O(nnz)` for diagonal and CSR operators (`⟨n|A|n⟩` is formed column by
 //! column without storing `A V`), `2·dim²` flops for a dense one. Diagonal and CSR passes
 //! gain nothing from wide blocks, so their blocks are kept near [`DIAG_BLOCK_BYTES`].
+//!
+//! The same pass serves a caller that needs every block once more, e.g. for the
+//! coefficients `V_Bᴴψ` of a state ([`super::kept`]): each block goes to its consumer after
+//! its diagonal elements, and comes back to the reader for refilling unless the consumer
+//! keeps it.
 
 use super::budget::{block_size, Budget};
 use super::kernels::{apply_into, check_inputs, expectations, prepare, Elem, GROUP};
@@ -12,6 +17,7 @@ use super::result_field;
 use super::stream::{blocks, with_prefetch, StageTiming};
 use crate::data::{c64, ColumnSource, Field, OpData, Operator};
 use crate::error::{Error, Result};
+use faer::Mat;
 use rayon::prelude::*;
 use serde::Serialize;
 use std::borrow::Cow;
@@ -45,10 +51,18 @@ pub fn project_diagonal_timed(
         return Ok(Vec::new());
     }
     match result_field(src, ops) {
-        Field::Real => diag_stream::<f64>(src, &prepare::<f64>(ops)?, range, budget, timing),
-        Field::Complex => diag_stream::<c64>(src, &prepare::<c64>(ops)?, range, budget, timing),
+        Field::Real => diag_stream::<f64>(src, &prepare::<f64>(ops)?, range, budget, timing, None),
+        Field::Complex => {
+            diag_stream::<c64>(src, &prepare::<c64>(ops)?, range, budget, timing, None)
+        }
     }
 }
+
+/// A consumer of the eigenvector blocks of a diagonal pass ([`diag_stream`]): it gets each
+/// block (the states `range`, `dim × range.len()`) after the diagonal elements, and returns
+/// it to be refilled by the reader, or `None` when it keeps it.
+pub(crate) type BlockConsumer<'a, T> =
+    &'a mut dyn FnMut(&Range<usize>, Mat<T>) -> Result<Option<Mat<T>>>;
 
 /// Which states' diagonal elements `Aₙₙ` the thermal predictions use.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -85,20 +99,26 @@ pub fn auto_prediction_states(ops: &[&Operator], dim: usize, n: usize) -> Predic
 /// block size is forced: 64 MiB.
 pub const DIAG_BLOCK_BYTES: usize = 64 << 20;
 
-fn diag_stream<T: Elem>(
+/// The diagonal pass: `A_nn` of every operator for the states `range`, one block of
+/// eigenvectors at a time, each block then handed to `consumer` when one is given (the
+/// eigenvectors are read even when no operator needs them). The block widths follow the
+/// rule of the module doc.
+pub(crate) fn diag_stream<T: Elem>(
     src: &dyn ColumnSource,
     ops: &[Cow<'_, OpData<T>>],
     range: Range<usize>,
     budget: &Budget,
     timing: &mut StageTiming,
+    mut consumer: Option<BlockConsumer<'_, T>>,
 ) -> Result<Vec<Vec<f64>>> {
     let mut out: Vec<Vec<f64>> = ops
         .iter()
         .map(|_| Vec::with_capacity(range.len()))
         .collect();
-    let needs_vectors = ops
-        .iter()
-        .any(|o| !matches!(o.as_ref(), OpData::EnergyBasis(_)));
+    let needs_vectors = consumer.is_some()
+        || ops
+            .iter()
+            .any(|o| !matches!(o.as_ref(), OpData::EnergyBasis(_)));
     let dim = if needs_vectors { src.dim() } else { 0 };
     // only dense operators need a product buffer
     let n_dense = ops
@@ -138,6 +158,7 @@ fn diag_stream<T: Elem>(
     };
     let pb = crate::progress::bar(bl.len() as u64, "diagonal");
     let mut project_s = 0.0;
+    let mut sink_s = 0.0;
     with_prefetch::<T, ()>(src, reads, timing, |fetch| {
         for r in &bl {
             let v = if needs_vectors {
@@ -150,7 +171,7 @@ fn diag_stream<T: Elem>(
                 match (op.as_ref(), &v) {
                     (OpData::EnergyBasis(a), _) => o.extend(r.clone().map(|n| a[(n, n)].re())),
                     (OpData::Dense(_), Some(v)) => {
-                        apply_into(op.as_ref(), v, &mut buf, budget.par);
+                        apply_into(op.as_ref(), v.as_ref(), &mut buf, budget.par);
                         let av = &buf[..dim * r.len()];
                         let d: Vec<f64> = (0..r.len())
                             .into_par_iter()
@@ -181,7 +202,13 @@ fn diag_stream<T: Elem>(
                 }
             }
             project_s += t.elapsed().as_secs_f64();
-            if let Some(m) = v {
+            let t = std::time::Instant::now();
+            let back = match (v, consumer.as_mut()) {
+                (Some(m), Some(c)) => c(r, m)?,
+                (v, _) => v,
+            };
+            sink_s += t.elapsed().as_secs_f64();
+            if let Some(m) = back {
                 fetch.recycle(m);
             }
             pb.inc(1);
@@ -189,6 +216,7 @@ fn diag_stream<T: Elem>(
         Ok(())
     })?;
     timing.project_seconds += project_s;
+    timing.sink_seconds += sink_s;
     pb.finish_and_clear();
     Ok(out)
 }

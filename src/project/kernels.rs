@@ -30,6 +30,8 @@ pub(crate) fn elem_size(f: Field) -> usize {
 
 /// Scalar types of the projector (f64 and c64).
 pub(crate) trait Elem: Copy + Send + Sync + Default + std::fmt::Debug + 'static {
+    /// The element type as a [`Field`].
+    fn field() -> Field;
     fn zero() -> Self;
     fn conj(self) -> Self;
     fn mul(self, o: Self) -> Self;
@@ -43,7 +45,18 @@ pub(crate) trait Elem: Copy + Send + Sync + Default + std::fmt::Debug + 'static 
         par: Par,
     );
     /// `aᴴ · b`, parallel.
-    fn adj_product(a: MatRef<'_, Self>, b: MatRef<'_, Self>, par: Par) -> Mat<Self>;
+    fn adj_product(a: MatRef<'_, Self>, b: MatRef<'_, Self>, par: Par) -> Mat<Self> {
+        let mut d = Mat::from_fn(a.ncols(), b.ncols(), |_, _| Self::zero());
+        Self::adj_product_into(d.as_mut(), a, b, par);
+        d
+    }
+    /// `dst = aᴴ · b`, parallel, into a preallocated output.
+    fn adj_product_into(
+        dst: faer::MatMut<'_, Self>,
+        a: MatRef<'_, Self>,
+        b: MatRef<'_, Self>,
+        par: Par,
+    );
     /// `aᴴ · a`-shaped Hermitian block `aᴴ · b` of a diagonal block pair: only the
     /// upper triangle is computed (half the flops), the lower one is its adjoint.
     fn adj_product_hermitian(a: MatRef<'_, Self>, b: MatRef<'_, Self>, par: Par) -> Mat<Self> {
@@ -70,6 +83,9 @@ pub(crate) trait Elem: Copy + Send + Sync + Default + std::fmt::Debug + 'static 
 }
 
 impl Elem for f64 {
+    fn field() -> Field {
+        Field::Real
+    }
     fn zero() -> Self {
         0.0
     }
@@ -88,10 +104,13 @@ impl Elem for f64 {
     fn product_into(dst: faer::MatMut<'_, f64>, a: MatRef<'_, f64>, b: MatRef<'_, f64>, par: Par) {
         matmul(dst, Accum::Replace, a, b, 1.0, par);
     }
-    fn adj_product(a: MatRef<'_, f64>, b: MatRef<'_, f64>, par: Par) -> Mat<f64> {
-        let mut d = Mat::zeros(a.ncols(), b.ncols());
-        matmul(d.as_mut(), Accum::Replace, a.transpose(), b, 1.0, par);
-        d
+    fn adj_product_into(
+        dst: faer::MatMut<'_, f64>,
+        a: MatRef<'_, f64>,
+        b: MatRef<'_, f64>,
+        par: Par,
+    ) {
+        matmul(dst, Accum::Replace, a.transpose(), b, 1.0, par);
     }
     fn upper_adj_into(
         dst: faer::MatMut<'_, f64>,
@@ -134,6 +153,9 @@ impl Elem for f64 {
 }
 
 impl Elem for c64 {
+    fn field() -> Field {
+        Field::Complex
+    }
     fn zero() -> Self {
         c64::new(0.0, 0.0)
     }
@@ -152,17 +174,13 @@ impl Elem for c64 {
     fn product_into(dst: faer::MatMut<'_, c64>, a: MatRef<'_, c64>, b: MatRef<'_, c64>, par: Par) {
         matmul(dst, Accum::Replace, a, b, c64::new(1.0, 0.0), par);
     }
-    fn adj_product(a: MatRef<'_, c64>, b: MatRef<'_, c64>, par: Par) -> Mat<c64> {
-        let mut d = Mat::zeros(a.ncols(), b.ncols());
-        matmul(
-            d.as_mut(),
-            Accum::Replace,
-            a.adjoint(),
-            b,
-            c64::new(1.0, 0.0),
-            par,
-        );
-        d
+    fn adj_product_into(
+        dst: faer::MatMut<'_, c64>,
+        a: MatRef<'_, c64>,
+        b: MatRef<'_, c64>,
+        par: Par,
+    ) {
+        matmul(dst, Accum::Replace, a.adjoint(), b, c64::new(1.0, 0.0), par);
     }
     fn upper_adj_into(
         dst: faer::MatMut<'_, c64>,
@@ -236,6 +254,11 @@ pub(crate) fn check_inputs(
     }
     let dim = src.dim();
     for (k, op) in ops.iter().enumerate() {
+        let name = if ops.len() == 1 {
+            "the observable".to_string()
+        } else {
+            format!("observable {k}")
+        };
         let (form, shape) = match op {
             Operator::Real(d) => (d.form(), op_shape(d)?),
             Operator::Complex(d) => (d.form(), op_shape(d)?),
@@ -245,14 +268,14 @@ pub(crate) fn check_inputs(
             crate::data::OperatorForm::EnergyBasis => {
                 if r != c || r < n {
                     return Err(Error::other(format!(
-                        "observable {k} in the energy basis is {r}×{c}, expected {n}×{n}"
+                        "{name} in the energy basis is {r}×{c}, expected {n}×{n}"
                     )));
                 }
             }
             _ => {
                 if r != dim || c != dim {
                     return Err(Error::other(format!(
-                        "observable {k} ({form}) acts on dimension {r}×{c}, the eigenvectors have dimension {dim}"
+                        "{name} ({form}) acts on dimension {r}×{c}, the eigenvectors have dimension {dim}"
                     )));
                 }
             }
@@ -280,11 +303,22 @@ pub(crate) fn op_shape<T>(d: &OpData<T>) -> Result<(usize, usize)> {
 /// CSR arrays are streamed once per group instead of once per column.
 pub(crate) const GROUP: usize = 8;
 
-/// `out = A V` for a block of eigenvectors `v` (`dim × w`) into the column-major
-/// buffer `out` (length `≥ dim·w`, columns of stride `dim`). Returns false for
-/// energy-basis operators (nothing to apply). Parallel over groups of columns; no
-/// allocation in the inner loops.
-pub(crate) fn apply_into<T: Elem>(op: &OpData<T>, v: &Mat<T>, out: &mut [T], par: Par) -> bool {
+/// Column `j` of a view whose columns are contiguous (every block and column range of a
+/// [`Mat`] is).
+pub(crate) fn col_slice<'a, T>(v: MatRef<'a, T>, j: usize) -> Option<&'a [T]> {
+    v.col(j).try_as_col_major().map(|c| c.as_slice())
+}
+
+/// `out = A V` for a block of eigenvectors `v` (`dim × w`, e.g. a column range of a
+/// block) into the column-major buffer `out` (length `≥ dim·w`, columns of stride `dim`).
+/// Returns false for energy-basis operators (nothing to apply). Parallel over groups of
+/// columns; no allocation in the inner loops.
+pub(crate) fn apply_into<T: Elem>(
+    op: &OpData<T>,
+    v: MatRef<'_, T>,
+    out: &mut [T],
+    par: Par,
+) -> bool {
     let (dim, w) = (v.nrows(), v.ncols());
     if matches!(op, OpData::EnergyBasis(_)) {
         return false;
@@ -292,11 +326,20 @@ pub(crate) fn apply_into<T: Elem>(op: &OpData<T>, v: &Mat<T>, out: &mut [T], par
     if dim == 0 || w == 0 {
         return true;
     }
+    // views with strided columns (never made by the passes) are copied first
+    let owned;
+    let v = if (0..w).all(|j| col_slice(v, j).is_some()) {
+        v
+    } else {
+        owned = v.to_owned();
+        owned.as_ref()
+    };
+    let col = |j: usize| col_slice(v, j).unwrap_or(&[]);
     let out = &mut out[..dim * w];
     match op {
         OpData::Diagonal(d) => {
             out.par_chunks_mut(dim).enumerate().for_each(|(j, o)| {
-                for ((o, &x), &di) in o.iter_mut().zip(v.col_as_slice(j)).zip(d) {
+                for ((o, &x), &di) in o.iter_mut().zip(col(j)).zip(d) {
                     *o = di.mul(x);
                 }
             });
@@ -304,16 +347,15 @@ pub(crate) fn apply_into<T: Elem>(op: &OpData<T>, v: &Mat<T>, out: &mut [T], par
         }
         OpData::Dense(a) => {
             let dst = faer::MatMut::from_column_major_slice_mut(out, dim, w);
-            T::product_into(dst, a.as_ref(), v.as_ref(), par);
+            T::product_into(dst, a.as_ref(), v, par);
             true
         }
         OpData::Csr(s) => {
             out.par_chunks_mut(dim * GROUP).enumerate().for_each_init(
                 || vec![T::zero(); dim * GROUP],
                 |x, (g, o)| {
-                    let cols: Vec<&[T]> = (g * GROUP..(g * GROUP + GROUP).min(w))
-                        .map(|j| v.col_as_slice(j))
-                        .collect();
+                    let cols: Vec<&[T]> =
+                        (g * GROUP..(g * GROUP + GROUP).min(w)).map(col).collect();
                     csr_apply_group(s, &cols, x, |i, acc| {
                         for (c, oc) in o.chunks_mut(dim).enumerate() {
                             oc[i] = acc[c];

@@ -45,10 +45,12 @@
 //! **Files.** [`budget`]: the memory budget and block widths; [`kernels`]: `A·V` per
 //! operator form and the shape checks; [`stream`]: the prefetching reader every pass goes
 //! through; [`pairs`]: block pairs and whole windows; [`diagonal`]: diagonal elements and
-//! the prediction policy.
+//! the prediction policy; [`kept`]: the passes of a quench (a state's coefficients with the
+//! diagonal elements, and the operators over the kept states).
 
 pub mod budget;
 pub mod diagonal;
+pub mod kept;
 mod kernels;
 pub mod pairs;
 pub mod stream;
@@ -58,6 +60,7 @@ pub use diagonal::{
     auto_prediction_states, project_diagonal, project_diagonal_timed, PredictionStates,
     AUTO_ALL_STATES_MAX_FLOPS, DIAG_BLOCK_BYTES,
 };
+pub use kept::{kept_matrices, state_pass, Kept, KeptPath, StatePass};
 pub use pairs::{for_each_block, for_each_block_timed, project_window};
 pub use stream::StageTiming;
 
@@ -112,6 +115,13 @@ impl BlockPair {
     pub fn is_diagonal(&self) -> bool {
         self.rows == self.cols
     }
+}
+
+/// Checks that `op` can act on the eigenvectors of `src`: `dim × dim` for an operator in
+/// the computational basis, at least `n × n` for one in the energy basis, and a consistent
+/// CSR structure ([`crate::data::Csr::check`]).
+pub fn check_operator(src: &dyn ColumnSource, op: &Operator) -> Result<()> {
+    kernels::check_inputs(src, &[op], &(0..0))
 }
 
 /// Element type of the projected matrices: real only when the eigenvectors and all

@@ -184,7 +184,7 @@ fn pair_stream<T: Elem>(
             let t = std::time::Instant::now();
             if let Some(vj) = &vj {
                 for (op, buf) in ops.iter().zip(bufs.iter_mut()) {
-                    apply_into(op.as_ref(), vj, buf, budget.par);
+                    apply_into(op.as_ref(), vj.as_ref(), buf, budget.par);
                 }
             }
             project_s += t.elapsed().as_secs_f64();

@@ -291,13 +291,13 @@ fn study_with_several_observables_matches_single_observable_runs() {
                     .map(|s| (s.clone(), StateSpec::parse(s).unwrap()))
                     .collect(),
                 grid: TimeGrid::parse("lin:0:10:21").unwrap(),
-                // the default drop leaves a scattered set of kept states, whose eigenvectors
-                // are gathered once and shared by the observables
+                // the default drop leaves a scattered set of kept states; one pass forms the
+                // kept-state matrices of all the observables
                 opts: QuenchOptions {
                     drop_weight: eigentherm::analysis::quench::DEFAULT_DROP_WEIGHT,
-                    project: budget,
                     ..QuenchOptions::default()
                 },
+                budget,
             }),
             times_label: "lin:0:10:21".to_string(),
         };

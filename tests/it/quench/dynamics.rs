@@ -1,9 +1,35 @@
 //! Quench dynamics checked against analytic results and exact identities.
 
-use eigentherm::analysis::quench::{self, state, QuenchOptions, TimeGrid};
-use eigentherm::data::{c64, Csr, Matrix, OpData, Operator};
+use eigentherm::analysis::quench::{self, state, QuenchOptions, SectorQuench, TimeGrid};
+use eigentherm::data::{c64, ColumnSource, Csr, Matrix, OpData, Operator};
 use eigentherm::linalg::eigh_real;
+use eigentherm::pipeline::quench::SectorInput;
+use eigentherm::project::Budget;
 use faer::Mat;
+
+/// One sector's quench of one operator, through the passes over the eigenvectors
+/// (`pipeline::quench::quench_sector`) under the default budget.
+fn quench_sector(
+    src: &dyn ColumnSource,
+    energies: &[f64],
+    op: &Operator,
+    psi: &[c64],
+    times: &[f64],
+    opts: &QuenchOptions,
+) -> SectorQuench {
+    let ops = [op];
+    let input = SectorInput {
+        src,
+        energies,
+        ops: &ops,
+        psi,
+    };
+    eigentherm::pipeline::quench::quench_sector(&input, times, opts, &Budget::default())
+        .map_err(|(_, e)| e)
+        .unwrap()
+        .pop()
+        .unwrap()
+}
 
 /// σˣ (real) or σʸ (complex) on `site` (0-based bit) of an L-site chain, CSR, in the basis
 /// where bit i = 1 is spin up on site i+1.
@@ -53,7 +79,7 @@ fn rabi_oscillation_of_a_two_level_system() {
     let sz = Operator::Real(OpData::Diagonal(vec![-1.0, 1.0]));
     let psi = [c64::new(0.0, 0.0), c64::new(1.0, 0.0)];
     let times = TimeGrid::parse("lin:0:20:201").unwrap().points();
-    let r = quench::quench_sector(
+    let r = quench_sector(
         &Matrix::Real(v),
         &e,
         &sz,
@@ -61,7 +87,6 @@ fn rabi_oscillation_of_a_two_level_system() {
         &times,
         &QuenchOptions::default(),
     )
-    .unwrap()
     .report;
     let wr = (delta * delta + omega * omega).sqrt();
     let mut worst = 0.0f64;
@@ -102,12 +127,8 @@ fn free_spin_precession_from_a_product_state_along_x() {
     let opts = QuenchOptions::default();
     let sx = Operator::Real(OpData::Csr(flip_csr(l, 1)));
     let sy = Operator::Complex(OpData::Csr(sigma_y_csr(l, 1)));
-    let rx = quench::quench_sector(&v, &e, &sx, &psi, &times, &opts)
-        .unwrap()
-        .report;
-    let ry = quench::quench_sector(&v, &e, &sy, &psi, &times, &opts)
-        .unwrap()
-        .report;
+    let rx = quench_sector(&v, &e, &sx, &psi, &times, &opts).report;
+    let ry = quench_sector(&v, &e, &sy, &psi, &times, &opts).report;
     for (px, py) in rx.trace.iter().zip(&ry.trace) {
         assert!(
             (px.value - (2.0 * h * px.t).cos()).abs() < 1e-12,
@@ -149,7 +170,7 @@ fn goe_quench_equilibrates_to_the_diagonal_ensemble() {
         .collect();
     let op = Operator::Real(OpData::Diagonal(d));
     let times = TimeGrid::parse("lin:0:4000:2001").unwrap().points();
-    let r = quench::quench_sector(
+    let r = quench_sector(
         &Matrix::Real(v),
         &e,
         &op,
@@ -157,7 +178,6 @@ fn goe_quench_equilibrates_to_the_diagonal_ensemble() {
         &times,
         &QuenchOptions::default(),
     )
-    .unwrap()
     .report;
     // Σ|cₙ|² = 1 for a normalised state and an orthonormal basis (exact identity, VᴴV = 1)
     assert!((r.norm - 1.0).abs() < 1e-12, "norm {}", r.norm);
@@ -220,12 +240,8 @@ fn dropping_small_weights_keeps_the_trace_within_its_bound() {
         drop_weight: 1e-4,
         ..QuenchOptions::default()
     };
-    let a = quench::quench_sector(&src, &e, &op, &psi, &times, &full)
-        .unwrap()
-        .report;
-    let b = quench::quench_sector(&src, &e, &op, &psi, &times, &cut)
-        .unwrap()
-        .report;
+    let a = quench_sector(&src, &e, &op, &psi, &times, &full).report;
+    let b = quench_sector(&src, &e, &op, &psi, &times, &cut).report;
     assert!(b.kept < a.kept && b.weight_kept >= 1.0 - 1e-4);
     // the row-cut bound uses ‖A_KK‖ ≤ ‖A‖ = max|cos| ≤ 1: check with ‖A‖ ≤ 1 directly
     let delta = 1.0 - b.weight_kept;
@@ -265,7 +281,7 @@ fn chain_quench(
         }
         let op = &s.observables.iter().find(|o| o.name == obs).unwrap().op;
         let v = s.eigenvectors.as_ref().unwrap();
-        let sq = quench::quench_sector(v, &s.energies, op, &c, &times, &opts).unwrap();
+        let sq = quench_sector(v, &s.energies, op, &c, &times, &opts);
         diags.push((s.energies.clone(), sq.diag_all));
         out.push((w, sq.report));
     }
