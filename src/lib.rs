@@ -14,7 +14,7 @@
 //! - [`report`]: JSON, tables, SVG figures and the HTML report;
 //! - [`pipeline`]: the only stage that calls both input and analysis: per-sector
 //!   pipeline, quench over sectors, study;
-//! - [`cli`]: clap definitions, flags resolved into the option structs above.
+//! - [`cli`]: the command-line definitions, flags resolved into the option structs above.
 //!
 //! Results are numerical evidence about finite systems, not proofs.
 

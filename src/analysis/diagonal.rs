@@ -202,6 +202,29 @@ pub fn analyze_window(
     )
 }
 
+/// The caveat of the predictions: a partial eigenbasis, or predictions from the window only.
+fn prediction_note(
+    partial: bool,
+    all_states: bool,
+    n: usize,
+    dim: Option<usize>,
+    covered: usize,
+) -> Option<String> {
+    let mut notes = Vec::new();
+    if partial {
+        notes.push(format!(
+            "partial eigenbasis ({n} of {} states): the canonical prediction sums over the available states only and is unreliable",
+            dim.unwrap_or(n)
+        ));
+    }
+    if !all_states {
+        notes.push(format!(
+            "predictions from the window's {covered} states only: the microcanonical shell is cut at the window's edges and the canonical prediction (a sum over all {n} states) is not computed"
+        ));
+    }
+    (!notes.is_empty()).then(|| notes.join("; "))
+}
+
 /// Common body: `diag[k]` is `A_nn` of state `offset + k`; the predictions use every
 /// state `diag` covers (all of them when `offset = 0` and `diag.len() = n`).
 fn analyze_impl(
@@ -315,20 +338,7 @@ fn analyze_impl(
         })
     };
     let partial = dim.is_some_and(|d| n < d);
-    let mut notes = Vec::new();
-    if partial {
-        notes.push(format!(
-            "partial eigenbasis ({n} of {} states): the canonical prediction sums over the available states only and is unreliable",
-            dim.unwrap_or(n)
-        ));
-    }
-    if !all_states {
-        notes.push(format!(
-            "predictions from the window's {} states only: the microcanonical shell is cut at the window's edges and the canonical prediction (a sum over all {n} states) is not computed",
-            diag.len()
-        ));
-    }
-    let note = (!notes.is_empty()).then(|| notes.join("; "));
+    let note = prediction_note(partial, all_states, n, dim, diag.len());
     Ok(DiagonalResult {
         name: name.to_string(),
         window: window_label.to_string(),

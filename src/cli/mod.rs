@@ -53,6 +53,12 @@ pub enum Command {
     Study(study::Args),
 }
 
+/// The command line of this process, parsed (help, version and usage errors end the
+/// process here, with clap's own exit statuses 0 and 2).
+pub fn parse() -> Cli {
+    Cli::parse()
+}
+
 /// Sets the size of the global thread pool (once, before any parallel work).
 fn set_threads(threads: Option<usize>) -> Result<()> {
     let Some(n) = threads else { return Ok(()) };

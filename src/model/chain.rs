@@ -287,6 +287,23 @@ pub fn build_chain(spec: &ChainSpec) -> Result<Vec<SectorData>> {
         .collect())
 }
 
+/// The support of the site observables in words, the same for every chain length whose
+/// operator is the same: `centre site`, `two centre sites (average)` (an even chain's
+/// reflection sectors), or the site numbers otherwise.
+fn observable_support(spec: &ChainSpec, symmetrised: bool) -> String {
+    let site = observable_site(spec);
+    let mirror = spec.sites + 1 - site;
+    match (
+        symmetrised && mirror != site,
+        site == spec.sites.div_ceil(2),
+    ) {
+        (false, true) => "centre site".to_string(),
+        (true, true) => "two centre sites (average)".to_string(),
+        (false, false) => format!("site {site} of {}", spec.sites),
+        (true, false) => format!("sites {site} and {mirror} of {} (average)", spec.sites),
+    }
+}
+
 /// [`build_chain`], also returning the time spent on each sector (projection and
 /// diagonalisation; the shared full-space assembly is counted in the first sector).
 pub fn build_chain_timed(spec: &ChainSpec) -> Result<Vec<(SectorData, std::time::Duration)>> {
@@ -349,17 +366,7 @@ pub fn build_chain_timed(spec: &ChainSpec) -> Result<Vec<(SectorData, std::time:
                 notes.push((format!("observables/{name}"), note.to_string()));
             }
         }
-        let osite = observable_site(spec);
-        let mirror = spec.sites + 1 - osite;
-        let support = match (
-            symmetrised && mirror != osite,
-            osite == spec.sites.div_ceil(2),
-        ) {
-            (false, true) => "centre site".to_string(),
-            (true, true) => "two centre sites (average)".to_string(),
-            (false, false) => format!("site {osite} of {}", spec.sites),
-            (true, false) => format!("sites {osite} and {mirror} of {} (average)", spec.sites),
-        };
+        let support = observable_support(spec, symmetrised);
         let supports: Vec<(String, String)> = ["sz_site", "sx_site"]
             .iter()
             .map(|n| (format!("observables/{n}"), support.clone()))

@@ -224,14 +224,9 @@ pub struct QuenchReport {
     pub fluctuations: FluctuationPoint,
 }
 
-/// Runs the quench analysis on the plain data of one sector, on the time grid `times`
-/// (finite, ascending), with the parallelism and scratch memory `work`.
-pub fn analyze(
-    data: &SectorData<'_>,
-    times: &[f64],
-    opts: &QuenchOptions,
-    work: Work,
-) -> Result<QuenchReport> {
+/// The shapes and values [`analyze`] needs: matching lengths, ascending kept states,
+/// finite numbers, ascending finite times.
+fn check_data(data: &SectorData<'_>, times: &[f64]) -> Result<()> {
     let SectorData {
         energies,
         diag_all,
@@ -275,6 +270,26 @@ pub fn analyze(
     if times.iter().any(|t| !t.is_finite()) || times.windows(2).any(|w| w[0] > w[1]) {
         return Err(Error::other("quench: times must be finite and ascending"));
     }
+    Ok(())
+}
+
+/// Runs the quench analysis on the plain data of one sector, on the time grid `times`
+/// (finite, ascending), with the parallelism and scratch memory `work`.
+pub fn analyze(
+    data: &SectorData<'_>,
+    times: &[f64],
+    opts: &QuenchOptions,
+    work: Work,
+) -> Result<QuenchReport> {
+    let SectorData {
+        energies,
+        diag_all,
+        coeffs,
+        kept,
+        a_kk,
+    } = *data;
+    let n = energies.len();
+    check_data(data, times)?;
     let norm: f64 = coeffs.iter().map(|c| c.norm_sqr()).sum();
     if norm <= 0.0 {
         return Err(Error::other(
