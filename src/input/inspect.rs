@@ -79,10 +79,11 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
             if s.eigenvectors_path.is_some() {
                 let reader = file.vectors(s, &spec)?;
                 let k = validate::sample_within(file.limit(), reader.dim());
-                v.orthonormality = Some(validate::orthonormality(
+                v.orthonormality = Some(validate::check_basis(
                     &reader,
                     k,
                     validate::ortho_tolerance(s),
+                    file.limit(),
                 )?);
                 if let Some(h) = file.hamiltonian(s)? {
                     v.operators_checked += 1;

@@ -104,9 +104,14 @@ fn format_sector(o: &mut String, r: &SectorSummary) {
             Some(c) => {
                 let _ = writeln!(
                     o,
-                    "    verify        orthonormality max|V^H V - 1| = {:.3e} over {} sampled states (tolerance {:e}): {}",
+                    "    verify        orthonormality max|V^H V - 1| = {:.3e} over {} sampled states{} (tolerance {:e}): {}",
                     c.max_error,
                     c.sample,
+                    if c.cross > 0 {
+                        format!(", {} of them against all {}", c.cross, c.states)
+                    } else {
+                        String::new()
+                    },
                     c.tolerance,
                     if c.pass { "pass" } else { "FAIL" }
                 );

@@ -5,5 +5,6 @@ mod fixtures;
 mod limits;
 mod links;
 mod names;
+mod orthonormal;
 mod roundtrip;
 mod stream_file;
