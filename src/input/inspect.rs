@@ -100,8 +100,10 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
         } else {
             None
         };
+        let mut sector = s.clone();
+        (sector.layout, sector.layout_source) = file.layout(s)?;
         sectors.push(SectorSummary {
-            sector: s.clone(),
+            sector,
             energy_min: spec.energies.first().copied().unwrap_or(f64::NAN),
             energy_max: spec.energies.last().copied().unwrap_or(f64::NAN),
             sorted: spec.was_sorted(),

@@ -225,7 +225,7 @@ pub fn cross_overlap(src: &dyn ColumnSource, idx: &[usize], limit: &Limit) -> Re
 }
 
 /// `y = H x` for a computational-basis operator (complex arithmetic).
-fn apply(h: &Operator, x: &[c64]) -> Result<Vec<c64>> {
+pub(super) fn apply(h: &Operator, x: &[c64]) -> Result<Vec<c64>> {
     fn go<T: Copy>(d: &OpData<T>, x: &[c64], c: impl Fn(T) -> c64) -> Result<Vec<c64>> {
         let n = x.len();
         match d {

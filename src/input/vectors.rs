@@ -52,6 +52,7 @@ impl VectorReader {
         f: &hdf5::File,
         sector: &Sector,
         spectrum: &Spectrum,
+        layout: Layout,
         limit: &super::Limit,
     ) -> Result<VectorReader> {
         let (Some(path), Some(dim), Some(element)) =
@@ -89,7 +90,7 @@ impl VectorReader {
             "for the four eigenvectors a pass holds at least",
         )?;
         h5::require_written(file, path, &ds)?;
-        let axis = match sector.layout {
+        let axis = match layout {
             Layout::Columns => 1,
             Layout::Rows => 0,
         };
@@ -98,7 +99,7 @@ impl VectorReader {
             file: file.to_path_buf(),
             path: path.clone(),
             ds,
-            layout: sector.layout,
+            layout,
             dim,
             n: sector.n_states,
             field: element.field(),

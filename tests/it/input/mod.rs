@@ -2,6 +2,7 @@
 
 mod embedding;
 mod fixtures;
+mod layout;
 mod limits;
 mod links;
 mod names;

@@ -18,7 +18,7 @@ fn write(dir: &Path, name: &str, spoil: impl Fn(&mut Array2<f64>)) -> PathBuf {
     let mut vv = Array2::from_shape_fn((N, N), |(i, j)| v[(i, j)]);
     spoil(&mut vv);
     let p = dir.join(name);
-    let f = hdf5::File::create(&p).unwrap();
+    let f = crate::util::create_h5(&p);
     f.new_dataset_builder()
         .with_data(&Array1::from(e))
         .create("energies")
