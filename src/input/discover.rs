@@ -5,7 +5,7 @@
 //! surface when the file is opened, not in the middle of an analysis.
 
 use super::h5::{self, attr_count, attr_counts, attr_string, format_shape, Element};
-use super::{Layout, ObservableInfo, Overrides, Sector, StateInfo};
+use super::{Layout, LayoutSource, ObservableInfo, Overrides, Sector, StateInfo};
 use crate::data::{Field, OperatorForm};
 use crate::error::{Error, Result};
 use hdf5::LocationType;
@@ -259,6 +259,7 @@ fn describe(
         dim,
         element,
         layout,
+        layout_source,
         chunk,
         filters,
     } = v;
@@ -277,6 +278,7 @@ fn describe(
         dim,
         field: element.map(Element::field),
         layout,
+        layout_source,
         states: state_info.iter().map(|s| s.name.clone()).collect(),
         has_hamiltonian: hamiltonian.is_some(),
         observables,
@@ -360,6 +362,7 @@ struct Vectors {
     dim: Option<usize>,
     element: Option<Element>,
     layout: Layout,
+    layout_source: LayoutSource,
     chunk: Option<Vec<usize>>,
     filters: Vec<String>,
 }
@@ -385,26 +388,20 @@ fn describe_vectors(
         dim: None,
         element: None,
         layout: ov.layout.unwrap_or(Layout::Columns),
+        layout_source: if ov.layout.is_some() {
+            LayoutSource::Option
+        } else {
+            LayoutSource::Assumed
+        },
         chunk: None,
         filters: Vec::new(),
     };
     if let Some(vp) = &vpath {
         let ds = open_ds(file, f, vp)?;
         let el = h5::element(file, vp, &ds)?;
-        if let Some(l) = attr_string(file, vp, &ds, "layout")? {
-            v.layout = match l.as_str() {
-                "rows" => Layout::Rows,
-                "columns" => Layout::Columns,
-                other => {
-                    return Err(Error::dataset(
-                        file,
-                        vp,
-                        format!(
-                            "attribute layout = \"{other}\" is neither \"rows\" nor \"columns\""
-                        ),
-                    ))
-                }
-            };
+        if let Some(l) = layout_attribute(file, vp, &ds)? {
+            v.layout = l;
+            v.layout_source = LayoutSource::Attribute;
         }
         let shape = ds.shape();
         if shape.len() != 2 {
@@ -449,12 +446,33 @@ fn describe_vectors(
                 format!("{n} eigenvectors cannot be orthonormal in dimension {d}"),
             ));
         }
+        if shape[0] != shape[1] && v.layout_source == LayoutSource::Assumed {
+            // only one reading matches the number of energies
+            v.layout_source = LayoutSource::Shape;
+        }
         v.dim = Some(d);
         v.element = Some(el);
         v.chunk = ds.chunk();
         v.filters = ds.filters().iter().map(filter_name).collect();
     }
     Ok(v)
+}
+
+/// The attribute `layout` of the eigenvector dataset, when it has one.
+fn layout_attribute(file: &Path, vp: &str, ds: &hdf5::Dataset) -> Result<Option<Layout>> {
+    match attr_string(file, vp, ds, "layout")?.as_deref() {
+        None => Ok(None),
+        Some("rows") => Ok(Some(Layout::Rows)),
+        Some("columns") => Ok(Some(Layout::Columns)),
+        Some(other) => Err(Error::dataset(
+            file,
+            vp,
+            format!(
+                "attribute layout = \"{}\" is neither \"rows\" nor \"columns\"",
+                crate::error::escape(other)
+            ),
+        )),
+    }
 }
 
 /// The observables of a sector (under `observables/`, sorted by name, then those given by

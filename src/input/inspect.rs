@@ -79,10 +79,11 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
             if s.eigenvectors_path.is_some() {
                 let reader = file.vectors(s, &spec)?;
                 let k = validate::sample_within(file.limit(), reader.dim());
-                v.orthonormality = Some(validate::orthonormality(
+                v.orthonormality = Some(validate::check_basis(
                     &reader,
                     k,
                     validate::ortho_tolerance(s),
+                    file.limit(),
                 )?);
                 if let Some(h) = file.hamiltonian(s)? {
                     v.operators_checked += 1;
@@ -99,8 +100,10 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
         } else {
             None
         };
+        let mut sector = s.clone();
+        (sector.layout, sector.layout_source) = file.layout(s)?;
         sectors.push(SectorSummary {
-            sector: s.clone(),
+            sector,
             energy_min: spec.energies.first().copied().unwrap_or(f64::NAN),
             energy_max: spec.energies.last().copied().unwrap_or(f64::NAN),
             sorted: spec.was_sorted(),

@@ -15,7 +15,7 @@
 //! | member | shape, element type | meaning |
 //! |---|---|---|
 //! | `energies` | `[n]`, float32 or float64 | eigenvalues `E_j`; ascending, or in any order (then they are sorted, the permutation is kept and a warning is printed) |
-//! | `eigenvectors` | `[dim, n]`, real or complex | column `j` is the eigenvector of `energies[j]`; with attribute `layout = "rows"` the shape is `[n, dim]` and row `j` is the eigenvector; `n < dim` (a partial eigenbasis) is allowed, `n > dim` is an error |
+//! | `eigenvectors` | `[dim, n]`, real or complex | column `j` is the eigenvector of `energies[j]`; with attribute `layout = "rows"` the shape is `[n, dim]` and row `j` is the eigenvector; `n < dim` (a partial eigenbasis) is allowed, `n > dim` is an error; a square set without attribute is decided by a stored Hamiltonian's residuals or assumed to be columns, with a warning ([`LayoutSource`]) |
 //! | `observables/<name>` | `[dim]` | operator diagonal in the computational basis, `A = diag(a)` |
 //! | `observables/<name>` | `[dim, dim]` | dense operator in the computational basis (must be Hermitian) |
 //! | `observables/<name>/` | group `{data, indices, indptr}`, attribute `shape = [dim, dim]` | sparse operator in the SciPy CSR convention: row `i` holds `data[indptr[i]..indptr[i+1]]` in columns `indices[...]`; duplicate entries add up |
@@ -64,19 +64,21 @@
 mod discover;
 mod h5;
 pub mod inspect;
+mod layout;
 pub mod limit;
 mod operators;
 pub mod validate;
 mod vectors;
 
 pub use h5::Element;
+pub use layout::LayoutSource;
 pub use limit::Limit;
 pub use vectors::VectorReader;
 
 use crate::data::{Field, Operator, OperatorForm, Spectrum, Vector};
 use crate::error::{escape, Error, Result};
 use serde::Serialize;
-use std::collections::HashSet;
+use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};
 use std::sync::Mutex;
 
@@ -163,6 +165,8 @@ pub struct Sector {
     pub field: Option<Field>,
     /// Eigenvector layout.
     pub layout: Layout,
+    /// How the layout was determined (a square set without attribute is ambiguous).
+    pub layout_source: LayoutSource,
     /// Observables found under `observables/`.
     pub observables: Vec<ObservableInfo>,
     /// Names of the initial states under `states/`.
@@ -228,8 +232,10 @@ pub struct EigenFile {
     h5: hdf5::File,
     /// The most bytes one read may hold.
     limit: Limit,
-    /// Sectors whose "unsorted" warning was already printed.
+    /// Warnings already printed (one per sector and kind).
     warned: Mutex<HashSet<String>>,
+    /// Layouts of square sets decided by the residuals of a stored Hamiltonian, by sector.
+    decided: Mutex<HashMap<String, Option<Layout>>>,
 }
 
 /// Names joined by `", "`, each with its control characters escaped.
@@ -300,6 +306,7 @@ impl EigenFile {
             h5,
             limit: Limit::new(overrides.memory),
             warned: Mutex::new(HashSet::new()),
+            decided: Mutex::new(HashMap::new()),
         })
     }
     /// The file's path.
@@ -338,20 +345,26 @@ impl EigenFile {
     pub fn spectrum(&self, sector: &Sector) -> Result<Spectrum> {
         let s = self.spectrum_quiet(sector)?;
         if !s.was_sorted() {
-            let first = self
-                .warned
-                .lock()
-                .map(|mut w| w.insert(sector.name.clone()))
-                .unwrap_or(true);
-            if first {
-                crate::progress::warn(&format!(
+            self.warn_once(&format!("sorted:{}", sector.name), || {
+                format!(
                     "{}: {}: energies are not in ascending order; sorted them (eigenvectors and energy-basis observables follow the same permutation)",
                     self.path.display(),
                     sector.energies_path
-                ));
-            }
+                )
+            });
         }
         Ok(s)
+    }
+    /// Prints the warning `msg()` unless one was printed under `key` already.
+    fn warn_once(&self, key: &str, msg: impl FnOnce() -> String) {
+        let first = self
+            .warned
+            .lock()
+            .map(|mut w| w.insert(key.to_string()))
+            .unwrap_or(true);
+        if first {
+            crate::progress::warn(&msg());
+        }
     }
     /// The ascending spectrum of a sector, without the warning about sorting.
     pub fn spectrum_quiet(&self, sector: &Sector) -> Result<Spectrum> {
@@ -372,7 +385,43 @@ impl EigenFile {
     }
     /// A reader of eigenvector columns in ascending-energy order, reading hyperslabs on demand.
     pub fn vectors(&self, sector: &Sector, spectrum: &Spectrum) -> Result<VectorReader> {
-        VectorReader::new(&self.path, &self.h5, sector, spectrum, &self.limit)
+        let (layout, source) = self.layout(sector)?;
+        if source == LayoutSource::Assumed && sector.dim.is_some() {
+            self.warn_once(&format!("layout:{}", sector.name), || {
+                layout::ambiguity_warning(&self.path, sector)
+            });
+        }
+        VectorReader::new(&self.path, &self.h5, sector, spectrum, layout, &self.limit)
+    }
+    /// The eigenvector layout of a sector and how it was determined: as discovered, except
+    /// that a square set without attribute is decided by the residuals of the stored
+    /// Hamiltonian, if any (read once, on first need; see [`LayoutSource`]).
+    pub fn layout(&self, sector: &Sector) -> Result<(Layout, LayoutSource)> {
+        let undecided = sector.layout_source == LayoutSource::Assumed
+            && sector.dim.is_some()
+            && sector.hamiltonian.is_some();
+        if !undecided {
+            return Ok((sector.layout, sector.layout_source));
+        }
+        let known = self
+            .decided
+            .lock()
+            .ok()
+            .and_then(|d| d.get(&sector.name).copied());
+        let chosen = match known {
+            Some(c) => c,
+            None => {
+                let c = layout::by_residual(self, sector)?;
+                if let Ok(mut d) = self.decided.lock() {
+                    d.insert(sector.name.clone(), c);
+                }
+                c
+            }
+        };
+        Ok(match chosen {
+            Some(l) => (l, LayoutSource::Residual),
+            None => (sector.layout, LayoutSource::Assumed),
+        })
     }
     /// An observable by name (energy-basis operators come back in ascending-energy order);
     /// an unknown name is an error listing the known ones.

@@ -45,13 +45,41 @@ pub fn tolerance_for(elements: &[Element], f64_tol: f64, f32_tol: f64) -> f64 {
 pub struct OrthoCheck {
     /// Number of sampled states.
     pub sample: usize,
-    /// `max |(V_Sᴴ V_S − 1)_{ab}|` over the sample.
+    /// `max |(V_Sᴴ V_S − 1)_{ab}|` over the sample (and, when [`OrthoCheck::cross`] is
+    /// not zero, `max |⟨v_a|v_j⟩|` of those states against every other stored state).
     pub max_error: f64,
     /// Tolerance ([`ORTHO_TOL`]).
     pub tolerance: f64,
     /// `max_error ≤ tolerance`.
     pub pass: bool,
+    /// Number of sampled states also checked against every stored state (0: none).
+    #[serde(default)]
+    pub cross: usize,
+    /// Number of stored states.
+    #[serde(default)]
+    pub states: usize,
 }
+
+impl OrthoCheck {
+    /// The failure in words, for an error line.
+    pub fn problem(&self) -> String {
+        let over = if self.cross > 0 {
+            format!(
+                "{} sampled states, {} of them against all {} states",
+                self.sample, self.cross, self.states
+            )
+        } else {
+            format!("{} sampled states", self.sample)
+        };
+        format!(
+            "eigenvectors are not orthonormal: max |V^H V - 1| = {:.3e} over {over} exceeds {:e}",
+            self.max_error, self.tolerance
+        )
+    }
+}
+
+/// Number of sampled states checked against every stored state by [`check_basis`].
+pub const CROSS_SAMPLE: usize = 16;
 
 /// Result of the residual check.
 #[derive(Debug, Clone, Serialize)]
@@ -127,11 +155,77 @@ pub fn orthonormality(src: &dyn ColumnSource, sample: usize, tolerance: f64) -> 
         max_error: err,
         tolerance,
         pass: err <= tolerance,
+        cross: 0,
+        states: src.n_states(),
     })
 }
 
+/// The full check of a stored basis: [`orthonormality`] on `sample` states, then, when
+/// that passes and not every state was sampled, [`CROSS_SAMPLE`] of them against every
+/// stored state, `max_{a, j ∉ S} |⟨v_a|v_j⟩|` ([`cross_overlap`]), so that a state
+/// duplicated or mixed anywhere in the set is found once one of its pair is sampled.
+pub fn check_basis(
+    src: &dyn ColumnSource,
+    sample: usize,
+    tolerance: f64,
+    limit: &Limit,
+) -> Result<OrthoCheck> {
+    let mut c = orthonormality(src, sample, tolerance)?;
+    let n = src.n_states();
+    if !c.pass || c.sample >= n {
+        return Ok(c);
+    }
+    let idx = sample_indices(n, CROSS_SAMPLE.min(c.sample));
+    let cross = cross_overlap(src, &idx, limit)?;
+    c.cross = idx.len();
+    c.max_error = if cross.is_nan() {
+        f64::INFINITY
+    } else {
+        c.max_error.max(cross)
+    };
+    c.pass = c.max_error <= tolerance;
+    Ok(c)
+}
+
+/// `max |⟨v_a|v_j⟩|` over the states `a` of `idx` and every stored state `j` not in
+/// `idx`, reading the stored states in blocks of at most a quarter of `limit` (cut on the
+/// storage's chunk boundaries when it has them).
+pub fn cross_overlap(src: &dyn ColumnSource, idx: &[usize], limit: &Limit) -> Result<f64> {
+    let (n, dim) = (src.n_states(), src.dim().max(1));
+    let s = match src.field() {
+        crate::data::Field::Real => 8,
+        crate::data::Field::Complex => 16,
+    };
+    let mut width = (limit.bytes() / (4 * dim * s)).clamp(1, 4096);
+    if let Some(c) = src.chunk_states().filter(|&c| c > 0 && c <= width) {
+        width -= width % c;
+    }
+    let sample = read_sample(src, idx)?;
+    let mut worst = 0.0f64;
+    let mut j0 = 0;
+    while j0 < n {
+        let j1 = (j0 + width).min(n);
+        let block = src.read(j0..j1)?.to_complex();
+        let g = sample.adjoint() * &block;
+        for j in j0..j1 {
+            if idx.contains(&j) {
+                continue;
+            }
+            for a in 0..idx.len() {
+                let x = g[(a, j - j0)].norm();
+                worst = if x.is_nan() { f64::NAN } else { worst.max(x) };
+            }
+        }
+        if worst.is_nan() {
+            return Ok(worst);
+        }
+        j0 = j1;
+    }
+    Ok(worst)
+}
+
 /// `y = H x` for a computational-basis operator (complex arithmetic).
-fn apply(h: &Operator, x: &[c64]) -> Result<Vec<c64>> {
+pub(super) fn apply(h: &Operator, x: &[c64]) -> Result<Vec<c64>> {
     fn go<T: Copy>(d: &OpData<T>, x: &[c64], c: impl Fn(T) -> c64) -> Result<Vec<c64>> {
         let n = x.len();
         match d {
@@ -208,24 +302,21 @@ pub fn residual_tolerance(sector: &Sector) -> f64 {
     tolerance_for(&el, RESIDUAL_TOL, RESIDUAL_TOL_F32)
 }
 
-/// Checks orthonormality ([`orthonormality`] with [`SAMPLE`] states and the
-/// sector's tolerance) and turns a failure into an error naming the eigenvector
-/// dataset. Analyses call this before using a basis read from a file.
+/// Checks orthonormality ([`check_basis`] with up to [`SAMPLE`] states within the file's
+/// memory limit and the sector's tolerance) and turns a failure into an error naming the
+/// eigenvector dataset. Every analysis calls this before using a basis read from a file.
 pub fn require_orthonormal(
     file: &EigenFile,
     sector: &Sector,
     src: &dyn ColumnSource,
 ) -> Result<OrthoCheck> {
     let k = sample_within(file.limit(), src.dim());
-    let c = orthonormality(src, k, ortho_tolerance(sector))?;
+    let c = check_basis(src, k, ortho_tolerance(sector), file.limit())?;
     if !c.pass {
         return Err(Error::dataset(
             file.path(),
             sector.eigenvectors_path.clone().unwrap_or_default(),
-            format!(
-                "eigenvectors are not orthonormal: max |V^H V - 1| = {:.3e} over {} sampled states exceeds {:e}",
-                c.max_error, c.sample, c.tolerance
-            ),
+            c.problem(),
         ));
     }
     Ok(c)

@@ -57,6 +57,7 @@ impl VectorReader {
         f: &hdf5::File,
         sector: &Sector,
         spectrum: &Spectrum,
+        layout: Layout,
         limit: &super::Limit,
     ) -> Result<VectorReader> {
         let (Some(path), Some(dim), Some(element)) =
@@ -94,7 +95,7 @@ impl VectorReader {
             "for the four eigenvectors a pass holds at least",
         )?;
         h5::require_written(file, path, &ds)?;
-        let axis = match sector.layout {
+        let axis = match layout {
             Layout::Columns => 1,
             Layout::Rows => 0,
         };
@@ -103,7 +104,7 @@ impl VectorReader {
             file: file.to_path_buf(),
             path: path.clone(),
             ds,
-            layout: sector.layout,
+            layout,
             dim,
             n: sector.n_states,
             field: element.field(),

@@ -95,6 +95,9 @@ pub fn each_sector<T>(
             let t0 = Instant::now();
             let spectrum = f.spectrum(s)?;
             let (ops, src) = load_sector(f, s, &req.observables, &spectrum, req.budget.bytes)?;
+            if s.dim.is_some() {
+                crate::input::validate::require_orthonormal(f, s, src.as_ref())?;
+            }
             let range = req.window.indices(&spectrum.energies);
             let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
             let class = sector_class(f, s, Some(src.as_ref()), &refs, req.class)?;

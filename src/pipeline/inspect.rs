@@ -26,14 +26,7 @@ pub fn first_failure(reports: &[FileSummary]) -> Option<Error> {
             let Some(v) = &s.verify else { continue };
             let dataset = s.sector.eigenvectors_path.clone().unwrap_or_default();
             if let Some(c) = v.orthonormality.as_ref().filter(|c| !c.pass) {
-                return Some(Error::dataset(
-                    &r.file,
-                    dataset,
-                    format!(
-                        "eigenvectors are not orthonormal: max |V^H V - 1| = {:.3e} over {} sampled states exceeds {:e}",
-                        c.max_error, c.sample, c.tolerance
-                    ),
-                ));
+                return Some(Error::dataset(&r.file, dataset, c.problem()));
             }
             if let Some(c) = v.residual.as_ref().filter(|c| !c.pass) {
                 return Some(Error::dataset(

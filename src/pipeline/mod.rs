@@ -29,7 +29,7 @@ pub mod scaling;
 pub mod sector;
 pub mod study;
 
-pub use crate::input::{Layout, Overrides};
+pub use crate::input::{Layout, LayoutSource, Overrides};
 
 use crate::error::Result;
 use crate::input::EigenFile;

@@ -427,6 +427,7 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         let group = s.group.trim_end_matches('/');
         let spectrum = file.spectrum(s)?;
         let vectors = file.vectors(s, &spectrum)?;
+        crate::input::validate::require_orthonormal(&file, s, &vectors)?;
         let obs_path = |name: &str| format!("{group}/observables/{name}");
         let mut ops = Vec::with_capacity(nobs);
         for name in job.observables {

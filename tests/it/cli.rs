@@ -99,7 +99,15 @@ fn nan_in_energies() {
 #[test]
 fn inf_in_eigenvectors() {
     fails_with(
-        &["inspect", "--verify", "fixtures/bad/inf_vectors.h5"],
+        // the square set is read as columns (NumPy's convention), said explicitly: no
+        // ambiguity warning before the error
+        &[
+            "inspect",
+            "--verify",
+            "fixtures/bad/inf_vectors.h5",
+            "--layout",
+            "columns",
+        ],
         "fixtures/bad/inf_vectors.h5: /eigenvectors: non-finite value inf in component 2 of the eigenvector of state 0 (file order)",
     );
 }
@@ -136,7 +144,13 @@ fn unknown_sector_lists_the_existing_ones() {
 #[test]
 fn non_orthonormal_eigenvectors() {
     // v1 = v0 + 1e-3 v1 in the script: ⟨v0|v1⟩ = 1, so max |VᴴV − 1| = 1.0
-    let (code, out, err) = run(&["inspect", "--verify", "fixtures/bad/not_orthonormal.h5"]);
+    let (code, out, err) = run(&[
+        "inspect",
+        "--verify",
+        "fixtures/bad/not_orthonormal.h5",
+        "--layout",
+        "columns",
+    ]);
     assert_eq!(code, Some(2));
     assert!(
         out.contains("over 8 sampled states (tolerance 1e-8): FAIL"),

@@ -2,6 +2,7 @@
 //! Hamiltonian, attributes and, with `--verify`, the checks.
 
 use crate::pipeline::inspect::{FileSummary, SectorSummary};
+use crate::pipeline::{Layout, LayoutSource};
 use std::fmt::Write as _;
 
 /// Human-readable summary of one file.
@@ -53,10 +54,18 @@ fn format_sector(o: &mut String, r: &SectorSummary) {
             } else {
                 String::new()
             };
+            let (name, axes) = match s.layout {
+                Layout::Columns => ("columns", "[dim, n]"),
+                Layout::Rows => ("rows", "[n, dim]"),
+            };
+            let how = match s.layout_source {
+                LayoutSource::Assumed => " (assumed)",
+                LayoutSource::Residual => " (by the residuals ||Hv - Ev||)",
+                _ => "",
+            };
             let _ = writeln!(
                 o,
-                "    eigenvectors  {p}: dimension {dim}{partial}, {el}, layout {}, {chunk}{filters}",
-                s.layout
+                "    eigenvectors  {p}: dimension {dim}{partial}, {el}, layout {name}{how} {axes}, {chunk}{filters}",
             );
         }
         _ => {
@@ -104,9 +113,14 @@ fn format_sector(o: &mut String, r: &SectorSummary) {
             Some(c) => {
                 let _ = writeln!(
                     o,
-                    "    verify        orthonormality max|V^H V - 1| = {:.3e} over {} sampled states (tolerance {:e}): {}",
+                    "    verify        orthonormality max|V^H V - 1| = {:.3e} over {} sampled states{} (tolerance {:e}): {}",
                     c.max_error,
                     c.sample,
+                    if c.cross > 0 {
+                        format!(", {} of them against all {}", c.cross, c.states)
+                    } else {
+                        String::new()
+                    },
                     c.tolerance,
                     if c.pass { "pass" } else { "FAIL" }
                 );

@@ -21,7 +21,7 @@ fn write_file(dir: &std::path::Path) -> (std::path::PathBuf, Vec<f64>, Mat<f64>,
         .map(|i| if i % 3 == 0 { 1.0 } else { -0.5 })
         .collect();
     let path = dir.join("goe.h5");
-    let f = hdf5::File::create(&path).unwrap();
+    let f = crate::util::create_h5(&path);
     f.new_dataset_builder()
         .with_data(&ndarray::Array1::from(e.clone()))
         .create("energies")

@@ -31,7 +31,7 @@ fn declare(f: &hdf5::Group, name: &str, shape: &[usize], chunk: &[usize]) {
 #[test]
 fn declared_huge_energies_are_refused_by_every_reading_command() {
     let (_d, p) = scratch("energies.h5");
-    let f = hdf5::File::create(&p).unwrap();
+    let f = crate::util::create_h5(&p);
     declare(&f, "energies", &[1_000_000_000], &[1024]);
     drop(f);
     for cmd in ["inspect", "levels", "diagonal"] {
@@ -68,7 +68,7 @@ fn the_memory_budget_applies_to_the_spectrum_of_a_valid_file() {
 #[test]
 fn declared_huge_eigenvectors_csr_and_dense_operators_are_refused() {
     let (_d, p) = scratch("big.h5");
-    let f = hdf5::File::create(&p).unwrap();
+    let f = crate::util::create_h5(&p);
     let n = 4;
     f.new_dataset_builder()
         .with_data(&Array1::from_iter((0..n).map(|i| i as f64)))
@@ -86,7 +86,7 @@ fn declared_huge_eigenvectors_csr_and_dense_operators_are_refused() {
 
     // a CSR observable of 2³³ declared values next to a small valid basis
     let (_d2, p) = scratch("csr.h5");
-    let f = hdf5::File::create(&p).unwrap();
+    let f = crate::util::create_h5(&p);
     let dim = 8;
     f.new_dataset_builder()
         .with_data(&Array1::from_iter((0..dim).map(|i| i as f64)))
@@ -134,7 +134,7 @@ fn declared_huge_eigenvectors_csr_and_dense_operators_are_refused() {
     // a dense observable of declared shape 2²⁰ × 2²⁰ (8 TiB) beside eigenvectors of that
     // dimension (declared too)
     let (_d3, p) = scratch("dense.h5");
-    let f = hdf5::File::create(&p).unwrap();
+    let f = crate::util::create_h5(&p);
     let big = 1usize << 20;
     f.new_dataset_builder()
         .with_data(&Array1::from_iter((0..4).map(|i| i as f64)))
@@ -155,7 +155,7 @@ fn datasets_never_written_are_refused_not_read_as_zeros() {
     // HDF5 returns the fill value (0) for storage never written: a file whose writer died
     // after creating its datasets would otherwise be analysed as data.
     let (_d, p) = scratch("unwritten.h5");
-    let f = hdf5::File::create(&p).unwrap();
+    let f = crate::util::create_h5(&p);
     let n = 16;
     f.new_dataset_builder()
         .with_data(&Array1::from_iter((0..n).map(|i| i as f64)))

@@ -31,7 +31,7 @@ fn link_cycles_are_searched_once_with_one_warning() {
     let dir = tempfile::tempdir().unwrap();
     let p = dir.path().join("cycles.h5");
     {
-        let f = hdf5::File::create(&p).unwrap();
+        let f = crate::util::create_h5(&p);
         let a = f.create_group("a").unwrap();
         sector(&a, 8, true);
         // soft links back to the group itself and to the root; a hard link cycle below b
@@ -64,7 +64,7 @@ fn dangling_and_unresolvable_links_as_members_are_errors_naming_the_link() {
     let dir = tempfile::tempdir().unwrap();
     let soft = dir.path().join("dangling.h5");
     {
-        let f = hdf5::File::create(&soft).unwrap();
+        let f = crate::util::create_h5(&soft);
         sector(&f, 4, false);
         f.link_soft("/nowhere", "eigenvectors").unwrap();
     }
@@ -79,7 +79,7 @@ fn dangling_and_unresolvable_links_as_members_are_errors_naming_the_link() {
     std::fs::write(&junk, "not an HDF5 file\n").unwrap();
     let ext = dir.path().join("external_junk.h5");
     {
-        let f = hdf5::File::create(&ext).unwrap();
+        let f = crate::util::create_h5(&ext);
         sector(&f, 4, false);
         f.link_external(s(&junk), "/eigenvectors", "eigenvectors")
             .unwrap();
@@ -95,12 +95,12 @@ fn external_links_are_followed_read_only_with_a_warning() {
     let dir = tempfile::tempdir().unwrap();
     let other = dir.path().join("vectors.h5");
     {
-        let f = hdf5::File::create(&other).unwrap();
+        let f = crate::util::create_h5(&other);
         sector(&f, 4, true);
     }
     let main = dir.path().join("main.h5");
     {
-        let f = hdf5::File::create(&main).unwrap();
+        let f = crate::util::create_h5(&main);
         sector(&f, 4, false);
         f.link_external(s(&other), "/eigenvectors", "eigenvectors")
             .unwrap();

@@ -2,8 +2,10 @@
 
 mod embedding;
 mod fixtures;
+mod layout;
 mod limits;
 mod links;
 mod names;
+mod orthonormal;
 mod roundtrip;
 mod stream_file;

@@ -23,7 +23,7 @@ fn names_with_newlines_and_escape_codes_are_escaped() {
     let dir = tempfile::tempdir().unwrap();
     let p = dir.path().join("names.h5");
     {
-        let f = hdf5::File::create(&p).unwrap();
+        let f = crate::util::create_h5(&p);
         let g = f.create_group("line\nbreak").unwrap();
         energies(&g, &[0.0, 1.0, f64::NAN]);
         let h = f.create_group("esc\u{1b}[31m").unwrap();
@@ -45,7 +45,7 @@ fn a_nan_in_the_eigenvectors_names_the_file_once() {
     let p = dir.path().join("nan.h5");
     let n = 40;
     {
-        let f = hdf5::File::create(&p).unwrap();
+        let f = crate::util::create_h5(&p);
         let g = f.create_group("s").unwrap();
         energies(&g, &(0..n).map(|i| i as f64).collect::<Vec<_>>());
         let mut v = Array2::from_shape_fn((n, n), |(i, j)| if i == j { 1.0 } else { 0.0 });
@@ -71,7 +71,7 @@ fn a_nan_in_the_eigenvectors_names_the_file_once() {
 /// A CSR observable `hop` with the given `shape` attribute, `indices` and `indptr`, in a
 /// sector without eigenvectors (so that the shape is not compared with a dimension).
 fn csr_file(p: &Path, shape: [u64; 2], indices: &[u64], indptr: &[u64]) {
-    let f = hdf5::File::create(p).unwrap();
+    let f = crate::util::create_h5(p);
     energies(&f, &[0.0, 1.0]);
     let g = f
         .create_group("observables")

@@ -27,7 +27,7 @@ fn write(path: &std::path::Path) -> Data {
     let mut r = rmt::rng(7);
     let (e, v) = eigh_real(rmt::goe(DIM, &mut r).as_ref()).unwrap();
     let dense = rmt::goe(DIM, &mut r);
-    let f = hdf5::File::create(path).unwrap();
+    let f = crate::util::create_h5(path);
     f.new_dataset_builder()
         .with_data(&Array1::from(e.clone()))
         .create("energies")
@@ -206,7 +206,7 @@ fn dense_operators_load_exactly_whatever_the_storage() {
     for (k, chunk) in chunks.into_iter().enumerate() {
         let path = dir.path().join(format!("ops{k}.h5"));
         {
-            let f = hdf5::File::create(&path).unwrap();
+            let f = crate::util::create_h5(&path);
             let e = Array1::from_shape_fn(D, |i| i as f64);
             f.new_dataset_builder()
                 .with_data(&e)
