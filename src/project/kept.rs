@@ -3,8 +3,8 @@
 //!
 //! **State pass** ([`state_pass`]). For a state `ψ` in the sector's computational basis
 //! and the eigenvectors `V` (columns `vₙ`), one pass of the diagonal stream
-//! ([`super::diagonal`]) gives, block by block, the coefficients `c_B = V_Bᴴ ψ` (one faer
-//! product per block, with the budget's parallelism) and the diagonal elements
+//! ([`super::diagonal`]) gives, block by block, the coefficients `c_B = V_Bᴴ ψ` (one dot
+//! product per eigenvector, parallel with the budget's parallelism) and the diagonal elements
 //! `Aₙₙ = Re vₙᴴ A vₙ` of every operator (the kernels of the diagonal pass; operators stored
 //! in the energy basis: their diagonal, read off).
 //!
@@ -44,7 +44,7 @@
 //!    (smaller blocks, more reads: `dim·W²` flops for the enclosing range `W`).
 //! 4. otherwise the pass refuses with one line naming both sizes.
 //!
-//! The scratch is one panel of `A V_J` and of `A_KK` (`(dim + K)·w·s`). The rule prefers
+//! The scratch is one panel of `A V_J` and one diagonal block (`(dim + w)·w·s`). The rule prefers
 //! the path that reads and multiplies least: resident reads nothing more, gathered reads
 //! the kept blocks once and multiplies `dim·K²`, pairs re-reads blocks and multiplies
 //! `dim·W² ≥ dim·K²`. The panels are about [`KEPT_PANEL_BYTES`] of eigenvector columns
@@ -53,7 +53,7 @@
 
 use super::budget::{human_bytes, Budget};
 use super::diagonal::{diag_stream, DIAG_BLOCK_BYTES};
-use super::kernels::{apply_into, check_inputs, elem_size, prepare, Elem};
+use super::kernels::{adj_vec, apply_into, check_inputs, elem_size, prepare, Elem};
 use super::pairs::for_each_block_timed;
 use super::stream::{blocks, with_prefetch, StageTiming};
 use super::BlockPair;
@@ -213,30 +213,13 @@ fn state_stream<T: Elem>(
     timing: &mut StageTiming,
     keep: bool,
 ) -> Result<(Vec<c64>, Vec<Vec<f64>>, Blocks)> {
-    let (dim, n) = (src.dim(), src.n_states());
+    let n = src.n_states();
     let prepared = prepare::<T>(vector_ops)?;
-    // ψ as the columns of a matrix of the pass's type: [Re ψ, Im ψ] (real), [ψ] (complex)
-    let psi_t: Mat<T> = T::from_matrix(if T::field() == Field::Real {
-        Matrix::Real(Mat::from_fn(dim, 2, |i, j| {
-            if j == 0 {
-                psi[i].re
-            } else {
-                psi[i].im
-            }
-        }))
-    } else {
-        Matrix::Complex(Mat::from_fn(dim, 1, |i, _| psi[i]))
-    })?;
     let mut coefficients = Vec::with_capacity(n);
     let mut kept_blocks: Blocks = Vec::new();
     let par = budget.par;
     let mut consumer = |r: &Range<usize>, v: Mat<T>| -> Result<Option<Mat<T>>> {
-        match T::wrap(T::adj_product(v.as_ref(), psi_t.as_ref(), par)) {
-            Matrix::Real(m) => {
-                coefficients.extend((0..m.nrows()).map(|j| c64::new(m[(j, 0)], m[(j, 1)])))
-            }
-            Matrix::Complex(m) => coefficients.extend((0..m.nrows()).map(|j| m[(j, 0)])),
-        }
+        coefficients.extend(adj_vec(v.as_ref(), psi, par));
         if keep {
             kept_blocks.push((r.clone(), T::wrap(v)));
             Ok(None)
@@ -370,7 +353,7 @@ fn vector_matrices<T: Elem>(
         let panels = panels_from_blocks(blocks, &prepared, k, w, budget.par)?;
         return Ok((panels, KeptPath::Resident));
     }
-    let scratch = ((dim + k) * w * s) as f64;
+    let scratch = ((dim + w) * w * s) as f64;
     let one = matrix_bytes(k, w, field);
     let gathered = (dim * k * s) as f64 + (q - 1) as f64 * one + scratch;
     if gathered <= budget.bytes as f64 {
@@ -392,6 +375,42 @@ fn vector_matrices<T: Elem>(
     };
     let panels = from_pairs(src, vector_ops, kept, field, &rest, timing)?;
     Ok((panels, KeptPath::Pairs))
+}
+
+/// Rows of `A_KK` formed by one dense product at most: faer packs the left factor into
+/// scratch of about its own size, so the products run on blocks of this many rows
+/// (`aᴴ b` for 512 columns of `a`), which keeps that scratch near 2 MB at the same rate.
+const PRODUCT_ROWS: usize = 512;
+
+/// `dst = aᴴ · b` in blocks of [`PRODUCT_ROWS`] rows.
+fn adj_rows_into<T: Elem>(mut dst: MatMut<'_, T>, a: MatRef<'_, T>, b: MatRef<'_, T>, par: Par) {
+    let mut r0 = 0;
+    while r0 < a.ncols() {
+        let r1 = (r0 + PRODUCT_ROWS).min(a.ncols());
+        T::adj_product_into(
+            dst.as_mut().subrows_mut(r0, r1 - r0),
+            a.subcols(r0, r1 - r0),
+            b,
+            par,
+        );
+        r0 = r1;
+    }
+}
+
+/// The diagonal block `V_Jᴴ (A V_J)` into `dst`: its upper triangle by one triangular
+/// product, then the adjoint below.
+fn diagonal_block<T: Elem>(
+    mut dst: MatMut<'_, T>,
+    vj: MatRef<'_, T>,
+    avj: MatRef<'_, T>,
+    par: Par,
+) {
+    T::upper_adj_into(dst.as_mut(), vj, avj, par);
+    for c in 0..dst.ncols() {
+        for r in c + 1..dst.nrows() {
+            dst[(r, c)] = dst[(c, r)].conj();
+        }
+    }
 }
 
 /// `dst = src` (same shape), column by column.
@@ -482,6 +501,7 @@ fn gather<T: Elem>(
 /// `A_KK` of every operator from the kept eigenvectors `blocks` (columns in `K` order),
 /// panel by panel from the last (see the module doc): the first operator's panels are
 /// written over the eigenvectors (when `dim ≥ K`), the others get storage of their own.
+/// Scratch: one product `A V_J` (`dim × w`) and one diagonal block (`w × w`).
 fn panels_from_blocks<T: Elem>(
     mut blocks: Vec<Mat<T>>,
     ops: &[Cow<'_, OpData<T>>],
@@ -527,52 +547,51 @@ fn panels_from_blocks<T: Elem>(
             }
         })
         .collect();
-    let mut scratch = if in_place {
-        Mat::from_fn(k, w, |_, _| T::zero())
-    } else {
-        Mat::from_fn(0, 0, |_, _| T::zero())
-    };
     let mut buf = vec![T::zero(); dim * w];
+    let mut tile = Mat::from_fn(w, w, |_, _| T::zero());
     for (p, (i, c0, j)) in layout.iter().enumerate().rev() {
         let (i, c0, pw) = (*i, *c0, j.len());
-        for (o, op) in ops.iter().enumerate() {
+        // the operators with storage of their own first: they need V_J intact
+        for (o, op) in ops.iter().enumerate().skip(own_from) {
             let vj = blocks[i].as_ref().subcols(c0, pw);
             apply_into(op.as_ref(), vj, &mut buf, par);
             let avj = MatRef::from_column_major_slice(&buf[..dim * pw], dim, pw);
-            let mut dst = if o < own_from {
-                scratch.as_mut().submatrix_mut(0, 0, j.end, pw)
-            } else {
-                own[o][p].as_mut()
-            };
-            // rows of the blocks before
+            let mut dst = own[o][p].as_mut();
             for r in 0..i {
                 let rows = dst.as_mut().subrows_mut(starts[r], blocks[r].ncols());
-                T::adj_product_into(rows, blocks[r].as_ref(), avj, par);
+                adj_rows_into(rows, blocks[r].as_ref(), avj, par);
             }
-            // rows of this block before the panel
             if c0 > 0 {
                 let rows = dst.as_mut().subrows_mut(starts[i], c0);
-                T::adj_product_into(rows, blocks[i].as_ref().subcols(0, c0), avj, par);
+                adj_rows_into(rows, blocks[i].as_ref().subcols(0, c0), avj, par);
             }
-            // the diagonal block: upper triangle, then its adjoint below
-            let mut diag = dst.as_mut().subrows_mut(j.start, pw);
-            T::upper_adj_into(diag.as_mut(), vj, avj, par);
-            for c in 0..pw {
-                for r in c + 1..pw {
-                    diag[(r, c)] = diag[(c, r)].conj();
-                }
-            }
+            diagonal_block(dst.subrows_mut(j.start, pw), vj, avj, par);
         }
-        if in_place {
-            // the eigenvectors of this panel are not needed any more (later panels use
-            // columns before it only): the first operator's panel takes their place
-            copy_into(
-                blocks[i].as_mut().submatrix_mut(0, c0, j.end, pw),
-                scratch.as_ref().submatrix(0, 0, j.end, pw),
-            );
+        if !in_place {
+            continue;
         }
+        // the first operator in place: A V_J and the diagonal block need V_J; after them
+        // the eigenvectors of this panel are not needed any more (the panels still to come
+        // use the columns before it only), and the rows above the diagonal block go straight
+        // into their storage
+        let (before, rest) = blocks.split_at_mut(i);
+        let (left, mut right) = rest[0].as_mut().split_at_col_mut(c0);
+        let vj = right.as_ref().subcols(0, pw);
+        apply_into(ops[0].as_ref(), vj, &mut buf, par);
+        let avj = MatRef::from_column_major_slice(&buf[..dim * pw], dim, pw);
+        let mut tile = tile.as_mut().submatrix_mut(0, 0, pw, pw);
+        diagonal_block(tile.as_mut(), vj, avj, par);
+        let mut dst = right.as_mut().submatrix_mut(0, 0, j.end, pw);
+        for (r, b) in before.iter().enumerate() {
+            let rows = dst.as_mut().subrows_mut(starts[r], b.ncols());
+            adj_rows_into(rows, b.as_ref(), avj, par);
+        }
+        if c0 > 0 {
+            let rows = dst.as_mut().subrows_mut(starts[i], c0);
+            adj_rows_into(rows, left.as_ref(), avj, par);
+        }
+        copy_into(dst.subrows_mut(j.start, pw), tile.as_ref());
     }
-    drop(scratch);
     let mut out = Vec::with_capacity(ops.len());
     for (o, own) in own.into_iter().enumerate() {
         let (storage, panels): (Vec<Matrix>, Vec<Panel>) = if o < own_from {
