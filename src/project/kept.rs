@@ -373,7 +373,7 @@ fn vector_matrices<T: Elem>(
         bytes: budget.bytes - results as usize,
         ..*budget
     };
-    let panels = from_pairs(src, vector_ops, kept, field, &rest, timing)?;
+    let panels = from_pairs(src, vector_ops, kept, (field, w), &rest, timing)?;
     Ok((panels, KeptPath::Pairs))
 }
 
@@ -628,13 +628,15 @@ fn panels_from_blocks<T: Elem>(
 }
 
 /// `A_KK` of every operator from the block pairs of the enclosing range (the pairs path of
-/// the module doc): the kept rows and columns of each block pair `A_IJ` go into the panel of
-/// the column block `J`, which starts with its diagonal pair.
+/// the module doc), into panels of width `w` allocated before the pass (allocations
+/// between the block pairs would scatter them over the heap): the kept entry `(a, b)` of a
+/// block pair goes to the panel of column `b` when that panel stores row `a` (the others
+/// lie below a diagonal block, and their mirror images come in the same pair).
 fn from_pairs(
     src: &dyn ColumnSource,
     ops: &[&Operator],
     kept: &[usize],
-    field: Field,
+    (field, w): (Field, usize),
     budget: &Budget,
     timing: &mut StageTiming,
 ) -> Result<Vec<HermitianPanels>> {
@@ -642,9 +644,23 @@ fn from_pairs(
     let (Some(&first), Some(&last)) = (kept.first(), kept.last()) else {
         return Err(internal("no kept states".into()));
     };
+    let w = w.max(1);
+    let layout: Vec<Range<usize>> = (0..k.div_ceil(w))
+        .map(|p| p * w..((p + 1) * w).min(k))
+        .collect();
+    let mut storage: Vec<Vec<Matrix>> = ops
+        .iter()
+        .map(|_| {
+            layout
+                .iter()
+                .map(|j| match field {
+                    Field::Real => Matrix::Real(Mat::zeros(j.end, j.len())),
+                    Field::Complex => Matrix::Complex(Mat::zeros(j.end, j.len())),
+                })
+                .collect()
+        })
+        .collect();
     let pos = |x: usize| kept.partition_point(|&y| y < x);
-    let mut storage: Vec<Vec<Matrix>> = ops.iter().map(|_| Vec::new()).collect();
-    let mut panels: Vec<Panel> = Vec::new();
     for_each_block_timed(
         src,
         ops,
@@ -653,33 +669,32 @@ fn from_pairs(
         timing,
         |blk: &BlockPair| {
             let (c0, c1) = (pos(blk.cols.start), pos(blk.cols.end));
-            if c0 == c1 {
-                return Ok(());
-            }
-            if blk.is_diagonal() {
-                panels.push(Panel {
-                    cols: c0..c1,
-                    storage: panels.len(),
-                    offset: 0,
-                });
-                for st in storage.iter_mut() {
-                    st.push(match field {
-                        Field::Real => Matrix::Real(Mat::zeros(c1, c1 - c0)),
-                        Field::Complex => Matrix::Complex(Mat::zeros(c1, c1 - c0)),
-                    });
-                }
-            }
             let (r0, r1) = (pos(blk.rows.start), pos(blk.rows.end));
             for (st, m) in storage.iter_mut().zip(&blk.elements) {
-                let dst = st
-                    .last_mut()
-                    .ok_or_else(|| internal("a block pair before its diagonal pair".into()))?;
-                for (b, &kb) in kept[c0..c1].iter().enumerate() {
-                    for (a, &ka) in kept[r0..r1].iter().enumerate() {
-                        let (i, jj) = (ka - blk.rows.start, kb - blk.cols.start);
-                        match (&mut *dst, m) {
-                            (Matrix::Real(d), Matrix::Real(x)) => d[(r0 + a, b)] = x[(i, jj)],
-                            (Matrix::Complex(d), Matrix::Complex(x)) => d[(r0 + a, b)] = x[(i, jj)],
+                for (pb, &kb) in (c0..c1).zip(&kept[c0..c1]) {
+                    let p = pb / w;
+                    let (end, col) = (layout[p].end, pb - layout[p].start);
+                    let jj = kb - blk.cols.start;
+                    let start = layout[p].start;
+                    for (pa, &ka) in (r0..r1.min(end)).zip(&kept[r0..r1]) {
+                        let i = ka - blk.rows.start;
+                        // an entry above the diagonal inside the panel's diagonal block: its
+                        // mirror image there may come from no block pair (the rows and columns
+                        // lie in different blocks), so it is written too
+                        let mirror = (pa >= start && pa < pb).then_some(pa - start);
+                        match (&mut st[p], m) {
+                            (Matrix::Real(d), Matrix::Real(x)) => {
+                                d[(pa, col)] = x[(i, jj)];
+                                if let Some(c) = mirror {
+                                    d[(pb, c)] = x[(i, jj)];
+                                }
+                            }
+                            (Matrix::Complex(d), Matrix::Complex(x)) => {
+                                d[(pa, col)] = x[(i, jj)];
+                                if let Some(c) = mirror {
+                                    d[(pb, c)] = x[(i, jj)].conj();
+                                }
+                            }
                             _ => return Err(internal("element type changed".into())),
                         }
                     }
@@ -688,6 +703,15 @@ fn from_pairs(
             Ok(())
         },
     )?;
+    let panels: Vec<Panel> = layout
+        .iter()
+        .enumerate()
+        .map(|(p, j)| Panel {
+            cols: j.clone(),
+            storage: p,
+            offset: 0,
+        })
+        .collect();
     storage
         .into_iter()
         .map(|st| HermitianPanels::new(k, field, st, panels.clone()).map_err(internal))
