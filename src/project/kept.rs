@@ -20,12 +20,14 @@
 //! ```
 //!
 //! one product `A V_J` per operator ([`super::kernels::apply_into`]) and one dense product
-//! per block (the diagonal block: its upper triangle only, half the flops): `dim·K²` flops
-//! in all. The panels are formed from the last one to the first, so that once panel `J` is
-//! formed the eigenvectors of `J` are not needed any more: the first operator's panel is
-//! written over them, in the same storage. The eigenvectors of `K` therefore turn into
-//! `A_KK` in place, and the pass holds `dim·K` elements plus one panel of scratch, not
-//! `dim·K + K²`.
+//! per block (the diagonal block: its upper triangle only, half the flops; the products in
+//! blocks of 512 rows, whose packing scratch stays small): `dim·K²` flops in all. The panels
+//! are formed from the last one to the first, so that once `A V_J` and the diagonal block of
+//! panel `J` are formed the eigenvectors of `J` are not needed any more: the first
+//! operator's rows above the diagonal block are written straight over them, in the same
+//! storage (the panels still to come use the columns before `J` only). The eigenvectors of
+//! `K` therefore turn into `A_KK` in place (when `dim ≥ K`), and the pass holds `dim·K`
+//! elements plus one product `A V_J` of scratch, not `dim·K + K²`.
 //!
 //! **Where `V_K` comes from, and the memory model.** With element size `s`, `q` operators
 //! (`q_v` of them acting on eigenvectors), `n` states of dimension `dim`, panel width `w`
@@ -40,13 +42,13 @@
 //!    kept columns (reading each eigenvector of the enclosing range `k_first..=k_last` at
 //!    most once).
 //! 3. *pairs*: otherwise, when `q·R(K)` fits, the block pairs of the enclosing range
-//!    ([`super::pairs`]) are scattered into the panels, under the rest of the budget
-//!    (smaller blocks, more reads: `dim·W²` flops for the enclosing range `W`).
+//!    ([`super::pairs`]) are scattered into panels allocated beforehand, under the rest of
+//!    the budget (smaller blocks, more reads: `dim·W²` flops for the enclosing range `W`).
 //! 4. otherwise the pass refuses with one line naming both sizes.
 //!
-//! The scratch is one panel of `A V_J` and one diagonal block (`(dim + w)·w·s`). The rule prefers
-//! the path that reads and multiplies least: resident reads nothing more, gathered reads
-//! the kept blocks once and multiplies `dim·K²`, pairs re-reads blocks and multiplies
+//! The scratch is one product `A V_J` and one diagonal block (`(dim + w)·w·s`). The rule
+//! prefers the path that reads and multiplies least: resident reads nothing more, gathered
+//! reads the kept blocks once and multiplies `dim·K²`, pairs re-reads blocks and multiplies
 //! `dim·W² ≥ dim·K²`. The panels are about [`KEPT_PANEL_BYTES`] of eigenvector columns
 //! wide (`budget.block` when it is set): wider panels save no flops. Operators stored in the
 //! energy basis are sliced, `A_KK[a, b] = A[k_a, k_b]`, into panels of their own.

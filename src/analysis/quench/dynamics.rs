@@ -46,16 +46,6 @@ pub struct Work {
     pub scratch_bytes: usize,
 }
 
-impl Default for Work {
-    /// Every thread of the rayon pool, [`TRACE_BATCH_BYTES`] of scratch.
-    fn default() -> Self {
-        Work {
-            par: Par::rayon(0),
-            scratch_bytes: TRACE_BATCH_BYTES,
-        }
-    }
-}
-
 /// The plain data of one sector for [`analyze`].
 #[derive(Debug, Clone, Copy)]
 pub struct SectorData<'a> {
@@ -360,7 +350,7 @@ pub fn analyze(
     let dropped = (1.0 - weight_kept).max(0.0);
     let trace_error_bound = bound.norm * (2.0 * dropped.sqrt() + dropped);
 
-    let values = time_trace(&e_k, &c_k, a_kk, energy, times, work);
+    let values = time_trace(&e_k, &c_k, a_kk, energy, times, work)?;
     let trace: Vec<TracePoint> = times
         .iter()
         .zip(&values)
@@ -415,12 +405,20 @@ pub fn time_trace(
     e_ref: f64,
     times: &[f64],
     work: Work,
-) -> Vec<f64> {
-    let k = e_k.len().min(c_k.len()).min(a_kk.dim());
+) -> Result<Vec<f64>> {
+    let k = e_k.len();
+    if c_k.len() != k || a_kk.dim() != k {
+        return Err(Error::other(format!(
+            "quench: {k} kept energies, {} coefficients and a {}×{} kept-state matrix",
+            c_k.len(),
+            a_kk.dim(),
+            a_kk.dim()
+        )));
+    }
     let mut out = Vec::with_capacity(times.len());
     if k == 0 {
         out.resize(times.len(), 0.0);
-        return out;
+        return Ok(out);
     }
     let rows = TRACE_ROWS.min(k);
     // bytes per time: two real (or one complex) columns of B and of the products
@@ -474,7 +472,7 @@ pub fn time_trace(
             }
         }
     }
-    out
+    Ok(out)
 }
 
 /// Scalar types of the trace products.
@@ -785,6 +783,14 @@ mod tests {
         (e, c, a)
     }
 
+    /// Two threads and the largest batches.
+    fn wide() -> Work {
+        Work {
+            par: Par::rayon(2),
+            scratch_bytes: TRACE_BATCH_BYTES,
+        }
+    }
+
     /// Small scratch and one thread: several batches of times, several row blocks.
     const TIGHT: Work = Work {
         par: Par::Seq,
@@ -797,9 +803,9 @@ mod tests {
         // double sum (exact identity, linear algebra), whatever the panels and batches
         let (e, c, a) = random_problem(17, 3);
         let times = [0.0, 0.3, 1.7, 12.5];
-        for (width, work) in [(17, Work::default()), (4, TIGHT), (1, TIGHT)] {
+        for (width, work) in [(17, wide()), (4, TIGHT), (1, TIGHT)] {
             let m = HermitianPanels::from_full(&Matrix::Complex(a.clone()), width);
-            let got = time_trace(&e, &c, &m, 0.4, &times, work);
+            let got = time_trace(&e, &c, &m, 0.4, &times, work).unwrap();
             for (j, &t) in times.iter().enumerate() {
                 let mut s = c64::new(0.0, 0.0);
                 for n in 0..17 {
@@ -824,8 +830,8 @@ mod tests {
             &Matrix::Complex(Mat::from_fn(17, 17, |i, j| c64::new(ar[(i, j)], 0.0))),
             6,
         );
-        let r1 = time_trace(&e, &c, &real, 0.0, &times, TIGHT);
-        let r2 = time_trace(&e, &c, &cplx, 0.0, &times, Work::default());
+        let r1 = time_trace(&e, &c, &real, 0.0, &times, TIGHT).unwrap();
+        let r2 = time_trace(&e, &c, &cplx, 0.0, &times, wide()).unwrap();
         for (x, y) in r1.iter().zip(&r2) {
             assert!((x - y).abs() < 1e-12);
         }
@@ -857,7 +863,7 @@ mod tests {
         let uniform: Vec<f64> = (0..70).map(|j| 0.25 * j as f64).collect();
         let uneven = [0.0, 0.7, 3.1, 3.2, 11.0];
         for times in [&uniform[..], &uneven[..]] {
-            let got = time_trace(&e, &c, &shared, 0.3, times, Work::default());
+            let got = time_trace(&e, &c, &shared, 0.3, times, wide()).unwrap();
             for (j, &t) in times.iter().enumerate() {
                 let mut s = c64::new(0.0, 0.0);
                 for n in 0..k {
@@ -892,7 +898,7 @@ mod tests {
             },
             times,
             &QuenchOptions::default(),
-            Work::default(),
+            wide(),
         )
     }
 
