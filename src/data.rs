@@ -284,6 +284,19 @@ impl HermitianPanels {
         }
     }
 
+    /// The storage of panel `p` and the columns after it in the same storage matrix:
+    /// rows `0..` the end of the last column, `width` columns from the panel's first one.
+    /// Only the rows each column's panel stores are meaningful. (For products over several
+    /// panels that lie side by side.) Panics when the columns leave the storage matrix.
+    pub fn storage_view(&self, p: usize, width: usize) -> PanelRef<'_> {
+        let q = &self.panels[p];
+        let rows = (q.cols.start + width).min(self.k);
+        match &self.storage[q.storage] {
+            Matrix::Real(m) => PanelRef::Real(m.submatrix(0, q.offset, rows, width)),
+            Matrix::Complex(m) => PanelRef::Complex(m.submatrix(0, q.offset, rows, width)),
+        }
+    }
+
     /// Entry `(a, b)` promoted to complex (`a, b < k`).
     pub fn get_c(&self, a: usize, b: usize) -> c64 {
         if a > b {

@@ -277,10 +277,10 @@ fn put_block<T: Copy + Send + Sync>(arr: &Array2<T>, layout: Layout, mut dst: Ma
     }
 }
 
-/// Bytes per slab of rows of a column-layout read from a contiguous dataset: 4 MiB.
+/// Bytes per slab of rows of a column-layout read from a contiguous dataset: 1 MiB.
 /// Every slab of a block costs HDF5 the same scan of the file rows it spans, so the cut
 /// changes the staging memory, not the reading time.
-pub const CONTIGUOUS_PIECE_BYTES: usize = 4 << 20;
+pub const CONTIGUOUS_PIECE_BYTES: usize = 1 << 20;
 
 /// Writes the C-order `rows × cols` slice `v` into `dst` (`rows × cols`), in tiles of
 /// 8 columns × 256 rows so that each source cache line is read once, parallel over

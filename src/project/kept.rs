@@ -3,8 +3,8 @@
 //!
 //! **State pass** ([`state_pass`]). For a state `ψ` in the sector's computational basis
 //! and the eigenvectors `V` (columns `vₙ`), one pass of the diagonal stream
-//! ([`super::diagonal`]) gives, block by block, the coefficients `c_B = V_Bᴴ ψ` (one faer
-//! product per block, with the budget's parallelism) and the diagonal elements
+//! ([`super::diagonal`]) gives, block by block, the coefficients `c_B = V_Bᴴ ψ` (one dot
+//! product per eigenvector, parallel with the budget's parallelism) and the diagonal elements
 //! `Aₙₙ = Re vₙᴴ A vₙ` of every operator (the kernels of the diagonal pass; operators stored
 //! in the energy basis: their diagonal, read off).
 //!
@@ -20,12 +20,14 @@
 //! ```
 //!
 //! one product `A V_J` per operator ([`super::kernels::apply_into`]) and one dense product
-//! per block (the diagonal block: its upper triangle only, half the flops): `dim·K²` flops
-//! in all. The panels are formed from the last one to the first, so that once panel `J` is
-//! formed the eigenvectors of `J` are not needed any more: the first operator's panel is
-//! written over them, in the same storage. The eigenvectors of `K` therefore turn into
-//! `A_KK` in place, and the pass holds `dim·K` elements plus one panel of scratch, not
-//! `dim·K + K²`.
+//! per block (the diagonal block: its upper triangle only, half the flops; the products in
+//! blocks of 512 rows, whose packing scratch stays small): `dim·K²` flops in all. The panels
+//! are formed from the last one to the first, so that once `A V_J` and the diagonal block of
+//! panel `J` are formed the eigenvectors of `J` are not needed any more: the first
+//! operator's rows above the diagonal block are written straight over them, in the same
+//! storage (the panels still to come use the columns before `J` only). The eigenvectors of
+//! `K` therefore turn into `A_KK` in place (when `dim ≥ K`), and the pass holds `dim·K`
+//! elements plus one product `A V_J` of scratch, not `dim·K + K²`.
 //!
 //! **Where `V_K` comes from, and the memory model.** With element size `s`, `q` operators
 //! (`q_v` of them acting on eigenvectors), `n` states of dimension `dim`, panel width `w`
@@ -40,20 +42,20 @@
 //!    kept columns (reading each eigenvector of the enclosing range `k_first..=k_last` at
 //!    most once).
 //! 3. *pairs*: otherwise, when `q·R(K)` fits, the block pairs of the enclosing range
-//!    ([`super::pairs`]) are scattered into the panels, under the rest of the budget
-//!    (smaller blocks, more reads: `dim·W²` flops for the enclosing range `W`).
+//!    ([`super::pairs`]) are scattered into panels allocated beforehand, under the rest of
+//!    the budget (smaller blocks, more reads: `dim·W²` flops for the enclosing range `W`).
 //! 4. otherwise the pass refuses with one line naming both sizes.
 //!
-//! The scratch is one panel of `A V_J` and of `A_KK` (`(dim + K)·w·s`). The rule prefers
-//! the path that reads and multiplies least: resident reads nothing more, gathered reads
-//! the kept blocks once and multiplies `dim·K²`, pairs re-reads blocks and multiplies
+//! The scratch is one product `A V_J` and one diagonal block (`(dim + w)·w·s`). The rule
+//! prefers the path that reads and multiplies least: resident reads nothing more, gathered
+//! reads the kept blocks once and multiplies `dim·K²`, pairs re-reads blocks and multiplies
 //! `dim·W² ≥ dim·K²`. The panels are about [`KEPT_PANEL_BYTES`] of eigenvector columns
 //! wide (`budget.block` when it is set): wider panels save no flops. Operators stored in the
 //! energy basis are sliced, `A_KK[a, b] = A[k_a, k_b]`, into panels of their own.
 
 use super::budget::{human_bytes, Budget};
 use super::diagonal::{diag_stream, DIAG_BLOCK_BYTES};
-use super::kernels::{apply_into, check_inputs, elem_size, prepare, Elem};
+use super::kernels::{adj_vec, apply_into, check_inputs, elem_size, prepare, Elem};
 use super::pairs::for_each_block_timed;
 use super::stream::{blocks, with_prefetch, StageTiming};
 use super::BlockPair;
@@ -213,30 +215,13 @@ fn state_stream<T: Elem>(
     timing: &mut StageTiming,
     keep: bool,
 ) -> Result<(Vec<c64>, Vec<Vec<f64>>, Blocks)> {
-    let (dim, n) = (src.dim(), src.n_states());
+    let n = src.n_states();
     let prepared = prepare::<T>(vector_ops)?;
-    // ψ as the columns of a matrix of the pass's type: [Re ψ, Im ψ] (real), [ψ] (complex)
-    let psi_t: Mat<T> = T::from_matrix(if T::field() == Field::Real {
-        Matrix::Real(Mat::from_fn(dim, 2, |i, j| {
-            if j == 0 {
-                psi[i].re
-            } else {
-                psi[i].im
-            }
-        }))
-    } else {
-        Matrix::Complex(Mat::from_fn(dim, 1, |i, _| psi[i]))
-    })?;
     let mut coefficients = Vec::with_capacity(n);
     let mut kept_blocks: Blocks = Vec::new();
     let par = budget.par;
     let mut consumer = |r: &Range<usize>, v: Mat<T>| -> Result<Option<Mat<T>>> {
-        match T::wrap(T::adj_product(v.as_ref(), psi_t.as_ref(), par)) {
-            Matrix::Real(m) => {
-                coefficients.extend((0..m.nrows()).map(|j| c64::new(m[(j, 0)], m[(j, 1)])))
-            }
-            Matrix::Complex(m) => coefficients.extend((0..m.nrows()).map(|j| m[(j, 0)])),
-        }
+        coefficients.extend(adj_vec(v.as_ref(), psi, par));
         if keep {
             kept_blocks.push((r.clone(), T::wrap(v)));
             Ok(None)
@@ -370,7 +355,7 @@ fn vector_matrices<T: Elem>(
         let panels = panels_from_blocks(blocks, &prepared, k, w, budget.par)?;
         return Ok((panels, KeptPath::Resident));
     }
-    let scratch = ((dim + k) * w * s) as f64;
+    let scratch = ((dim + w) * w * s) as f64;
     let one = matrix_bytes(k, w, field);
     let gathered = (dim * k * s) as f64 + (q - 1) as f64 * one + scratch;
     if gathered <= budget.bytes as f64 {
@@ -390,8 +375,44 @@ fn vector_matrices<T: Elem>(
         bytes: budget.bytes - results as usize,
         ..*budget
     };
-    let panels = from_pairs(src, vector_ops, kept, field, &rest, timing)?;
+    let panels = from_pairs(src, vector_ops, kept, (field, w), &rest, timing)?;
     Ok((panels, KeptPath::Pairs))
+}
+
+/// Rows of `A_KK` formed by one dense product at most: faer packs the left factor into
+/// scratch of about its own size, so the products run on blocks of this many rows
+/// (`aᴴ b` for 512 columns of `a`), which keeps that scratch near 2 MB at the same rate.
+const PRODUCT_ROWS: usize = 512;
+
+/// `dst = aᴴ · b` in blocks of [`PRODUCT_ROWS`] rows.
+fn adj_rows_into<T: Elem>(mut dst: MatMut<'_, T>, a: MatRef<'_, T>, b: MatRef<'_, T>, par: Par) {
+    let mut r0 = 0;
+    while r0 < a.ncols() {
+        let r1 = (r0 + PRODUCT_ROWS).min(a.ncols());
+        T::adj_product_into(
+            dst.as_mut().subrows_mut(r0, r1 - r0),
+            a.subcols(r0, r1 - r0),
+            b,
+            par,
+        );
+        r0 = r1;
+    }
+}
+
+/// The diagonal block `V_Jᴴ (A V_J)` into `dst`: its upper triangle by one triangular
+/// product, then the adjoint below.
+fn diagonal_block<T: Elem>(
+    mut dst: MatMut<'_, T>,
+    vj: MatRef<'_, T>,
+    avj: MatRef<'_, T>,
+    par: Par,
+) {
+    T::upper_adj_into(dst.as_mut(), vj, avj, par);
+    for c in 0..dst.ncols() {
+        for r in c + 1..dst.nrows() {
+            dst[(r, c)] = dst[(c, r)].conj();
+        }
+    }
 }
 
 /// `dst = src` (same shape), column by column.
@@ -482,6 +503,7 @@ fn gather<T: Elem>(
 /// `A_KK` of every operator from the kept eigenvectors `blocks` (columns in `K` order),
 /// panel by panel from the last (see the module doc): the first operator's panels are
 /// written over the eigenvectors (when `dim ≥ K`), the others get storage of their own.
+/// Scratch: one product `A V_J` (`dim × w`) and one diagonal block (`w × w`).
 fn panels_from_blocks<T: Elem>(
     mut blocks: Vec<Mat<T>>,
     ops: &[Cow<'_, OpData<T>>],
@@ -527,52 +549,51 @@ fn panels_from_blocks<T: Elem>(
             }
         })
         .collect();
-    let mut scratch = if in_place {
-        Mat::from_fn(k, w, |_, _| T::zero())
-    } else {
-        Mat::from_fn(0, 0, |_, _| T::zero())
-    };
     let mut buf = vec![T::zero(); dim * w];
+    let mut tile = Mat::from_fn(w, w, |_, _| T::zero());
     for (p, (i, c0, j)) in layout.iter().enumerate().rev() {
         let (i, c0, pw) = (*i, *c0, j.len());
-        for (o, op) in ops.iter().enumerate() {
+        // the operators with storage of their own first: they need V_J intact
+        for (o, op) in ops.iter().enumerate().skip(own_from) {
             let vj = blocks[i].as_ref().subcols(c0, pw);
             apply_into(op.as_ref(), vj, &mut buf, par);
             let avj = MatRef::from_column_major_slice(&buf[..dim * pw], dim, pw);
-            let mut dst = if o < own_from {
-                scratch.as_mut().submatrix_mut(0, 0, j.end, pw)
-            } else {
-                own[o][p].as_mut()
-            };
-            // rows of the blocks before
+            let mut dst = own[o][p].as_mut();
             for r in 0..i {
                 let rows = dst.as_mut().subrows_mut(starts[r], blocks[r].ncols());
-                T::adj_product_into(rows, blocks[r].as_ref(), avj, par);
+                adj_rows_into(rows, blocks[r].as_ref(), avj, par);
             }
-            // rows of this block before the panel
             if c0 > 0 {
                 let rows = dst.as_mut().subrows_mut(starts[i], c0);
-                T::adj_product_into(rows, blocks[i].as_ref().subcols(0, c0), avj, par);
+                adj_rows_into(rows, blocks[i].as_ref().subcols(0, c0), avj, par);
             }
-            // the diagonal block: upper triangle, then its adjoint below
-            let mut diag = dst.as_mut().subrows_mut(j.start, pw);
-            T::upper_adj_into(diag.as_mut(), vj, avj, par);
-            for c in 0..pw {
-                for r in c + 1..pw {
-                    diag[(r, c)] = diag[(c, r)].conj();
-                }
-            }
+            diagonal_block(dst.subrows_mut(j.start, pw), vj, avj, par);
         }
-        if in_place {
-            // the eigenvectors of this panel are not needed any more (later panels use
-            // columns before it only): the first operator's panel takes their place
-            copy_into(
-                blocks[i].as_mut().submatrix_mut(0, c0, j.end, pw),
-                scratch.as_ref().submatrix(0, 0, j.end, pw),
-            );
+        if !in_place {
+            continue;
         }
+        // the first operator in place: A V_J and the diagonal block need V_J; after them
+        // the eigenvectors of this panel are not needed any more (the panels still to come
+        // use the columns before it only), and the rows above the diagonal block go straight
+        // into their storage
+        let (before, rest) = blocks.split_at_mut(i);
+        let (left, mut right) = rest[0].as_mut().split_at_col_mut(c0);
+        let vj = right.as_ref().subcols(0, pw);
+        apply_into(ops[0].as_ref(), vj, &mut buf, par);
+        let avj = MatRef::from_column_major_slice(&buf[..dim * pw], dim, pw);
+        let mut tile = tile.as_mut().submatrix_mut(0, 0, pw, pw);
+        diagonal_block(tile.as_mut(), vj, avj, par);
+        let mut dst = right.as_mut().submatrix_mut(0, 0, j.end, pw);
+        for (r, b) in before.iter().enumerate() {
+            let rows = dst.as_mut().subrows_mut(starts[r], b.ncols());
+            adj_rows_into(rows, b.as_ref(), avj, par);
+        }
+        if c0 > 0 {
+            let rows = dst.as_mut().subrows_mut(starts[i], c0);
+            adj_rows_into(rows, left.as_ref(), avj, par);
+        }
+        copy_into(dst.subrows_mut(j.start, pw), tile.as_ref());
     }
-    drop(scratch);
     let mut out = Vec::with_capacity(ops.len());
     for (o, own) in own.into_iter().enumerate() {
         let (storage, panels): (Vec<Matrix>, Vec<Panel>) = if o < own_from {
@@ -609,13 +630,15 @@ fn panels_from_blocks<T: Elem>(
 }
 
 /// `A_KK` of every operator from the block pairs of the enclosing range (the pairs path of
-/// the module doc): the kept rows and columns of each block pair `A_IJ` go into the panel of
-/// the column block `J`, which starts with its diagonal pair.
+/// the module doc), into panels of width `w` allocated before the pass (allocations
+/// between the block pairs would scatter them over the heap): the kept entry `(a, b)` of a
+/// block pair goes to the panel of column `b` when that panel stores row `a` (the others
+/// lie below a diagonal block, and their mirror images come in the same pair).
 fn from_pairs(
     src: &dyn ColumnSource,
     ops: &[&Operator],
     kept: &[usize],
-    field: Field,
+    (field, w): (Field, usize),
     budget: &Budget,
     timing: &mut StageTiming,
 ) -> Result<Vec<HermitianPanels>> {
@@ -623,9 +646,23 @@ fn from_pairs(
     let (Some(&first), Some(&last)) = (kept.first(), kept.last()) else {
         return Err(internal("no kept states".into()));
     };
+    let w = w.max(1);
+    let layout: Vec<Range<usize>> = (0..k.div_ceil(w))
+        .map(|p| p * w..((p + 1) * w).min(k))
+        .collect();
+    let mut storage: Vec<Vec<Matrix>> = ops
+        .iter()
+        .map(|_| {
+            layout
+                .iter()
+                .map(|j| match field {
+                    Field::Real => Matrix::Real(Mat::zeros(j.end, j.len())),
+                    Field::Complex => Matrix::Complex(Mat::zeros(j.end, j.len())),
+                })
+                .collect()
+        })
+        .collect();
     let pos = |x: usize| kept.partition_point(|&y| y < x);
-    let mut storage: Vec<Vec<Matrix>> = ops.iter().map(|_| Vec::new()).collect();
-    let mut panels: Vec<Panel> = Vec::new();
     for_each_block_timed(
         src,
         ops,
@@ -634,33 +671,32 @@ fn from_pairs(
         timing,
         |blk: &BlockPair| {
             let (c0, c1) = (pos(blk.cols.start), pos(blk.cols.end));
-            if c0 == c1 {
-                return Ok(());
-            }
-            if blk.is_diagonal() {
-                panels.push(Panel {
-                    cols: c0..c1,
-                    storage: panels.len(),
-                    offset: 0,
-                });
-                for st in storage.iter_mut() {
-                    st.push(match field {
-                        Field::Real => Matrix::Real(Mat::zeros(c1, c1 - c0)),
-                        Field::Complex => Matrix::Complex(Mat::zeros(c1, c1 - c0)),
-                    });
-                }
-            }
             let (r0, r1) = (pos(blk.rows.start), pos(blk.rows.end));
             for (st, m) in storage.iter_mut().zip(&blk.elements) {
-                let dst = st
-                    .last_mut()
-                    .ok_or_else(|| internal("a block pair before its diagonal pair".into()))?;
-                for (b, &kb) in kept[c0..c1].iter().enumerate() {
-                    for (a, &ka) in kept[r0..r1].iter().enumerate() {
-                        let (i, jj) = (ka - blk.rows.start, kb - blk.cols.start);
-                        match (&mut *dst, m) {
-                            (Matrix::Real(d), Matrix::Real(x)) => d[(r0 + a, b)] = x[(i, jj)],
-                            (Matrix::Complex(d), Matrix::Complex(x)) => d[(r0 + a, b)] = x[(i, jj)],
+                for (pb, &kb) in (c0..c1).zip(&kept[c0..c1]) {
+                    let p = pb / w;
+                    let (end, col) = (layout[p].end, pb - layout[p].start);
+                    let jj = kb - blk.cols.start;
+                    let start = layout[p].start;
+                    for (pa, &ka) in (r0..r1.min(end)).zip(&kept[r0..r1]) {
+                        let i = ka - blk.rows.start;
+                        // an entry above the diagonal inside the panel's diagonal block: its
+                        // mirror image there may come from no block pair (the rows and columns
+                        // lie in different blocks), so it is written too
+                        let mirror = (pa >= start && pa < pb).then_some(pa - start);
+                        match (&mut st[p], m) {
+                            (Matrix::Real(d), Matrix::Real(x)) => {
+                                d[(pa, col)] = x[(i, jj)];
+                                if let Some(c) = mirror {
+                                    d[(pb, c)] = x[(i, jj)];
+                                }
+                            }
+                            (Matrix::Complex(d), Matrix::Complex(x)) => {
+                                d[(pa, col)] = x[(i, jj)];
+                                if let Some(c) = mirror {
+                                    d[(pb, c)] = x[(i, jj)].conj();
+                                }
+                            }
                             _ => return Err(internal("element type changed".into())),
                         }
                     }
@@ -669,6 +705,15 @@ fn from_pairs(
             Ok(())
         },
     )?;
+    let panels: Vec<Panel> = layout
+        .iter()
+        .enumerate()
+        .map(|(p, j)| Panel {
+            cols: j.clone(),
+            storage: p,
+            offset: 0,
+        })
+        .collect();
     storage
         .into_iter()
         .map(|st| HermitianPanels::new(k, field, st, panels.clone()).map_err(internal))

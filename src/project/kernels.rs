@@ -37,6 +37,8 @@ pub(crate) trait Elem: Copy + Send + Sync + Default + std::fmt::Debug + 'static 
     fn mul(self, o: Self) -> Self;
     fn add(self, o: Self) -> Self;
     fn re(self) -> f64;
+    /// The value as a complex number.
+    fn to_c64(self) -> c64;
     /// `dst = a · b`, parallel, into a preallocated output.
     fn product_into(
         dst: faer::MatMut<'_, Self>,
@@ -100,6 +102,9 @@ impl Elem for f64 {
     }
     fn re(self) -> f64 {
         self
+    }
+    fn to_c64(self) -> c64 {
+        c64::new(self, 0.0)
     }
     fn product_into(dst: faer::MatMut<'_, f64>, a: MatRef<'_, f64>, b: MatRef<'_, f64>, par: Par) {
         matmul(dst, Accum::Replace, a, b, 1.0, par);
@@ -170,6 +175,9 @@ impl Elem for c64 {
     }
     fn re(self) -> f64 {
         self.re
+    }
+    fn to_c64(self) -> c64 {
+        self
     }
     fn product_into(dst: faer::MatMut<'_, c64>, a: MatRef<'_, c64>, b: MatRef<'_, c64>, par: Par) {
         matmul(dst, Accum::Replace, a, b, c64::new(1.0, 0.0), par);
@@ -296,6 +304,28 @@ pub(crate) fn op_shape<T>(d: &OpData<T>) -> Result<(usize, usize)> {
             (s.nrows, s.ncols)
         }
     })
+}
+
+/// `vⱼᴴ ψ` for every column `vⱼ` of `v` (`dim × w`; `ψ` of length `dim`), one plain
+/// dot product per column, parallel over the columns unless `par` is sequential. (A
+/// product with a one- or two-column right-hand side is bound by reading `v` once; a
+/// general product would pack `v` into scratch first.)
+pub(crate) fn adj_vec<T: Elem>(v: MatRef<'_, T>, psi: &[c64], par: Par) -> Vec<c64> {
+    let dot = |j: usize| -> c64 {
+        match col_slice(v, j) {
+            Some(col) => col
+                .iter()
+                .zip(psi)
+                .fold(c64::new(0.0, 0.0), |s, (&x, &p)| s + x.conj().to_c64() * p),
+            None => (0..v.nrows().min(psi.len())).fold(c64::new(0.0, 0.0), |s, i| {
+                s + v[(i, j)].conj().to_c64() * psi[i]
+            }),
+        }
+    };
+    match par {
+        Par::Seq => (0..v.ncols()).map(dot).collect(),
+        _ => (0..v.ncols()).into_par_iter().map(dot).collect(),
+    }
 }
 
 /// Columns a sparse (CSR) product handles at once: they are interleaved so that the

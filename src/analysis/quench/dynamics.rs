@@ -29,9 +29,9 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 /// Largest scratch of the time trace: the batch of `b(t)` columns and one block of
-/// products (8 MiB). Wider batches save no work, only product overhead, once a batch
+/// products (4 MiB). Wider batches save no work, only product overhead, once a batch
 /// holds a few tens of times.
-pub const TRACE_BATCH_BYTES: usize = 8 << 20;
+pub const TRACE_BATCH_BYTES: usize = 4 << 20;
 
 /// Rows of `A_KK` multiplied at once in the time trace.
 const TRACE_ROWS: usize = 512;
@@ -44,16 +44,6 @@ pub struct Work {
     /// Bytes the time trace may use for its batches (at most [`TRACE_BATCH_BYTES`] are
     /// used; at least one time per batch).
     pub scratch_bytes: usize,
-}
-
-impl Default for Work {
-    /// Every thread of the rayon pool, [`TRACE_BATCH_BYTES`] of scratch.
-    fn default() -> Self {
-        Work {
-            par: Par::rayon(0),
-            scratch_bytes: TRACE_BATCH_BYTES,
-        }
-    }
 }
 
 /// The plain data of one sector for [`analyze`].
@@ -375,7 +365,7 @@ pub fn analyze(
     let dropped = (1.0 - weight_kept).max(0.0);
     let trace_error_bound = bound.norm * (2.0 * dropped.sqrt() + dropped);
 
-    let values = time_trace(&e_k, &c_k, a_kk, energy, times, work);
+    let values = time_trace(&e_k, &c_k, a_kk, energy, times, work)?;
     let trace: Vec<TracePoint> = times
         .iter()
         .zip(&values)
@@ -430,22 +420,27 @@ pub fn time_trace(
     e_ref: f64,
     times: &[f64],
     work: Work,
-) -> Vec<f64> {
-    let k = e_k.len().min(c_k.len()).min(a_kk.dim());
+) -> Result<Vec<f64>> {
+    let k = e_k.len();
+    if c_k.len() != k || a_kk.dim() != k {
+        return Err(Error::other(format!(
+            "quench: {k} kept energies, {} coefficients and a {}×{} kept-state matrix",
+            c_k.len(),
+            a_kk.dim(),
+            a_kk.dim()
+        )));
+    }
     let mut out = Vec::with_capacity(times.len());
     if k == 0 {
         out.resize(times.len(), 0.0);
-        return out;
+        return Ok(out);
     }
     let rows = TRACE_ROWS.min(k);
     // bytes per time: two real (or one complex) columns of B and of the products
     let per_time = 16 * (k + rows);
     let scratch = work.scratch_bytes.min(TRACE_BATCH_BYTES);
     let batch = (scratch / per_time).clamp(1, times.len().max(1));
-    let phase = |i: usize, t: f64| {
-        let (s, c) = (-(e_k[i] - e_ref) * t).sin_cos();
-        c_k[i] * c64::new(c, s)
-    };
+    let phases = Phases::new(&e_k[..k], &c_k[..k], e_ref, times);
     match a_kk.field() {
         crate::data::Field::Real => {
             // B as real columns (Re b(t), Im b(t)) side by side for each time
@@ -453,9 +448,7 @@ pub fn time_trace(
             let mut m = Mat::<f64>::zeros(rows, 2 * batch);
             for ts in times.chunks(batch) {
                 let nt = ts.len();
-                fill_pairs(b.as_mut().subcols_mut(0, 2 * nt), work.par, |i, j| {
-                    phase(i, ts[j])
-                });
+                fill_pairs(b.as_mut().subcols_mut(0, 2 * nt), work.par, &phases, ts);
                 let mut acc = vec![0.0; nt];
                 for_each_product(a_kk, b.as_ref().subcols(0, 2 * nt), m.as_mut(), work.par, {
                     |rows: std::ops::Range<usize>, prod: MatRef<'_, f64>, f: f64| {
@@ -477,9 +470,7 @@ pub fn time_trace(
             let mut m = Mat::<c64>::zeros(rows, batch);
             for ts in times.chunks(batch) {
                 let nt = ts.len();
-                fill_columns(b.as_mut().subcols_mut(0, nt), work.par, |i, j| {
-                    phase(i, ts[j])
-                });
+                fill_columns(b.as_mut().subcols_mut(0, nt), work.par, &phases, ts);
                 let mut acc = vec![0.0; nt];
                 for_each_product(a_kk, b.as_ref().subcols(0, nt), m.as_mut(), work.par, {
                     |rows: std::ops::Range<usize>, prod: MatRef<'_, c64>, f: f64| {
@@ -496,21 +487,23 @@ pub fn time_trace(
             }
         }
     }
-    out
+    Ok(out)
 }
 
 /// Scalar types of the trace products.
 trait TraceElem: faer::traits::ComplexField + Copy + Send + Sync + 'static {
     fn one() -> Self;
-    fn panel(p: PanelRef<'_>) -> Option<MatRef<'_, Self>>;
+    /// The storage of panel `p` and the columns after it, `width` in all
+    /// ([`HermitianPanels::storage_view`]), when the element type matches.
+    fn view(a: &HermitianPanels, p: usize, width: usize) -> Option<MatRef<'_, Self>>;
 }
 
 impl TraceElem for f64 {
     fn one() -> Self {
         1.0
     }
-    fn panel(p: PanelRef<'_>) -> Option<MatRef<'_, f64>> {
-        match p {
+    fn view(a: &HermitianPanels, p: usize, width: usize) -> Option<MatRef<'_, f64>> {
+        match a.storage_view(p, width) {
             PanelRef::Real(m) => Some(m),
             PanelRef::Complex(_) => None,
         }
@@ -521,19 +514,23 @@ impl TraceElem for c64 {
     fn one() -> Self {
         c64::new(1.0, 0.0)
     }
-    fn panel(p: PanelRef<'_>) -> Option<MatRef<'_, c64>> {
-        match p {
+    fn view(a: &HermitianPanels, p: usize, width: usize) -> Option<MatRef<'_, c64>> {
+        match a.storage_view(p, width) {
             PanelRef::Complex(m) => Some(m),
             PanelRef::Real(_) => None,
         }
     }
 }
 
-/// For every panel `P_J` of `a_kk` and every block of at most `m.nrows()` of its rows `R`
-/// (the rows above the diagonal block first, then the diagonal block), the product
-/// `P_J[R, ·] · B[J, ·]` (into `m`), handed to `sink(R, product, factor)` with the factor
-/// 2 for rows above the diagonal block (their mirror images below are not stored) and 1
-/// for the diagonal block. The rows of `b` follow the columns of `a_kk`.
+/// The products `A_KK[R, C] · B[C, ·]` that cover the stored upper part of `a_kk` once,
+/// each handed to `sink(R, product, factor)`: factor 2 for blocks above the diagonal
+/// (their mirror images below are not stored), 1 for the diagonal blocks of the panels
+/// (stored whole). Panels that lie side by side in one storage matrix are taken together,
+/// so that the products run over as many columns as possible: for such a group of columns
+/// `[g₀, g₁)`, the rows above it in blocks of at most `m.nrows()`, then its own rows in
+/// blocks of whole panels of at most that many rows, each against the columns after the
+/// block and, inside the block, each panel against the rows of the block above it and its
+/// diagonal block. The rows of `b` follow the columns of `a_kk`.
 fn for_each_product<T: TraceElem>(
     a_kk: &HermitianPanels,
     b: MatRef<'_, T>,
@@ -543,70 +540,186 @@ fn for_each_product<T: TraceElem>(
 ) {
     let step = m.nrows().max(1);
     let nt = b.ncols();
-    for (p, q) in a_kk.panels().iter().enumerate() {
-        let Some(panel) = T::panel(a_kk.panel(p)) else {
+    let panels = a_kk.panels();
+    let mut product =
+        |rows: std::ops::Range<usize>, lhs: MatRef<'_, T>, cols: std::ops::Range<usize>, f: f64| {
+            let mut r0 = rows.start;
+            while r0 < rows.end {
+                let r1 = (r0 + step).min(rows.end);
+                let mut dst = m.as_mut().submatrix_mut(0, 0, r1 - r0, nt);
+                matmul(
+                    dst.as_mut(),
+                    Accum::Replace,
+                    lhs.subrows(r0 - rows.start, r1 - r0),
+                    b.subrows(cols.start, cols.len()),
+                    T::one(),
+                    par,
+                );
+                sink(r0..r1, dst.as_ref(), f);
+                r0 = r1;
+            }
+        };
+    let mut p = 0;
+    while p < panels.len() {
+        // the group: panels p..q side by side in one storage matrix
+        let mut q = p + 1;
+        while q < panels.len()
+            && panels[q].storage == panels[p].storage
+            && panels[q].offset == panels[q - 1].offset + panels[q - 1].cols.len()
+        {
+            q += 1;
+        }
+        let (g0, g1) = (panels[p].cols.start, panels[q - 1].cols.end);
+        let Some(view) = T::view(a_kk, p, g1 - g0) else {
+            p = q;
             continue;
         };
-        let (j0, j1) = (q.cols.start, q.cols.end);
-        let bj = b.subrows(j0, j1 - j0);
-        let mut r0 = 0;
-        while r0 < j1 {
-            let r1 = if r0 < j0 {
-                (r0 + step).min(j0)
-            } else {
-                (r0 + step).min(j1)
-            };
-            let mut dst = m.as_mut().submatrix_mut(0, 0, r1 - r0, nt);
-            matmul(
-                dst.as_mut(),
-                Accum::Replace,
-                panel.subrows(r0, r1 - r0),
-                bj,
-                T::one(),
-                par,
-            );
-            sink(r0..r1, dst.as_ref(), if r0 < j0 { 2.0 } else { 1.0 });
-            r0 = r1;
+        // rows above the group
+        if g0 > 0 {
+            product(0..g0, view.subrows(0, g0), g0..g1, 2.0);
+        }
+        // rows of the group, in blocks of whole panels of about `step` rows: against the
+        // columns after the block, then inside the block panel by panel
+        let mut a = p;
+        while a < q {
+            let r0 = panels[a].cols.start;
+            let mut e = a + 1;
+            while e < q && panels[e].cols.end - r0 <= step {
+                e += 1;
+            }
+            let r1 = panels[e - 1].cols.end;
+            if r1 < g1 {
+                let lhs = view.submatrix(r0, r1 - g0, r1 - r0, g1 - r1);
+                product(r0..r1, lhs, r1..g1, 2.0);
+            }
+            for panel in &panels[a..e] {
+                let (j0, j1) = (panel.cols.start, panel.cols.end);
+                if j0 > r0 {
+                    let lhs = view.submatrix(r0, j0 - g0, j0 - r0, j1 - j0);
+                    product(r0..j0, lhs, j0..j1, 2.0);
+                }
+                product(
+                    j0..j1,
+                    view.submatrix(j0, j0 - g0, j1 - j0, j1 - j0),
+                    j0..j1,
+                    1.0,
+                );
+            }
+            a = e;
+        }
+        p = q;
+    }
+}
+
+/// Times per run of the phase recurrence: `b(t)` is computed exactly at the first time of
+/// every run and by `b(t + δt) = b(t)·e^{−i(E − e_ref)δt}` at the others.
+const ANCHOR: usize = 32;
+
+/// The columns `b(t) = (c_m e^{−i(E_m − e_ref)t})_m` of the trace. On an equally spaced grid
+/// (`t_j = t₀ + j·δt` to 10⁻¹³ of the largest time) runs of [`ANCHOR`] times use the
+/// recurrence with the factors `e^{−i(E_m − e_ref)δt}`, computed once (relative error a few
+/// 10⁻¹⁵ after a run); otherwise every entry is computed exactly.
+struct Phases<'a> {
+    e_k: &'a [f64],
+    c_k: &'a [c64],
+    e_ref: f64,
+    steps: Option<Vec<c64>>,
+}
+
+impl<'a> Phases<'a> {
+    fn new(e_k: &'a [f64], c_k: &'a [c64], e_ref: f64, times: &[f64]) -> Self {
+        let n = times.len();
+        let steps = (n >= 2)
+            .then(|| {
+                let dt = (times[n - 1] - times[0]) / (n - 1) as f64;
+                let scale = times[0]
+                    .abs()
+                    .max(times[n - 1].abs())
+                    .max(f64::MIN_POSITIVE);
+                let uniform = times
+                    .iter()
+                    .enumerate()
+                    .all(|(j, &t)| (t - (times[0] + j as f64 * dt)).abs() <= 1e-13 * scale);
+                uniform.then(|| {
+                    e_k.iter()
+                        .map(|&e| {
+                            let (s, c) = (-(e - e_ref) * dt).sin_cos();
+                            c64::new(c, s)
+                        })
+                        .collect()
+                })
+            })
+            .flatten();
+        Phases {
+            e_k,
+            c_k,
+            e_ref,
+            steps,
+        }
+    }
+
+    fn exact(&self, i: usize, t: f64) -> c64 {
+        let (s, c) = (-(self.e_k[i] - self.e_ref) * t).sin_cos();
+        self.c_k[i] * c64::new(c, s)
+    }
+
+    /// `put(i, j, b_i(ts[j]))` for every state `i` and the times `ts` (one run: exact at
+    /// `ts[0]`).
+    fn run(&self, ts: &[f64], mut put: impl FnMut(usize, usize, c64)) {
+        for i in 0..self.e_k.len() {
+            let mut z = self.exact(i, ts[0]);
+            put(i, 0, z);
+            for (j, &t) in ts.iter().enumerate().skip(1) {
+                z = match &self.steps {
+                    Some(steps) => z * steps[i],
+                    None => self.exact(i, t),
+                };
+                put(i, j, z);
+            }
         }
     }
 }
 
-/// Fills the columns `2j, 2j + 1` of `b` with the real and imaginary parts of `f(i, j)`,
-/// parallel over `j` unless `par` is sequential.
-fn fill_pairs(b: MatMut<'_, f64>, par: Par, f: impl Fn(usize, usize) -> c64 + Sync) {
-    let fill = |(j, mut pair): (usize, MatMut<'_, f64>)| {
-        for i in 0..pair.nrows() {
-            let z = f(i, j);
-            pair[(i, 0)] = z.re;
-            pair[(i, 1)] = z.im;
-        }
+/// Fills the columns `2j, 2j + 1` of `b` with the real and imaginary parts of `b(ts[j])`,
+/// parallel over runs of times unless `par` is sequential.
+fn fill_pairs(b: MatMut<'_, f64>, par: Par, phases: &Phases<'_>, ts: &[f64]) {
+    let fill = |(r, mut cols): (usize, MatMut<'_, f64>)| {
+        let ts = &ts[r * ANCHOR..(r * ANCHOR + cols.ncols() / 2)];
+        phases.run(ts, |i, j, z| {
+            cols[(i, 2 * j)] = z.re;
+            cols[(i, 2 * j + 1)] = z.im;
+        });
     };
     match par {
         Par::Seq => {
             let mut b = b;
-            for j in 0..b.ncols() / 2 {
-                fill((j, b.as_mut().subcols_mut(2 * j, 2)));
+            let n = b.ncols();
+            for r in 0..n.div_ceil(2 * ANCHOR) {
+                let c0 = 2 * ANCHOR * r;
+                fill((r, b.as_mut().subcols_mut(c0, (2 * ANCHOR).min(n - c0))));
             }
         }
-        _ => b.par_col_chunks_mut(2).enumerate().for_each(fill),
+        _ => b.par_col_chunks_mut(2 * ANCHOR).enumerate().for_each(fill),
     }
 }
 
-/// Fills column `j` of `b` with `f(·, j)`, parallel over `j` unless `par` is sequential.
-fn fill_columns(b: MatMut<'_, c64>, par: Par, f: impl Fn(usize, usize) -> c64 + Sync) {
-    let fill = |(j, mut col): (usize, MatMut<'_, c64>)| {
-        for i in 0..col.nrows() {
-            col[(i, 0)] = f(i, j);
-        }
+/// Fills column `j` of `b` with `b(ts[j])`, parallel over runs of times unless `par` is
+/// sequential.
+fn fill_columns(b: MatMut<'_, c64>, par: Par, phases: &Phases<'_>, ts: &[f64]) {
+    let fill = |(r, mut cols): (usize, MatMut<'_, c64>)| {
+        let ts = &ts[r * ANCHOR..(r * ANCHOR + cols.ncols())];
+        phases.run(ts, |i, j, z| cols[(i, j)] = z);
     };
     match par {
         Par::Seq => {
             let mut b = b;
-            for j in 0..b.ncols() {
-                fill((j, b.as_mut().subcols_mut(j, 1)));
+            let n = b.ncols();
+            for r in 0..n.div_ceil(ANCHOR) {
+                let c0 = ANCHOR * r;
+                fill((r, b.as_mut().subcols_mut(c0, ANCHOR.min(n - c0))));
             }
         }
-        _ => b.par_col_chunks_mut(1).enumerate().for_each(fill),
+        _ => b.par_col_chunks_mut(ANCHOR).enumerate().for_each(fill),
     }
 }
 
@@ -685,6 +798,14 @@ mod tests {
         (e, c, a)
     }
 
+    /// Two threads and the largest batches.
+    fn wide() -> Work {
+        Work {
+            par: Par::rayon(2),
+            scratch_bytes: TRACE_BATCH_BYTES,
+        }
+    }
+
     /// Small scratch and one thread: several batches of times, several row blocks.
     const TIGHT: Work = Work {
         par: Par::Seq,
@@ -697,9 +818,9 @@ mod tests {
         // double sum (exact identity, linear algebra), whatever the panels and batches
         let (e, c, a) = random_problem(17, 3);
         let times = [0.0, 0.3, 1.7, 12.5];
-        for (width, work) in [(17, Work::default()), (4, TIGHT), (1, TIGHT)] {
+        for (width, work) in [(17, wide()), (4, TIGHT), (1, TIGHT)] {
             let m = HermitianPanels::from_full(&Matrix::Complex(a.clone()), width);
-            let got = time_trace(&e, &c, &m, 0.4, &times, work);
+            let got = time_trace(&e, &c, &m, 0.4, &times, work).unwrap();
             for (j, &t) in times.iter().enumerate() {
                 let mut s = c64::new(0.0, 0.0);
                 for n in 0..17 {
@@ -724,10 +845,52 @@ mod tests {
             &Matrix::Complex(Mat::from_fn(17, 17, |i, j| c64::new(ar[(i, j)], 0.0))),
             6,
         );
-        let r1 = time_trace(&e, &c, &real, 0.0, &times, TIGHT);
-        let r2 = time_trace(&e, &c, &cplx, 0.0, &times, Work::default());
+        let r1 = time_trace(&e, &c, &real, 0.0, &times, TIGHT).unwrap();
+        let r2 = time_trace(&e, &c, &cplx, 0.0, &times, wide()).unwrap();
         for (x, y) in r1.iter().zip(&r2) {
             assert!((x - y).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn trace_on_shared_storage_and_uniform_grids() {
+        // the same double sum (exact identity) with panels side by side in one storage
+        // matrix (grouped products, several row blocks: k above the row block of the
+        // products) on an equally spaced grid (phase recurrence) and an uneven one
+        let k = TRACE_ROWS + 88;
+        let (e, c, a) = random_problem(k, 12);
+        let ar = Mat::<f64>::from_fn(k, k, |i, j| a[(i, j)].re);
+        let w = 100;
+        let panels: Vec<crate::data::Panel> = (0..k.div_ceil(w))
+            .map(|p| crate::data::Panel {
+                cols: p * w..((p + 1) * w).min(k),
+                storage: 0,
+                offset: p * w,
+            })
+            .collect();
+        let shared = HermitianPanels::new(
+            k,
+            crate::data::Field::Real,
+            vec![Matrix::Real(ar.clone())],
+            panels,
+        )
+        .unwrap();
+        let uniform: Vec<f64> = (0..70).map(|j| 0.25 * j as f64).collect();
+        let uneven = [0.0, 0.7, 3.1, 3.2, 11.0];
+        for times in [&uniform[..], &uneven[..]] {
+            let got = time_trace(&e, &c, &shared, 0.3, times, wide()).unwrap();
+            for (j, &t) in times.iter().enumerate() {
+                let mut s = c64::new(0.0, 0.0);
+                for n in 0..k {
+                    let mut row = c64::new(0.0, 0.0);
+                    for m in 0..k {
+                        let ph = (e[n] - e[m]) * t;
+                        row += c[m] * ar[(n, m)] * c64::new(ph.cos(), ph.sin());
+                    }
+                    s += c[n].conj() * row;
+                }
+                assert!((got[j] - s.re).abs() < 1e-10 * (1.0 + s.re.abs()), "t {t}");
+            }
         }
     }
 
@@ -750,7 +913,7 @@ mod tests {
             },
             times,
             &QuenchOptions::default(),
-            Work::default(),
+            wide(),
         )
     }
 

@@ -297,10 +297,22 @@ fn panel_sums<T: Entry>(
     if inp.radii {
         s.radii = vec![0.0; cols.end];
     }
+    // ascending energies: along a column, ω = E_b − E_a falls as a rises, and so does its
+    // lookup bin, which is then followed by a short walk instead of a search per pair
+    let sorted = inp.e_k[..cols.end].windows(2).all(|w| w[0] <= w[1]);
     for (c, b) in cols.clone().enumerate() {
         let (eb, pb, cb) = (inp.e_k[b], inp.p_k[b], inp.c_k[b]);
+        let col = m.col(c).try_as_col_major();
+        let mut g = if sorted && b > 0 {
+            bin_of(inp.lookup, (eb - inp.e_k[0]).abs())
+        } else {
+            None
+        };
         for a in 0..b {
-            let x = m[(a, c)];
+            let x = match col {
+                Some(col) => col.as_slice()[a],
+                None => m[(a, c)],
+            };
             let w = (eb - inp.e_k[a]).abs();
             let x2 = x.abs2();
             if let (Some(wmax), true) = (inp.build, nb > 0) {
@@ -315,7 +327,16 @@ fn panel_sums<T: Entry>(
             } else {
                 let pp = 2.0 * inp.p_k[a] * pb;
                 s.sigma2 += pp * x2;
-                if let Some(bin) = bin_of(inp.lookup, w) {
+                let bin = match g.as_mut() {
+                    Some(g) => {
+                        while *g > 0 && inp.lookup[*g] >= w {
+                            *g -= 1;
+                        }
+                        Some(*g)
+                    }
+                    None => bin_of(inp.lookup, w),
+                };
+                if let Some(bin) = bin {
                     s.eth_weight[bin] += pp;
                 }
             }

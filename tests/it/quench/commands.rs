@@ -345,3 +345,71 @@ fn study_with_several_observables_matches_single_observable_runs() {
 }
 
 use crate::util::mixed_field_chains;
+
+/// Largest difference between the numbers of two JSON documents of the same shape,
+/// relative to the larger magnitude or to 10⁻⁶ when both are smaller (values that are
+/// zero but for rounding); `f64::INFINITY` when anything else differs.
+fn max_rel_diff(a: &serde_json::Value, b: &serde_json::Value) -> f64 {
+    use serde_json::Value;
+    match (a, b) {
+        (Value::Number(x), Value::Number(y)) => {
+            let (x, y) = (x.as_f64().unwrap(), y.as_f64().unwrap());
+            (x - y).abs() / x.abs().max(y.abs()).max(1e-6)
+        }
+        (Value::Array(x), Value::Array(y)) if x.len() == y.len() => x
+            .iter()
+            .zip(y)
+            .map(|(u, v)| max_rel_diff(u, v))
+            .fold(0.0, f64::max),
+        (Value::Object(x), Value::Object(y)) if x.len() == y.len() => x
+            .iter()
+            .map(|(k, u)| y.get(k).map_or(f64::INFINITY, |v| max_rel_diff(u, v)))
+            .fold(0.0, f64::max),
+        (x, y) if x == y => 0.0,
+        _ => f64::INFINITY,
+    }
+}
+
+#[test]
+fn a_small_memory_budget_gives_the_same_figures_or_one_line() {
+    // --memory bounds the quench: a budget too small to keep the eigenvectors forms the
+    // kept-state matrices from block pairs with smaller blocks and reports the same figures
+    // (the same matrix elements summed in another order: rounding only; common practice, no
+    // source); a budget below the kept-state matrix itself stops with one line naming it
+    // (dimensions 136 and 120 at L = 8: the matrices take about 220 KB and 170 KB)
+    let dir = tempfile::tempdir().unwrap();
+    let path = &mixed_field_chains(dir.path(), &[8])[0];
+    let p = path.to_str().unwrap();
+    let run_with = |memory: Option<&str>| {
+        let mut args = vec![
+            "quench",
+            p,
+            "--observable",
+            "sz_site",
+            "--state",
+            "product:uuuudddd",
+            "--times",
+            "lin:0:10:21",
+            "--json",
+        ];
+        if let Some(m) = memory {
+            args.extend(["--memory", m]);
+        }
+        run(&args)
+    };
+    let (ok, full, err) = run_with(None);
+    assert!(ok, "{err}");
+    let (ok, small, err) = run_with(Some("300K"));
+    assert!(ok, "{err}");
+    let full: serde_json::Value = serde_json::from_str(&full).unwrap();
+    let small: serde_json::Value = serde_json::from_str(&small).unwrap();
+    let d = max_rel_diff(&full, &small);
+    assert!(d < 1e-9, "largest relative difference {d:e}");
+    let (ok, _, err) = run_with(Some("100K"));
+    assert!(!ok);
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+    assert!(
+        err.starts_with("error: ") && err.contains("memory budget"),
+        "{err}"
+    );
+}
