@@ -445,6 +445,16 @@ pub fn format_index(shape: &[usize], flat: usize) -> String {
     )
 }
 
+/// The length of a vector stored as `[n]`, `[1, n]` or `[n, 1]` (what column- and
+/// row-major writers produce for a vector), or `None` for any other shape.
+pub fn vector_len(shape: &[usize]) -> Option<usize> {
+    match shape {
+        [n] => Some(*n),
+        [1, n] | [n, 1] => Some(*n),
+        _ => None,
+    }
+}
+
 /// A shape as `[a, b]`.
 pub fn format_shape(shape: &[usize]) -> String {
     format!(

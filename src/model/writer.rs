@@ -107,8 +107,14 @@ fn write_all(tmp: &Path, final_path: &Path, sectors: &[SectorData]) -> Result<()
     let ctx = Ctx { file: final_path };
     // Strong close degree: closing the file closes every object still open in it and
     // flushes, so the file is complete on disk before it is renamed and read elsewhere.
+    // No file lock: nobody can see the temporary name before the rename, and a lock on it
+    // would be inherited by any process the caller spawns meanwhile (flock follows the file
+    // description), keeping the finished file locked against readers until that child exits.
     let file = hdf5::File::with_options()
-        .with_fapl(|p| p.fclose_degree(hdf5::file::FileCloseDegree::Strong))
+        .with_fapl(|p| {
+            p.fclose_degree(hdf5::file::FileCloseDegree::Strong)
+                .file_locking(false)
+        })
         .create(tmp)
         .map_err(|e| Error::file(final_path, e.to_string()))?;
     for s in sectors {
