@@ -11,6 +11,8 @@
 //!   `[n, n]` with attribute `basis = "energy"`;
 //! - `states/<name>` `[dim]` with attribute `weight = ‖c‖² = Σ|cᵢ|²`;
 //! - `embedding` (CSR, `[full_dim, dim]`) when the sector comes from a larger space;
+//! - `basis` `[dim]` uint64 with attribute `local_dim = 2` when every row of the
+//!   eigenvectors is one computational-basis configuration (bit `i − 1` = site `i`);
 //! - attributes `size` (int64), `label`, the string and typed attributes, and `note` on the
 //!   datasets listed in [`SectorData::notes`].
 //!
@@ -212,6 +214,10 @@ fn write_sector(ctx: &Ctx, file: &hdf5::File, s: &SectorData) -> Result<()> {
     }
     if let Some(p) = &s.embedding {
         write_csr(ctx, &g, "embedding", &here("embedding"), p)?;
+    }
+    if let Some(b) = &s.basis {
+        let ds = write_array(ctx, &g, "basis", &here("basis"), Array1::from(b.clone()))?;
+        scalar_attr(ctx, &ds, &here("basis"), "local_dim", 2i64)?;
     }
 
     let gp = if base.is_empty() {
