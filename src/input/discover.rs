@@ -285,6 +285,8 @@ fn describe(
     let label = attr_string(file, group, &gobj, "label")?;
     let model = attr_string(file, group, &gobj, "model")?;
     let symmetry_class = attr_string(file, group, &gobj, "symmetry_class")?;
+    let realization = attr_count(file, group, &gobj, "realization")?;
+    let disorder = h5::attr_number(file, group, &gobj, "disorder")?;
 
     let mut sector = Sector {
         name: sector_name(group),
@@ -301,6 +303,8 @@ fn describe(
         label,
         model,
         symmetry_class,
+        realization,
+        disorder,
         energies_path: epath.to_string(),
         energies_element: eel,
         eigenvectors_path: vpath,

@@ -265,6 +265,47 @@ pub fn attr_count(
     }
 }
 
+/// Reads a single finite number `name` (any integer or float type). `Ok(None)` when the
+/// attribute does not exist.
+pub fn attr_number(
+    file: &Path,
+    path: &str,
+    loc: &hdf5::Location,
+    name: &str,
+) -> Result<Option<f64>> {
+    let Some((attr, desc, apath)) = open_attr(file, path, loc, name)? else {
+        return Ok(None);
+    };
+    if attr.size() != 1 {
+        return Err(Error::dataset(
+            file,
+            &apath,
+            format!("expected a single number, found {} elements", attr.size()),
+        ));
+    }
+    let read = |e: hdf5::Error| h5err(file, &apath, "cannot read", e);
+    let x = match desc {
+        TypeDescriptor::Integer(_) | TypeDescriptor::Unsigned(_) | TypeDescriptor::Float(_) => {
+            attr.read_raw::<f64>().map_err(read)?[0]
+        }
+        other => {
+            return Err(Error::dataset(
+                file,
+                &apath,
+                format!("expected a number, found {}", describe(&other)),
+            ))
+        }
+    };
+    if !x.is_finite() {
+        return Err(Error::dataset(
+            file,
+            &apath,
+            format!("expected a finite number, found {x}"),
+        ));
+    }
+    Ok(Some(x))
+}
+
 /// Reads an attribute `name` holding non-negative integers (any integer type, or
 /// floats with integral values). `Ok(None)` when the attribute does not exist.
 pub fn attr_counts(
