@@ -43,6 +43,10 @@ pub struct Args {
     /// Width of the Gaussian filter of the spectral form factor, in standard deviations of the unfolded levels.
     #[arg(long, default_value_t = 0.5, value_name = "ETA")]
     pub sff_eta: f64,
+    /// Tolerance ε of the Thouless time: the connected form factor counts as on the
+    /// random-matrix curve while |log10(K_c / K_RMT)| < ε.
+    #[arg(long, default_value_t = 0.08, value_name = "EPS")]
+    pub thouless_tolerance: f64,
     /// Relative degeneracy tolerance: |ΔE| < TOL × mean spacing counts as degenerate.
     #[arg(long, default_value_t = 1e-10, value_name = "TOL")]
     pub degeneracy_tol: f64,
@@ -58,6 +62,12 @@ impl Args {
             return Err(Error::usage(format!(
                 "--sff-eta {}: expected a positive number",
                 self.sff_eta
+            )));
+        }
+        if !(self.thouless_tolerance.is_finite() && self.thouless_tolerance > 0.0) {
+            return Err(Error::usage(format!(
+                "--thouless-tolerance {}: expected a positive number",
+                self.thouless_tolerance
             )));
         }
         if !(self.degeneracy_tol.is_finite() && self.degeneracy_tol >= 0.0) {
@@ -85,6 +95,7 @@ impl Args {
             unfold,
             ratio_bins: self.bins,
             sff_eta: self.sff_eta,
+            sff_tolerance: self.thouless_tolerance,
             degeneracy_tol: self.degeneracy_tol,
             min_levels: self.min_levels,
             ..LevelOptions::default()
