@@ -173,6 +173,11 @@ pub fn ensembles(members: &[Member], opts: &LevelOptions) -> Vec<EnsembleAverage
             None => groups.push(vec![m]),
         }
     }
+    groups.sort_by(|a, b| {
+        let key = |g: &Vec<&Member>| (g[0].size, g[0].disorder.unwrap_or(f64::NAN));
+        let ((la, wa), (lb, wb)) = (key(a), key(b));
+        la.cmp(&lb).then(wa.total_cmp(&wb))
+    });
     groups
         .into_iter()
         .map(|g| {

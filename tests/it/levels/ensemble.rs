@@ -53,6 +53,24 @@ fn realization_averages_equal_numpy() {
         gs.sort_by(f64::total_cmp);
         ws.sort_by(f64::total_cmp);
         assert!(gs.iter().zip(&ws).all(|(a, b)| close(*a, *b)));
+        // the realization-averaged (connected) form factor: same expected.json (NumPy 2.4.6
+        // direct sums over the poly:5-unfolded windows; chebfit for the unfolding), to 1e-9
+        let (wt, gt) = (
+            we["form_factor"].as_array().unwrap(),
+            ge["form_factor"]["table"].as_array().unwrap(),
+        );
+        assert_eq!(gt.len(), wt.len());
+        for (g, w) in gt.iter().zip(wt) {
+            for key in ["tau", "k", "k_stderr", "k_connected", "k_connected_stderr"] {
+                let (a, b) = (g[key].as_f64().unwrap(), w[key].as_f64().unwrap());
+                assert!(
+                    (a - b).abs() <= 1e-9 * b.abs().max(1.0),
+                    "{} tau {}: {key} {a} vs {b}",
+                    we["label"],
+                    w["tau"]
+                );
+            }
+        }
     }
     let c = &got["disorder_scan"]["crossings"][0];
     let (a, b) = (
