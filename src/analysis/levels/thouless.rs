@@ -132,15 +132,10 @@ pub struct AveragedFormFactor {
     pub table: Vec<AveragedPoint>,
 }
 
-/// Mean and standard error s/√n (n − 1 in the variance; NaN error for n < 2).
+/// Mean and standard error s/√n over realizations ([`crate::analysis::ensemble::sample_stats`]).
 fn mean_se(x: &[f64]) -> (f64, f64) {
-    let n = x.len() as f64;
-    let m = x.iter().sum::<f64>() / n;
-    if x.len() < 2 {
-        return (m, f64::NAN);
-    }
-    let v = x.iter().map(|a| (a - m).powi(2)).sum::<f64>() / (n - 1.0);
-    (m, (v / n).sqrt())
+    let (mean, _, se) = crate::analysis::ensemble::sample_stats(x);
+    (mean, se)
 }
 
 /// The table of one spectrum in the averaged form (its errors from the time samples).
