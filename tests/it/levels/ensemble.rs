@@ -175,3 +175,34 @@ fn random_field_chain_goes_from_goe_to_poisson() {
     );
     assert!(sw > 0.0 && ss > 0.0);
 }
+
+#[test]
+fn inspect_shows_basis_and_realization_attributes() {
+    // layout of the README (common practice, no source): generate writes `basis` for an
+    // S^z sector and `realization`/`disorder` for each realization
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("rf.h5");
+    let (code, _, err) = run_binary(&[
+        "generate",
+        "--model",
+        "xxz",
+        "--sites",
+        "8",
+        "--sz",
+        "0",
+        "--disorder",
+        "2",
+        "--realizations",
+        "2",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    let (code, text, err) = run_binary(&["inspect", out.to_str().unwrap()]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(
+        text.contains("basis         [70] integer elements (uint64)"),
+        "{text}"
+    );
+    assert!(text.contains("realization 1, disorder 2"), "{text}");
+}
