@@ -158,6 +158,27 @@ pub fn sample_stats(x: &[f64]) -> (f64, f64, f64) {
     (mean, var.sqrt(), var.sqrt() / n.sqrt())
 }
 
+/// The ensemble members among per-sector analyses: the sectors with a `realization`
+/// attribute, their ⟨r̃⟩ and unfolded window levels.
+pub fn members_of(analyses: &[crate::analysis::sector::SectorAnalysis]) -> Vec<Member> {
+    analyses
+        .iter()
+        .filter_map(|a| {
+            Some(Member {
+                name: format!("{}:{}", a.file, a.sector),
+                size: a.size,
+                disorder: a.disorder,
+                label: a.label_attribute.clone(),
+                realization: a.realization?,
+                value: a.levels.mean_r,
+                unfolded: a.levels.unfolded.clone(),
+                mean_spacing: a.levels.mean_spacing,
+                class: a.class.symmetry_class,
+            })
+        })
+        .collect()
+}
+
 /// Groups `members` into ensembles by (size, disorder, label), sorted by size, then disorder
 /// (members in order of appearance); each with its averaged form factor (the filter and
 /// time grid of `opts`).
@@ -202,10 +223,7 @@ pub fn ensembles(members: &[Member], opts: &LevelOptions) -> Vec<EnsembleAverage
                     "members of different symmetry classes: the Thouless time is measured against the {class} curve of the first"
                 ));
             }
-            let reference = match class {
-                SymmetryClass::Orthogonal => Ensemble::Goe,
-                SymmetryClass::Unitary => Ensemble::Gue,
-            };
+            let reference = Ensemble::of_class(class);
             let spectra: Vec<(&[f64], f64)> = g
                 .iter()
                 .filter(|m| !m.unfolded.is_empty())

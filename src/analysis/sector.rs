@@ -135,6 +135,15 @@ pub struct SectorAnalysis {
     pub model: Option<String>,
     /// Attribute `size` (sites), when present.
     pub size: Option<usize>,
+    /// Attribute `realization` (disorder realizations), when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub realization: Option<usize>,
+    /// Attribute `disorder` (disorder strength), when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub disorder: Option<f64>,
+    /// Attribute `label` as stored (empty when absent): realizations are grouped by it.
+    #[serde(skip)]
+    pub label_attribute: String,
     /// Hilbert-space dimension (eigenvector length; the number of states when not stored).
     pub dimension: usize,
     /// Number of stored states.

@@ -3,7 +3,6 @@
 //! states, and [`crate::model::writer`] for the file).
 
 use crate::error::{Error, Result};
-use crate::model::chain::build_chain_timed;
 use crate::model::{
     build_random, write_file, Boundary, ChainModel, ChainSpec, RandomEnsemble, RandomSpec,
     Reflection, SectorData,
@@ -173,41 +172,11 @@ impl Args {
     }
 }
 
-/// The sectors of `n` realizations of `spec` (seeds `seed + k`): one realization keeps its
-/// group names, several are put under groups `r000`, `r001`, ...
-fn realizations(spec: &ChainSpec, n: usize) -> Result<Vec<(SectorData, Duration)>> {
-    let Some(d) = spec.disorder.filter(|_| n > 1) else {
-        return build_chain_timed(spec);
-    };
-    let mut out = Vec::new();
-    for k in 0..n {
-        let one = ChainSpec {
-            disorder: Some(crate::model::Disorder {
-                seed: d.seed.wrapping_add(k as u64),
-                realization: k,
-                ..d
-            }),
-            ..spec.clone()
-        };
-        let built = build_chain_timed(&one)?;
-        let single = built.len() == 1;
-        for (mut s, t) in built {
-            s.group = if single {
-                format!("r{k:03}")
-            } else {
-                format!("r{k:03}/{}", s.group)
-            };
-            out.push((s, t));
-        }
-    }
-    Ok(out)
-}
-
 /// Runs `eigentherm generate`: builds, diagonalises, writes, and prints one line per
 /// sector written (group, dimension, time spent building and diagonalising).
 pub fn run(args: &Args) -> Result<()> {
     let sectors: Vec<(SectorData, Duration)> = match args.chain_spec()? {
-        Some(spec) => realizations(&spec, args.realizations)?,
+        Some(spec) => crate::model::chain::build_realizations(&spec, args.realizations)?,
         None => {
             let ensemble = match args.model {
                 ModelKind::Goe => RandomEnsemble::Goe,

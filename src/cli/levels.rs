@@ -119,7 +119,10 @@ pub fn run(args: &Args) -> Result<()> {
         output::print_json(&out)
     } else {
         let mut text = crate::report::text::levels_text(&out.sectors);
-        text.push_str(&crate::report::text::ensembles_text(&out));
+        text.push_str(&crate::report::text::ensembles_text(
+            &out.ensembles,
+            out.disorder_scan.as_ref(),
+        ));
         output::print(&text)
     }
 }

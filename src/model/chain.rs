@@ -478,6 +478,39 @@ pub fn build_chain_timed(spec: &ChainSpec) -> Result<Vec<(SectorData, std::time:
     Ok(out)
 }
 
+/// The sectors of `n` realizations of `spec` (seeds `seed + k`): one realization keeps its
+/// group names, several are put under groups `r000`, `r001`, ...
+pub fn build_realizations(
+    spec: &ChainSpec,
+    n: usize,
+) -> Result<Vec<(SectorData, std::time::Duration)>> {
+    let Some(d) = spec.disorder.filter(|_| n > 1) else {
+        return build_chain_timed(spec);
+    };
+    let mut out = Vec::new();
+    for k in 0..n {
+        let one = ChainSpec {
+            disorder: Some(super::Disorder {
+                seed: d.seed.wrapping_add(k as u64),
+                realization: k,
+                ..d
+            }),
+            ..spec.clone()
+        };
+        let built = build_chain_timed(&one)?;
+        let single = built.len() == 1;
+        for (mut s, t) in built {
+            s.group = if single {
+                format!("r{k:03}")
+            } else {
+                format!("r{k:03}/{}", s.group)
+            };
+            out.push((s, t));
+        }
+    }
+    Ok(out)
+}
+
 /// The standard observables of one sector (module documentation): σˣ and the
 /// magnetisation are left out of U(1) sectors (zero and constant there), σᶻ of sectors
 /// with the spin flip resolved (identically zero); `szsz_bond` = σᶻᵢσᶻᵢ₊₁ is added in

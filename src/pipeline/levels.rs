@@ -4,10 +4,7 @@
 use super::class::{sector_class, ClassChoice};
 use super::Inputs;
 use crate::analysis::ensemble;
-use crate::analysis::levels::surmise::Ensemble;
-use crate::analysis::levels::thouless::thouless_time;
 use crate::analysis::levels::{self, LevelOptions, LevelsOutput, SectorLevels};
-use crate::data::SymmetryClass;
 use crate::error::{Context, Result};
 use crate::window::WindowSpec;
 
@@ -42,18 +39,7 @@ pub fn levels(
                 .map(|v| v as &dyn crate::data::ColumnSource);
             let class = sector_class(&file, s, src, &[], class)?;
             let mut report = report;
-            let reference = match class.symmetry_class {
-                SymmetryClass::Orthogonal => Ensemble::Goe,
-                SymmetryClass::Unitary => Ensemble::Gue,
-            };
-            let f = &report.form_factor;
-            let points: Vec<(f64, f64)> = f.table.iter().map(|p| (p.tau, p.k_connected)).collect();
-            report.form_factor.thouless = Some(thouless_time(
-                &points,
-                reference,
-                opts.sff_tolerance,
-                f.heisenberg_time,
-            ));
+            report.judge_thouless(class.symmetry_class, opts.sff_tolerance);
             if let Some(k) = s.realization {
                 members.push(ensemble::Member {
                     name: format!("{}:{}", file.path().display(), s.name),

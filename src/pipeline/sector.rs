@@ -47,7 +47,7 @@ pub fn analyze_sector(
 ) -> Result<SectorAnalysis> {
     let (path, group) = (file.path(), sector.group.as_str());
     let spectrum: Spectrum = file.spectrum(sector)?;
-    let levels = levels::analyze(
+    let mut levels = levels::analyze(
         &spectrum.energies,
         &settings.levels_window,
         &LevelOptions::default(),
@@ -59,6 +59,7 @@ pub fn analyze_sector(
     }
     let refs: Vec<&Operator> = ops.iter().map(|(_, o)| o).collect();
     let class = sector_class(file, sector, Some(src.as_ref()), &refs, settings.class)?;
+    levels.judge_thouless(class.symmetry_class, LevelOptions::default().sff_tolerance);
     let off_opts = OffdiagonalOptions {
         class: Some(class.clone()),
         ..settings.offdiagonal.clone()
@@ -171,6 +172,9 @@ pub fn analyze_sector(
         sector: sector.name.clone(),
         model: sector.model.clone(),
         size: sector.size,
+        realization: sector.realization,
+        disorder: sector.disorder,
+        label_attribute: sector.label.clone().unwrap_or_default(),
         dimension: sector.dim.unwrap_or(n),
         n_states: n,
         field: sector.field.unwrap_or(Field::Real),

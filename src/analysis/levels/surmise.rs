@@ -56,6 +56,14 @@ impl Ensemble {
     /// All three, in the order Poisson, GOE, GUE.
     pub const ALL: [Ensemble; 3] = [Ensemble::Poisson, Ensemble::Goe, Ensemble::Gue];
 
+    /// The random-matrix ensemble of a symmetry class: GOE (orthogonal) or GUE (unitary).
+    pub fn of_class(class: crate::data::SymmetryClass) -> Self {
+        match class {
+            crate::data::SymmetryClass::Orthogonal => Ensemble::Goe,
+            crate::data::SymmetryClass::Unitary => Ensemble::Gue,
+        }
+    }
+
     /// Display name ("Poisson", "GOE", "GUE").
     pub fn label(self) -> &'static str {
         match self {

@@ -30,7 +30,7 @@
 use super::spectral::{Filtered, FormFactor, SffPoint, TimeGrid};
 use super::surmise::Ensemble;
 use super::LevelOptions;
-use crate::data::c64;
+use crate::data::{c64, SymmetryClass};
 use serde::Serialize;
 
 /// Default tolerance ε of the Thouless-time criterion.
@@ -87,6 +87,23 @@ pub fn thouless_time(
         heisenberg_time,
         g: tau.map(|t| -t.log10()),
         resolved,
+    }
+}
+
+impl super::LevelReport {
+    /// Sets the Thouless time of the single-spectrum connected form factor against the
+    /// random-matrix curve of `class` (GOE for orthogonal, GUE for unitary), with tolerance
+    /// ε = `tolerance` ([`thouless_time`]).
+    pub fn judge_thouless(&mut self, class: SymmetryClass, tolerance: f64) {
+        let f = &self.form_factor;
+        let points: Vec<(f64, f64)> = f.table.iter().map(|p| (p.tau, p.k_connected)).collect();
+        let reference = Ensemble::of_class(class);
+        self.form_factor.thouless = Some(thouless_time(
+            &points,
+            reference,
+            tolerance,
+            f.heisenberg_time,
+        ));
     }
 }
 

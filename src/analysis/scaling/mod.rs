@@ -55,11 +55,12 @@
 //!
 //! # Files
 //!
-//! [`fit`]: the weighted fits; [`resample`]: bootstrap and block bootstrap;
+//! [`fit`]: the weighted fits; [`realizations`]: realization averages of rows; [`resample`]: bootstrap and block bootstrap;
 //! [`verdict`]: the rule and its thresholds; [`table`]: rows of the scaling table,
 //! families and the fits and verdicts of each family.
 
 pub mod fit;
+pub mod realizations;
 pub mod resample;
 pub mod table;
 pub mod verdict;

@@ -16,6 +16,8 @@ use super::verdict::{
     decide, CanonicalDeviation, ExponentEvidence, GammaAtSize, LocalExponent, RatioAtSize,
     RatioEvidence, VerdictInputs, VerdictReport, MEAN_R_POISSON,
 };
+use crate::analysis::ensemble::{self, DisorderScan, EnsembleAverage};
+use crate::analysis::levels::LevelOptions;
 use crate::analysis::sector::{ObservableAnalysis, SectorAnalysis};
 use crate::data::{Field, SymmetryClass};
 use crate::error::{Error, Result};
@@ -84,6 +86,30 @@ pub struct Row {
     pub degenerate_fraction: f64,
     /// True when all diagonal elements vanish by symmetry.
     pub diagonal_vanishes: bool,
+    /// Attribute `disorder` (disorder strength), when present.
+    pub disorder: Option<f64>,
+    /// Realizations averaged in this row (1 for a single spectrum; [`super::realizations`]).
+    pub realizations: usize,
+    /// `fluct_variance` of each realization (averaged rows only).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub fluct_variance_samples: Vec<f64>,
+    /// `residual_variance` of each realization (averaged rows only).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub residual_variance_samples: Vec<f64>,
+    /// Thouless time τ_Th in Heisenberg times (of the realization-averaged connected form
+    /// factor for averaged rows), when the criterion finds one.
+    pub thouless_tau: Option<f64>,
+    /// g = log₁₀(t_H/t_Th).
+    pub thouless_g: Option<f64>,
+    /// Ensemble key of a realization row (`None` without a `realization` attribute).
+    #[serde(skip)]
+    pub ensemble_key: Option<String>,
+    /// `FILE:SECTOR` of the row's sector (first member of an averaged row).
+    #[serde(skip)]
+    pub member: String,
+    /// Sector name without its realization component.
+    #[serde(skip)]
+    pub sector_key: String,
 }
 
 /// Fits of one figure in one family.
@@ -130,11 +156,21 @@ pub struct ScalingReport {
     pub fits: Vec<FigureFit>,
     /// One verdict per family.
     pub verdicts: Vec<FamilyVerdict>,
+    /// Realization averages of the level statistics (sectors with a `realization`
+    /// attribute; [`crate::analysis::ensemble`]).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub ensembles: Vec<EnsembleAverage>,
+    /// ⟨r̃⟩ against disorder strength per size, with crossings.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub disorder_scan: Option<DisorderScan>,
 }
 
 /// Builds the rows, fits and verdicts from per-sector analyses.
 pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<ScalingReport> {
-    let mut rows: Vec<Row> = analyses
+    let members = ensemble::members_of(analyses);
+    let ensembles = ensemble::ensembles(&members, &LevelOptions::default());
+    let disorder_scan = ensemble::disorder_scan(&ensembles);
+    let rows: Vec<Row> = analyses
         .iter()
         .flat_map(|a| {
             a.observables
@@ -142,6 +178,7 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Scali
                 .map(move |o| row(a, o, combine_sectors))
         })
         .collect();
+    let mut rows = super::realizations::average(rows, &ensembles);
     if combine_sectors {
         rows = combine(rows);
     }
@@ -186,6 +223,8 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Scali
         rows,
         fits,
         verdicts,
+        ensembles,
+        disorder_scan,
     })
 }
 
@@ -221,11 +260,17 @@ fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
             (lo.min(p.1), hi.max(p.1))
         });
+    let sector_name = match a.realization {
+        Some(_) => without_realization(&a.sector),
+        None => a.sector.clone(),
+    };
     let sector_key = if combine_sectors {
         "*".to_string()
     } else {
-        a.sector.clone()
+        sector_name.clone()
     };
+    let disorder = a.disorder.map_or(String::new(), |w| format!(" | W = {w}"));
+    let model = a.model.clone().unwrap_or_else(|| "-".into());
     let support = match (&o.support, a.size) {
         (Some(s), _) => format!(" | {s}"),
         (None, Some(l)) if l % 2 == 0 => " | even L".to_string(),
@@ -233,12 +278,7 @@ fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row
         (None, None) => String::new(),
     };
     Row {
-        family: format!(
-            "{} | {} | {}{support}",
-            a.model.clone().unwrap_or_else(|| "-".into()),
-            sector_key,
-            o.name
-        ),
+        family: format!("{model} | {sector_key} | {}{support}{disorder}", o.name),
         file: a.file.clone(),
         sector: a.sector.clone(),
         observable: o.name.clone(),
@@ -274,6 +314,29 @@ fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row
         degenerate_fraction: a.levels.degenerate_pairs as f64
             / a.levels.states.saturating_sub(1).max(1) as f64,
         diagonal_vanishes: o.diagonal_vanishes,
+        disorder: a.disorder,
+        realizations: 1,
+        fluct_variance_samples: Vec::new(),
+        residual_variance_samples: Vec::new(),
+        thouless_tau: a.levels.form_factor.thouless.as_ref().and_then(|t| t.tau),
+        thouless_g: a.levels.form_factor.thouless.as_ref().and_then(|t| t.g),
+        ensemble_key: a.realization.map(|_| {
+            format!(
+                "{model} | {sector_name} | {}{support}{disorder} | D = {}",
+                o.name, a.dimension
+            )
+        }),
+        member: format!("{}:{}", a.file, a.sector),
+        sector_key: sector_name,
+    }
+}
+
+/// A realization sector's name without its realization component: the first path
+/// component of a nested name (`r003/even` → `even`), `*` for a top-level one.
+fn without_realization(name: &str) -> String {
+    match name.split_once('/') {
+        Some((_, rest)) if !rest.is_empty() => rest.to_string(),
+        _ => "*".to_string(),
     }
 }
 

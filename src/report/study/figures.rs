@@ -15,8 +15,16 @@ pub type Named = (String, Figure, String);
 
 /// Every figure of the per-sector analyses and the scaling table, in report order.
 pub fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Named> {
-    let mut out: Vec<Named> = vec![mean_r_figure(analyses)];
-    out.extend(spacing_figures(analyses));
+    // realizations are drawn averaged ([`super::ensemble_figures`]), not one by one
+    let single: Vec<&SectorAnalysis> = analyses
+        .iter()
+        .filter(|a| a.realization.is_none())
+        .collect();
+    let mut out: Vec<Named> = Vec::new();
+    if !single.is_empty() {
+        out.push(mean_r_figure(&single));
+    }
+    out.extend(spacing_figures(&single));
     let mut fams: Vec<String> = scaling.rows.iter().map(|r| r.family.clone()).collect();
     fams.dedup();
     for fam in fams {
@@ -28,8 +36,10 @@ pub fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Name
             .iter()
             .filter(|a| {
                 rows.iter().any(|r| {
-                    r.file.split('+').any(|f| f == a.file)
-                        && r.sector.split('+').any(|s| s == a.sector)
+                    // an averaged row is drawn from its first realization
+                    r.member == format!("{}:{}", a.file, a.sector)
+                        || (r.file.split('+').any(|f| f == a.file)
+                            && r.sector.split('+').any(|s| s == a.sector))
                 })
             })
             .collect();
@@ -46,7 +56,7 @@ pub fn figures(analyses: &[SectorAnalysis], scaling: &ScalingReport) -> Vec<Name
 }
 
 /// ⟨r̃⟩ against size with the three references.
-fn mean_r_figure(analyses: &[SectorAnalysis]) -> Named {
+fn mean_r_figure(analyses: &[&SectorAnalysis]) -> Named {
     let x_title = if analyses.iter().all(|a| a.size.is_some()) {
         "L (sites)"
     } else {
@@ -91,7 +101,7 @@ fn mean_r_figure(analyses: &[SectorAnalysis]) -> Named {
 }
 
 /// Unfolded spacing histogram of the largest sector of each family, with the surmises.
-fn spacing_figures(analyses: &[SectorAnalysis]) -> Vec<Named> {
+fn spacing_figures(analyses: &[&SectorAnalysis]) -> Vec<Named> {
     let mut out: Vec<Named> = Vec::new();
     for (key, members) in group_by(analyses, |a| {
         format!("{} {}", a.model.clone().unwrap_or_default(), a.sector)
@@ -394,12 +404,12 @@ pub fn quench_figures(quench: &[QuenchStudy]) -> Vec<Named> {
     out
 }
 
-fn group_by(
-    analyses: &[SectorAnalysis],
+fn group_by<'a>(
+    analyses: &[&'a SectorAnalysis],
     key: impl Fn(&SectorAnalysis) -> String,
-) -> Vec<(String, Vec<&SectorAnalysis>)> {
+) -> Vec<(String, Vec<&'a SectorAnalysis>)> {
     let mut out: Vec<(String, Vec<&SectorAnalysis>)> = Vec::new();
-    for a in analyses {
+    for &a in analyses {
         let k = key(a);
         match out.iter_mut().find(|(kk, _)| *kk == k) {
             Some((_, v)) => v.push(a),

@@ -3,6 +3,7 @@
 //! (verdicts first, then the evidence, with provenance). Every file is written atomically
 //! (temporary name, then rename).
 
+pub mod ensemble_figures;
 pub mod figures;
 pub mod page;
 pub mod tables;
@@ -36,7 +37,14 @@ pub fn write_folder(results: &StudyResults, out: &Path) -> Result<StudyFiles> {
     put("scaling.md", table.to_markdown().as_bytes())?;
     put("scaling.tex", table.to_latex().as_bytes())?;
 
+    if !results.scaling.ensembles.is_empty() {
+        let t = tables::ensemble_table(&results.scaling.ensembles)?;
+        put("ensembles.csv", t.to_csv().as_bytes())?;
+        put("ensembles.md", t.to_markdown().as_bytes())?;
+        put("ensembles.tex", t.to_latex().as_bytes())?;
+    }
     let mut figures = figures::figures(&results.sectors, &results.scaling);
+    figures.extend(ensemble_figures::ensemble_figures(&results.scaling));
     figures.extend(figures::quench_figures(&results.quench));
     let quench_tables = tables::quench_tables(&results.quench)?;
     for (name, t) in &quench_tables {

@@ -6,7 +6,7 @@ use crate::analysis::study::{QuenchStudy, StudyResults};
 use crate::provenance::Provenance;
 use crate::report::html::{Page, Section, Summary};
 use crate::report::study::figures::Named;
-use crate::report::study::tables::levels_table;
+use crate::report::study::tables::{ensemble_table, levels_table};
 use crate::report::table::Table;
 
 pub fn html_page(
@@ -53,6 +53,9 @@ pub fn html_page(
         lev = lev.figure(f, c.clone());
     }
     h.sections.push(lev);
+    if let Some(sec) = ensemble_section(results, figures) {
+        h.sections.push(sec);
+    }
     let mut sc = Section::new("Finite-size scaling")
         .text(results.scaling.method.clone())
         .table(table.clone());
@@ -71,6 +74,34 @@ pub fn html_page(
     }
     h.sections.push(od);
     h
+}
+
+/// The report section "Disorder ensembles" (none without realizations).
+fn ensemble_section(results: &StudyResults, figures: &[Named]) -> Option<Section> {
+    let ens = &results.scaling.ensembles;
+    if ens.is_empty() {
+        return None;
+    }
+    let mut sec = Section::new("Disorder ensembles").text(
+        "Sectors with a realization attribute are grouped by size, disorder strength and label; every \
+         figure is the realization average with the sample-to-sample standard error s/√n (realizations are \
+         independent). The crossover figure shows ⟨r̃⟩ against disorder strength per size; the form-factor \
+         figures the realization-averaged connected spectral form factor with its band, and the Thouless \
+         time where it joins the random-matrix curve.",
+    );
+    if let Ok(t) = ensemble_table(ens) {
+        sec = sec.table(t);
+    }
+    if let Some(scan) = &results.scaling.disorder_scan {
+        sec = sec.text(scan.rule.clone());
+    }
+    for (_, f, c) in figures
+        .iter()
+        .filter(|(n, _, _)| n == "crossover" || n.starts_with("form_factor_"))
+    {
+        sec = sec.figure(f, c.clone());
+    }
+    Some(sec)
 }
 
 /// The report section "Quench dynamics" (none without quenches).

@@ -1,6 +1,7 @@
 //! The tables of a study: the scaling table, the level statistics of each sector and one
 //! quench table per initial state.
 
+use crate::analysis::ensemble::EnsembleAverage;
 use crate::analysis::scaling::ScalingReport;
 use crate::analysis::sector::SectorAnalysis;
 use crate::analysis::study::QuenchStudy;
@@ -10,7 +11,11 @@ use crate::report::table::{Cell, Column, Table};
 
 /// The scaling table as a [`crate::report::table::Table`].
 pub fn scaling_table(report: &ScalingReport) -> Result<Table> {
-    let cols = vec![
+    let ensembles = report
+        .rows
+        .iter()
+        .any(|r| r.disorder.is_some() || r.realizations > 1);
+    let mut cols = vec![
         Column::new("family", "family"),
         Column::new("sector", "sector"),
         Column::new("size", "L"),
@@ -21,7 +26,13 @@ pub fn scaling_table(report: &ScalingReport) -> Result<Table> {
         Column::new("low_omega_variance", "low-ω ⟨|A_nm|²⟩"),
         Column::new("gaussian_ratio", "Γ"),
         Column::new("diag_offdiag_ratio", "diag/offdiag"),
+        Column::new("thouless_tau", "τ_Th / t_H"),
+        Column::new("thouless_g", "g"),
     ];
+    if ensembles {
+        cols.insert(2, Column::new("disorder", "W"));
+        cols.insert(3, Column::new("realizations", "n"));
+    }
     let mut t = Table::new(cols);
     for r in &report.rows {
         let u = |v: f64, e: f64| -> Cell {
@@ -31,7 +42,7 @@ pub fn scaling_table(report: &ScalingReport) -> Result<Table> {
                 Cell::Empty
             }
         };
-        t.push_row(vec![
+        let mut cells = vec![
             Cell::from(r.family.as_str()),
             Cell::from(r.sector.as_str()),
             r.size.map(|s| Cell::Int(s as i64)).unwrap_or(Cell::Empty),
@@ -42,6 +53,50 @@ pub fn scaling_table(report: &ScalingReport) -> Result<Table> {
             u(r.low_omega_variance, r.low_omega_variance_stderr),
             u(r.gaussian_ratio, r.gaussian_ratio_stderr),
             u(r.diag_offdiag_ratio, r.diag_offdiag_ratio_stderr),
+            Cell::from(r.thouless_tau),
+            Cell::from(r.thouless_g),
+        ];
+        if ensembles {
+            cells.insert(2, Cell::from(r.disorder));
+            cells.insert(3, Cell::from(r.realizations));
+        }
+        t.push_row(cells)?;
+    }
+    Ok(t)
+}
+
+/// One row per ensemble (size, disorder strength): realizations, ⟨r̃⟩ with its
+/// sample-to-sample spread and standard error, and the Thouless time of the averaged
+/// connected form factor.
+pub fn ensemble_table(ensembles: &[EnsembleAverage]) -> Result<Table> {
+    let mut t = Table::new(vec![
+        Column::new("label", "ensemble"),
+        Column::new("size", "L"),
+        Column::new("disorder", "W"),
+        Column::new("realizations", "n"),
+        Column::new("mean_r", "⟨r̃⟩"),
+        Column::new("mean_r_spread", "sample sd"),
+        Column::new("thouless_tau", "τ_Th / t_H"),
+        Column::new("thouless_time", "t_Th"),
+        Column::new("heisenberg_time", "t_H"),
+        Column::new("thouless_g", "g"),
+    ])
+    .with_caption(
+        "Disorder ensembles: realization average of ⟨r̃⟩ with the sample-to-sample standard error s/√n and the sample standard deviation s; Thouless time of the realization-averaged connected form factor (earliest time from which it stays within the stated tolerance of the GOE/GUE curve up to the Heisenberg time), t_H = 2π/Δ̄, g = log10(t_H/t_Th).",
+    );
+    for e in ensembles {
+        let th = e.form_factor.as_ref().map(|f| &f.thouless);
+        t.push_row(vec![
+            Cell::from(e.label.as_str()),
+            Cell::from(e.size),
+            Cell::from(e.disorder),
+            Cell::from(e.realizations),
+            Cell::from((e.mean_r, e.mean_r_stderr)),
+            Cell::from(e.mean_r_spread),
+            Cell::from(th.and_then(|t| t.tau)),
+            Cell::from(th.and_then(|t| t.time)),
+            Cell::from(th.map(|t| t.heisenberg_time)),
+            Cell::from(th.and_then(|t| t.g)),
         ])?;
     }
     Ok(t)

@@ -2,6 +2,7 @@
 //! references, KS distances, small-spacing density, number variance, form factor,
 //! degeneracies, verdict and warnings.
 
+use crate::analysis::ensemble::{DisorderScan, EnsembleAverage};
 use crate::analysis::levels::{self, SectorLevels};
 use std::fmt::Write as _;
 
@@ -97,9 +98,9 @@ pub fn levels_text(sectors: &[SectorLevels]) -> String {
 
 /// The realization averages (one line per ensemble) and the disorder scan (⟨r̃⟩ against W
 /// per size, and the crossings with their rule); empty without ensembles.
-pub fn ensembles_text(out: &levels::LevelsOutput) -> String {
+pub fn ensembles_text(ensembles: &[EnsembleAverage], scan: Option<&DisorderScan>) -> String {
     let mut s = String::new();
-    if out.ensembles.is_empty() {
+    if ensembles.is_empty() {
         return s;
     }
     let _ = writeln!(
@@ -111,7 +112,7 @@ pub fn ensembles_text(out: &levels::LevelsOutput) -> String {
         "  {:<28} {:>5} {:>8} {:>4} {:>9} {:>9} {:>9} {:>10} {:>6}",
         "label", "size", "W", "n", "mean r", "+/-", "spread", "tau_Th", "g"
     );
-    for e in &out.ensembles {
+    for e in ensembles {
         let th = e.form_factor.as_ref().map(|f| &f.thouless);
         let _ = writeln!(
             s,
@@ -132,8 +133,7 @@ pub fn ensembles_text(out: &levels::LevelsOutput) -> String {
             let _ = writeln!(s, "    warning: {w}");
         }
     }
-    if let Some(t) = out
-        .ensembles
+    if let Some(t) = ensembles
         .iter()
         .find_map(|e| e.form_factor.as_ref().map(|f| &f.thouless))
     {
@@ -143,7 +143,7 @@ pub fn ensembles_text(out: &levels::LevelsOutput) -> String {
             t.criterion
         );
     }
-    if let Some(scan) = &out.disorder_scan {
+    if let Some(scan) = scan {
         let _ = writeln!(
             s,
             "disorder scan: mean r against W (Poisson 0.3863, GOE 0.5307)"

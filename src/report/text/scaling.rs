@@ -11,6 +11,10 @@ pub fn scaling_text(report: &ScalingReport) -> String {
     if let Ok(t) = scaling_table(report) {
         let _ = writeln!(s, "{}", t.to_markdown());
     }
+    s.push_str(&super::ensembles_text(
+        &report.ensembles,
+        report.disorder_scan.as_ref(),
+    ));
     let _ = writeln!(
         s,
         "Fits (figure ∝ D^-alpha; figure ∝ exp(-kappa L) where sizes are known):"

@@ -1,4 +1,5 @@
 //! Finite-size fits, resampling, verdicts, and the demo study.
 
 mod demo;
+mod ensembles;
 mod fits;
