@@ -57,6 +57,10 @@ pub struct PathArgs {
     /// Path of the Hamiltonian dataset or CSR group.
     #[arg(long, value_name = "PATH")]
     pub hamiltonian_path: Option<String>,
+    /// Sector attribute that holds the ensemble parameter of realizations (reported as
+    /// `disorder`); `none`: analyse every realization on its own.
+    #[arg(long, value_name = "ATTR|none", default_value = "disorder")]
+    pub ensemble_by: String,
 }
 
 impl PathArgs {
@@ -83,6 +87,7 @@ impl PathArgs {
             observables,
             hamiltonian: self.hamiltonian_path.clone(),
             memory: None,
+            ensemble_by: crate::input::EnsembleBy::parse(&self.ensemble_by)?,
         })
     }
 }

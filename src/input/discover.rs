@@ -285,8 +285,13 @@ fn describe(
     let label = attr_string(file, group, &gobj, "label")?;
     let model = attr_string(file, group, &gobj, "model")?;
     let symmetry_class = attr_string(file, group, &gobj, "symmetry_class")?;
-    let realization = attr_count(file, group, &gobj, "realization")?;
-    let disorder = h5::attr_number(file, group, &gobj, "disorder")?;
+    let (realization, disorder) = match &ov.ensemble_by {
+        crate::input::EnsembleBy::Off => (None, None),
+        crate::input::EnsembleBy::Attribute(name) => (
+            attr_count(file, group, &gobj, "realization")?,
+            h5::attr_number(file, group, &gobj, name)?,
+        ),
+    };
     let basis = describe_basis(&gobj);
 
     let mut sector = Sector {

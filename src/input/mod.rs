@@ -232,6 +232,37 @@ pub struct Overrides {
     /// Memory budget in bytes (`--memory`): no read sized by a file header may hold more
     /// (see [`limit`]); `None`: the default budget, half of the machine's memory.
     pub memory: Option<usize>,
+    /// Which sector attribute holds the ensemble parameter (`--ensemble-by`).
+    pub ensemble_by: EnsembleBy,
+}
+
+/// How realizations are grouped into ensembles (`--ensemble-by`).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum EnsembleBy {
+    /// The numeric sector attribute with this name is the ensemble parameter (reported as
+    /// `disorder`); sectors with a `realization` attribute are averaged.
+    Attribute(String),
+    /// No ensembles: every realization is analysed on its own.
+    Off,
+}
+
+impl Default for EnsembleBy {
+    fn default() -> Self {
+        EnsembleBy::Attribute("disorder".to_string())
+    }
+}
+
+impl EnsembleBy {
+    /// `none`, or an attribute name.
+    pub fn parse(s: &str) -> crate::error::Result<Self> {
+        match s {
+            "none" => Ok(EnsembleBy::Off),
+            "" => Err(crate::error::Error::usage(
+                "--ensemble-by: expected an attribute name or 'none'",
+            )),
+            a => Ok(EnsembleBy::Attribute(a.to_string())),
+        }
+    }
 }
 
 /// An eigenbasis file opened read-only.

@@ -362,6 +362,7 @@ fn overrides_define_a_single_sector_from_custom_paths() {
         observables: vec![("hop".into(), "/chain/observables/sz".into())],
         hamiltonian: None,
         memory: None,
+        ensemble_by: Default::default(),
     };
     // /chain/observables/sz has dim 32, this sector dim 24: a shape error
     let err = EigenFile::open(&fixture("good.h5"), &ov)

@@ -155,3 +155,32 @@ fn study_of_an_ensemble_writes_averaged_tables_and_figures() {
     // four averaged rows (two sizes × two strengths), no per-realization rows
     assert_eq!(scaling.lines().count(), 5, "{scaling}");
 }
+
+#[test]
+fn ensemble_by_names_the_parameter_attribute_or_turns_averaging_off() {
+    let dir = tempfile::tempdir().unwrap();
+    let files = ensemble_files(dir.path(), &["8"], &["2"], "3");
+    let f = files[0].as_str();
+    // another attribute as the parameter: the realizations of one file are averaged, the
+    // parameter (absent here) is null
+    let by_size = json(&["levels", "--json", "--ensemble-by", "no_such_attribute", f]);
+    let e = by_size["ensembles"].as_array().unwrap();
+    assert_eq!(e.len(), 1);
+    assert!(e[0]["disorder"].is_null());
+    assert_eq!(e[0]["realizations"], 3);
+    // none: every realization on its own
+    let off = json(&[
+        "scaling",
+        "--observable",
+        "sz_site",
+        "--json",
+        "--ensemble-by",
+        "none",
+        f,
+    ]);
+    assert_eq!(off["rows"].as_array().unwrap().len(), 3);
+    assert!(off.get("ensembles").is_none());
+    let (code, _, err) = run_binary(&["levels", "--ensemble-by", "", f]);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(err.contains("--ensemble-by"), "{err}");
+}
