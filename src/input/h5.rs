@@ -191,6 +191,18 @@ fn open_attr(
     Ok(Some((attr, desc, apath)))
 }
 
+/// An error unless the attribute `attr` (at `apath`) holds exactly one `what`.
+fn expect_single(file: &Path, apath: &str, attr: &hdf5::Attribute, what: &str) -> Result<()> {
+    if attr.size() == 1 {
+        return Ok(());
+    }
+    Err(Error::dataset(
+        file,
+        apath,
+        format!("expected a single {what}, found {} elements", attr.size()),
+    ))
+}
+
 /// Reads a string attribute `name` of `loc` (variable or fixed length, ASCII or UTF-8).
 /// `Ok(None)` when the attribute does not exist.
 pub fn attr_string(
@@ -203,13 +215,7 @@ pub fn attr_string(
     let Some((attr, desc, apath)) = open_attr(file, path, loc, name)? else {
         return Ok(None);
     };
-    if attr.size() != 1 {
-        return Err(Error::dataset(
-            file,
-            &apath,
-            format!("expected a single string, found {} elements", attr.size()),
-        ));
-    }
+    expect_single(file, &apath, &attr, "string")?;
     let read = |e: hdf5::Error| h5err(file, &apath, "cannot read", e);
     let s = match desc {
         TypeDescriptor::VarLenUnicode => attr
@@ -276,13 +282,7 @@ pub fn attr_number(
     let Some((attr, desc, apath)) = open_attr(file, path, loc, name)? else {
         return Ok(None);
     };
-    if attr.size() != 1 {
-        return Err(Error::dataset(
-            file,
-            &apath,
-            format!("expected a single number, found {} elements", attr.size()),
-        ));
-    }
+    expect_single(file, &apath, &attr, "number")?;
     let read = |e: hdf5::Error| h5err(file, &apath, "cannot read", e);
     let x = match desc {
         TypeDescriptor::Integer(_) | TypeDescriptor::Unsigned(_) | TypeDescriptor::Float(_) => {
