@@ -23,6 +23,8 @@
 //! (2020); Sierant, Lewenstein, Zakrzewski, PRL 125, 156601 (2020)): a crossing locates the
 //! crossover at these sizes, not a transition.
 
+pub mod figures;
+
 use crate::analysis::levels::surmise::Ensemble;
 use crate::analysis::levels::thouless::{averaged_form_factor, AveragedFormFactor};
 use crate::analysis::levels::LevelOptions;

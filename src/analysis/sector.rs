@@ -219,6 +219,18 @@ pub struct SectorElements<T> {
     pub prediction_states: Option<PredictionStates>,
     /// Seconds per stage.
     pub timing: Timing,
+    /// Attribute `realization`, when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub realization: Option<usize>,
+    /// Attribute `disorder`, when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub disorder: Option<f64>,
+    /// Attribute `size` (for grouping realizations; not in JSON).
+    #[serde(skip)]
+    pub size: Option<usize>,
+    /// Attribute `label` as stored (for grouping realizations; not in JSON).
+    #[serde(skip)]
+    pub label_attribute: String,
     /// One result per observable.
     pub observables: Vec<T>,
 }
@@ -230,4 +242,32 @@ pub struct ElementsOutput<T> {
     pub memory_budget: usize,
     /// All sectors of all files.
     pub sectors: Vec<SectorElements<T>>,
+    /// Realization averages per observable of the sectors with a `realization` attribute
+    /// ([`crate::analysis::ensemble::figures`]).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub ensembles: Vec<crate::analysis::ensemble::figures::FigureEnsemble>,
+}
+
+impl<T: crate::analysis::ensemble::figures::Figures> ElementsOutput<T> {
+    /// The realization averages of the sectors' results.
+    pub fn average_realizations(&mut self) {
+        use crate::analysis::ensemble::figures::{figure_ensembles, MemberKey};
+        let items: Vec<(MemberKey, &T)> = self
+            .sectors
+            .iter()
+            .filter(|s| s.realization.is_some())
+            .flat_map(|s| {
+                s.observables.iter().map(move |o| {
+                    let key = MemberKey {
+                        name: format!("{}:{}", s.file, s.name),
+                        size: s.size,
+                        disorder: s.disorder,
+                        label: s.label_attribute.clone(),
+                    };
+                    (key, o)
+                })
+            })
+            .collect();
+        self.ensembles = figure_ensembles(&items);
+    }
 }

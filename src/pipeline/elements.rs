@@ -84,7 +84,7 @@ impl SectorWork<'_> {
 
 /// Runs `pass` on every selected file and sector; the results of each sector go into one
 /// [`SectorElements`].
-pub fn each_sector<T>(
+pub fn each_sector<T: crate::analysis::ensemble::figures::Figures>(
     req: &ElementsRequest,
     mut pass: impl FnMut(&mut SectorWork<'_>) -> Result<Vec<T>>,
 ) -> Result<ElementsOutput<T>> {
@@ -126,14 +126,21 @@ pub fn each_sector<T>(
                 class: work.class,
                 prediction_states: work.prediction_states,
                 timing: work.timing,
+                realization: s.realization,
+                disorder: s.disorder,
+                size: s.size,
+                label_attribute: s.label.clone().unwrap_or_default(),
                 observables,
             });
         }
     }
-    Ok(ElementsOutput {
+    let mut out = ElementsOutput {
         memory_budget: req.budget.bytes,
         sectors,
-    })
+        ensembles: Vec::new(),
+    };
+    out.average_realizations();
+    Ok(out)
 }
 
 /// `eigentherm diagonal`: `Aₙₙ` of the states the predictions use (streamed under the

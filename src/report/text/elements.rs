@@ -1,6 +1,7 @@
 //! Text of `eigentherm diagonal` and `eigentherm offdiagonal`.
 
 use crate::analysis::diagonal::{Deviation, DiagonalResult};
+use crate::analysis::ensemble::figures::FigureEnsemble;
 use crate::analysis::offdiagonal::OffdiagonalResult;
 use crate::analysis::sector::ElementsOutput;
 use crate::project::PredictionStates;
@@ -85,6 +86,7 @@ pub fn diagonal_text(r: &ElementsOutput<DiagonalResult>) -> String {
             }
         }
     }
+    t.push_str(&ensembles_text(&r.ensembles));
     t
 }
 
@@ -158,6 +160,47 @@ pub fn offdiagonal_text(r: &ElementsOutput<OffdiagonalResult>) -> String {
                     b.omega, b.count, b.mean_sq, err, b.f_sq
                 );
             }
+        }
+    }
+    t.push_str(&ensembles_text(&r.ensembles));
+    t
+}
+
+/// Realization averages of the figures (empty without ensembles).
+fn ensembles_text(ensembles: &[FigureEnsemble]) -> String {
+    use std::fmt::Write;
+    let mut t = String::new();
+    if ensembles.is_empty() {
+        return t;
+    }
+    let _ = writeln!(
+        t,
+        "realization averages (same observable, size, disorder and label; error = sample sd / sqrt(n))"
+    );
+    for e in ensembles {
+        let _ = writeln!(
+            t,
+            "  {} | {} | L = {} | W = {} | n = {}",
+            e.observable,
+            e.label,
+            e.size.map_or("-".to_string(), |l| l.to_string()),
+            e.disorder.map_or("-".to_string(), |w| w.to_string()),
+            e.realizations
+        );
+        for f in &e.figures {
+            let _ = writeln!(
+                t,
+                "    {:<26} {:>12.5e} +/- {:<10.3e} (sample sd {:.3e}{})",
+                f.figure,
+                f.mean,
+                f.stderr,
+                f.spread,
+                if f.missing > 0 {
+                    format!(", {} realizations without a value", f.missing)
+                } else {
+                    String::new()
+                }
+            );
         }
     }
     t

@@ -184,3 +184,41 @@ fn ensemble_by_names_the_parameter_attribute_or_turns_averaging_off() {
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("--ensemble-by"), "{err}");
 }
+
+#[test]
+fn diagonal_and_offdiagonal_average_their_figures_over_realizations() {
+    let dir = tempfile::tempdir().unwrap();
+    let files = ensemble_files(dir.path(), &["8"], &["2"], "4");
+    for (cmd, figure) in [
+        ("diagonal", "fluct_variance"),
+        ("offdiagonal", "gaussian_ratio"),
+    ] {
+        let out = json(&[cmd, "--observable", "sz_site", "--json", &files[0]]);
+        let per: Vec<f64> = out["sectors"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|s| s["observables"][0][figure].as_f64().unwrap())
+            .collect();
+        assert_eq!(per.len(), 4);
+        let e = &out["ensembles"].as_array().unwrap()[0];
+        assert_eq!(e["realizations"], 4);
+        let f = e["figures"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|f| f["figure"] == figure)
+            .unwrap();
+        // sample mean and s/√n of independent realizations (common practice, no source)
+        let (m, se) = mean_stderr(&per);
+        assert!(
+            (f["mean"].as_f64().unwrap() - m).abs() <= 1e-14 * m.abs(),
+            "{cmd}"
+        );
+        assert!(
+            (f["stderr"].as_f64().unwrap() - se).abs() <= 1e-12 * se,
+            "{cmd}"
+        );
+        assert_eq!(f["samples"].as_array().unwrap().len(), 4);
+    }
+}
