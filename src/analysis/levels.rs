@@ -638,6 +638,12 @@ pub struct SectorLevels {
     /// Symmetry class and how it was decided (`symmetry_class`, `class_source`).
     #[serde(flatten)]
     pub class: crate::data::ClassInfo,
+    /// Attribute `realization` of the sector (a member of an ensemble), when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub realization: Option<usize>,
+    /// Attribute `disorder` of the sector, when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub disorder: Option<f64>,
     /// The measured figures (flattened into the same JSON object).
     #[serde(flatten)]
     pub report: LevelReport,
@@ -650,6 +656,13 @@ pub struct LevelsOutput {
     pub options: LevelOptions,
     /// One entry per (file, sector).
     pub sectors: Vec<SectorLevels>,
+    /// Realization averages over the sectors with a `realization` attribute
+    /// ([`crate::analysis::ensemble`]); absent when there are none.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub ensembles: Vec<crate::analysis::ensemble::EnsembleAverage>,
+    /// ⟨r̃⟩ against disorder strength per size, with crossings; absent without a scan.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub disorder_scan: Option<crate::analysis::ensemble::DisorderScan>,
 }
 
 #[cfg(test)]

@@ -2,6 +2,7 @@
 //! plain serde structs; none touches HDF5 or formats output.
 
 pub mod diagonal;
+pub mod ensemble;
 pub mod levels;
 pub mod offdiagonal;
 pub mod quench;

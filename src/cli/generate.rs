@@ -86,10 +86,20 @@ pub struct Args {
     /// Site (1-based) of the local observables; default: the centre ⌈L/2⌉.
     #[arg(long)]
     pub site: Option<usize>,
+    /// Build only the U(1) sector of total S^z = M (XXZ, free spins; M = 0, ±1, ... for even
+    /// L, ±0.5, ... for odd L); at S^z = 0 of a clean XXZ chain the spin flip is resolved too.
+    #[arg(long, value_name = "M", allow_negative_numbers = true)]
+    pub sz: Option<f64>,
+    /// Random fields hᵢ σᶻᵢ with hᵢ uniform in [−W, W] (XXZ; breaks reflection and flip).
+    #[arg(long, value_name = "W")]
+    pub disorder: Option<f64>,
+    /// Number of disorder realizations (groups r000, r001, ...; seeds S, S+1, ...).
+    #[arg(long, value_name = "N", default_value_t = 1)]
+    pub realizations: usize,
     /// Dimension N (random matrices).
     #[arg(long, value_name = "N")]
     pub dim: Option<usize>,
-    /// Seed (random matrices).
+    /// Seed (random matrices, random fields).
     #[arg(long, value_name = "S", default_value_t = 1)]
     pub seed: u64,
     /// Output HDF5 file (replaced if it exists).
@@ -130,6 +140,11 @@ impl Args {
                 "--dim is for random matrices; spin chains take --sites",
             ));
         }
+        if self.realizations == 0 || (self.realizations > 1 && self.disorder.is_none()) {
+            return Err(Error::usage(
+                "--realizations N (N ≥ 1) is for disordered chains: give --disorder W",
+            ));
+        }
         let sites = self
             .sites
             .ok_or_else(|| Error::usage("spin chains need --sites L"))?;
@@ -148,15 +163,51 @@ impl Args {
                 },
             },
             site: self.site,
+            sz: self.sz,
+            disorder: self.disorder.map(|strength| crate::model::Disorder {
+                strength,
+                seed: self.seed,
+                realization: 0,
+            }),
         }))
     }
+}
+
+/// The sectors of `n` realizations of `spec` (seeds `seed + k`): one realization keeps its
+/// group names, several are put under groups `r000`, `r001`, ...
+fn realizations(spec: &ChainSpec, n: usize) -> Result<Vec<(SectorData, Duration)>> {
+    let Some(d) = spec.disorder.filter(|_| n > 1) else {
+        return build_chain_timed(spec);
+    };
+    let mut out = Vec::new();
+    for k in 0..n {
+        let one = ChainSpec {
+            disorder: Some(crate::model::Disorder {
+                seed: d.seed.wrapping_add(k as u64),
+                realization: k,
+                ..d
+            }),
+            ..spec.clone()
+        };
+        let built = build_chain_timed(&one)?;
+        let single = built.len() == 1;
+        for (mut s, t) in built {
+            s.group = if single {
+                format!("r{k:03}")
+            } else {
+                format!("r{k:03}/{}", s.group)
+            };
+            out.push((s, t));
+        }
+    }
+    Ok(out)
 }
 
 /// Runs `eigentherm generate`: builds, diagonalises, writes, and prints one line per
 /// sector written (group, dimension, time spent building and diagonalising).
 pub fn run(args: &Args) -> Result<()> {
     let sectors: Vec<(SectorData, Duration)> = match args.chain_spec()? {
-        Some(spec) => build_chain_timed(&spec)?,
+        Some(spec) => realizations(&spec, args.realizations)?,
         None => {
             let ensemble = match args.model {
                 ModelKind::Goe => RandomEnsemble::Goe,

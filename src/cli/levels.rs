@@ -81,6 +81,8 @@ pub fn run(args: &Args) -> Result<()> {
     if args.json.json {
         output::print_json(&out)
     } else {
-        output::print(&crate::report::text::levels_text(&out.sectors))
+        let mut text = crate::report::text::levels_text(&out.sectors);
+        text.push_str(&crate::report::text::ensembles_text(&out));
+        output::print(&text)
     }
 }

@@ -103,37 +103,50 @@ pub fn sector_name(group: &str) -> String {
     }
 }
 
-/// All sectors of `f`, in depth-first order with sorted names.
+/// All sectors of `f`, in depth-first order with sorted names. An absolute energies path
+/// given on the command line defines a single sector (the group holding it); a relative
+/// one replaces the name `energies`: every group holding a dataset at that path is a sector.
 pub fn discover(file: &Path, f: &hdf5::File, ov: &Overrides) -> Result<Vec<Sector>> {
-    if let Some(e) = &ov.energies {
-        let epath = resolve("/", e);
-        if kind(file, f, &epath)? != Some(LocationType::Dataset) {
-            return Err(Error::dataset(
-                file,
-                &epath,
-                "missing dataset (given as the energies path)",
-            ));
+    let relative = match &ov.energies {
+        Some(e) if e.starts_with('/') => {
+            let epath = e.clone();
+            if kind(file, f, &epath)? != Some(LocationType::Dataset) {
+                return Err(Error::dataset(
+                    file,
+                    &epath,
+                    "missing dataset (given as the energies path)",
+                ));
+            }
+            let group = match epath.rfind('/') {
+                Some(0) | None => "/".to_string(),
+                Some(k) => epath[..k].to_string(),
+            };
+            return Ok(vec![describe(file, f, &group, &epath, ov)?]);
         }
-        let group = match epath.rfind('/') {
-            Some(0) | None => "/".to_string(),
-            Some(k) => epath[..k].to_string(),
-        };
-        return Ok(vec![describe(file, f, &group, &epath, ov)?]);
-    }
+        Some(e) => e.trim_end_matches('/').to_string(),
+        None => "energies".to_string(),
+    };
     let mut groups = Vec::new();
     let mut visited = Visited::default();
     visited.first(f, "/");
-    walk(file, f, "/", 0, &mut visited, &mut groups)?;
+    walk(file, f, "/", &relative, 0, &mut visited, &mut groups)?;
     visited.warn(file);
     if groups.is_empty() {
         return Err(Error::file(
             file,
-            "no sector found: no group holds a dataset named 'energies' (use --energies-path for another layout)",
+            if ov.energies.is_some() {
+                format!(
+                    "no sector found: no group holds a dataset at '{}' (given as the energies path)",
+                    crate::error::escape(&relative)
+                )
+            } else {
+                "no sector found: no group holds a dataset named 'energies' (use --energies-path for another layout)".to_string()
+            },
         ));
     }
     groups
         .iter()
-        .map(|g| describe(file, f, g, &join(g, "energies"), ov))
+        .map(|g| describe(file, f, g, &join(g, &relative), ov))
         .collect()
 }
 
@@ -194,6 +207,7 @@ fn walk(
     file: &Path,
     f: &hdf5::File,
     group: &str,
+    energies: &str,
     depth: usize,
     visited: &mut Visited,
     out: &mut Vec<String>,
@@ -204,8 +218,9 @@ fn walk(
     let g = f
         .group(group)
         .map_err(|e| h5::h5err(file, group, "cannot open group", e))?;
-    let is_sector = g.link_exists("energies")
-        && kind(file, f, &join(group, "energies"))? == Some(LocationType::Dataset);
+    let first = energies.split('/').next().unwrap_or(energies);
+    let is_sector = g.link_exists(first)
+        && kind(file, f, &join(group, energies))? == Some(LocationType::Dataset);
     if is_sector {
         out.push(group.to_string());
     }
@@ -214,14 +229,14 @@ fn walk(
         .map_err(|e| h5::h5err(file, group, "cannot list members", e))?;
     names.sort();
     for name in names {
-        if is_sector && SECTOR_MEMBERS.contains(&name.as_str()) {
+        if is_sector && (SECTOR_MEMBERS.contains(&name.as_str()) || name == first) {
             continue;
         }
         let child = join(group, &name);
         // Unreadable links (dangling soft or external links) outside sectors are skipped.
         if f.loc_type_by_name(&child).ok() == Some(LocationType::Group) && visited.first(f, &child)
         {
-            walk(file, f, &child, depth + 1, visited, out)?;
+            walk(file, f, &child, energies, depth + 1, visited, out)?;
         }
     }
     Ok(())
@@ -270,6 +285,8 @@ fn describe(
     let label = attr_string(file, group, &gobj, "label")?;
     let model = attr_string(file, group, &gobj, "model")?;
     let symmetry_class = attr_string(file, group, &gobj, "symmetry_class")?;
+    let realization = attr_count(file, group, &gobj, "realization")?;
+    let disorder = h5::attr_number(file, group, &gobj, "disorder")?;
 
     let mut sector = Sector {
         name: sector_name(group),
@@ -286,6 +303,8 @@ fn describe(
         label,
         model,
         symmetry_class,
+        realization,
+        disorder,
         energies_path: epath.to_string(),
         energies_element: eel,
         eigenvectors_path: vpath,
@@ -330,16 +349,16 @@ fn external_members(file: &Path, f: &hdf5::File, s: &Sector) -> Vec<String> {
 fn describe_energies(file: &Path, f: &hdf5::File, epath: &str) -> Result<(usize, Element)> {
     let eds = open_ds(file, f, epath)?;
     let eshape = eds.shape();
-    if eshape.len() != 1 {
+    let Some(n) = h5::vector_len(&eshape) else {
         return Err(Error::dataset(
             file,
             epath,
             format!(
-                "expected a 1-D dataset, found shape {}",
+                "expected a 1-D dataset ([n], or [1, n] / [n, 1]), found shape {}",
                 format_shape(&eshape)
             ),
         ));
-    }
+    };
     let eel = h5::element(file, epath, &eds)?;
     if eel.field() == Field::Complex {
         return Err(Error::dataset(
@@ -348,7 +367,6 @@ fn describe_energies(file: &Path, f: &hdf5::File, epath: &str) -> Result<(usize,
             format!("energies must be real, found {eel}"),
         ));
     }
-    let n = eshape[0];
     if n == 0 {
         return Err(Error::dataset(file, epath, "no energies (empty dataset)"));
     }
@@ -588,7 +606,8 @@ fn describe_states(
             let ds = open_ds(file, f, &p)?;
             let el = h5::element(file, &p, &ds)?;
             let shape = ds.shape();
-            let ok = shape.len() == 1 && dim.is_none_or(|d| shape[0] == d);
+            let len = h5::vector_len(&shape);
+            let ok = len.is_some_and(|l| dim.is_none_or(|d| l == d));
             if !ok {
                 return Err(Error::dataset(
                     file,
@@ -695,8 +714,13 @@ fn probe_dataset_operator(
 ) -> Result<ObservableInfo> {
     let ds = open_ds(file, f, path)?;
     let el = h5::element(file, path, &ds)?;
-    let shape = ds.shape();
+    let mut shape = ds.shape();
     let basis = attr_string(file, path, &ds, "basis")?;
+    // a diagonal written as [1, dim] or [dim, 1] (column- or row-major writers)
+    if shape.len() == 2 && (shape[0] == 1) != (shape[1] == 1) && basis.as_deref() != Some("energy")
+    {
+        shape = vec![shape[0] * shape[1]];
+    }
     let form =
         match (shape.len(), basis.as_deref()) {
             (1, None | Some("computational")) => {

@@ -265,6 +265,47 @@ pub fn attr_count(
     }
 }
 
+/// Reads a single finite number `name` (any integer or float type). `Ok(None)` when the
+/// attribute does not exist.
+pub fn attr_number(
+    file: &Path,
+    path: &str,
+    loc: &hdf5::Location,
+    name: &str,
+) -> Result<Option<f64>> {
+    let Some((attr, desc, apath)) = open_attr(file, path, loc, name)? else {
+        return Ok(None);
+    };
+    if attr.size() != 1 {
+        return Err(Error::dataset(
+            file,
+            &apath,
+            format!("expected a single number, found {} elements", attr.size()),
+        ));
+    }
+    let read = |e: hdf5::Error| h5err(file, &apath, "cannot read", e);
+    let x = match desc {
+        TypeDescriptor::Integer(_) | TypeDescriptor::Unsigned(_) | TypeDescriptor::Float(_) => {
+            attr.read_raw::<f64>().map_err(read)?[0]
+        }
+        other => {
+            return Err(Error::dataset(
+                file,
+                &apath,
+                format!("expected a number, found {}", describe(&other)),
+            ))
+        }
+    };
+    if !x.is_finite() {
+        return Err(Error::dataset(
+            file,
+            &apath,
+            format!("expected a finite number, found {x}"),
+        ));
+    }
+    Ok(Some(x))
+}
+
 /// Reads an attribute `name` holding non-negative integers (any integer type, or
 /// floats with integral values). `Ok(None)` when the attribute does not exist.
 pub fn attr_counts(
@@ -443,6 +484,16 @@ pub fn format_index(shape: &[usize], flat: usize) -> String {
             .collect::<Vec<_>>()
             .join(", ")
     )
+}
+
+/// The length of a vector stored as `[n]`, `[1, n]` or `[n, 1]` (what column- and
+/// row-major writers produce for a vector), or `None` for any other shape.
+pub fn vector_len(shape: &[usize]) -> Option<usize> {
+    match shape {
+        [n] => Some(*n),
+        [1, n] | [n, 1] => Some(*n),
+        _ => None,
+    }
 }
 
 /// A shape as `[a, b]`.

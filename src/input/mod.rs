@@ -183,6 +183,13 @@ pub struct Sector {
     /// Attribute `symmetry_class` (`orthogonal` or `unitary`), when present.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub symmetry_class: Option<String>,
+    /// Attribute `realization` (index of a disorder realization), when present: sectors
+    /// that differ only by it form an ensemble.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub realization: Option<usize>,
+    /// Attribute `disorder` (disorder strength), when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub disorder: Option<f64>,
     /// Full HDF5 path of the energies.
     pub energies_path: String,
     /// Element type of the energies as stored.

@@ -31,7 +31,7 @@
 //! sector): `all_up_x` = every spin along +x (ψ_s = 2^(−L/2) for all s); `neel_z` =
 //! ↑↓↑↓… (site 1 up); `domain_wall_z` = sites `1..=⌊L/2⌋` up, the others down.
 
-use super::basis::{densify, Parity, SectorBasis};
+use super::basis::{densify, SectorBasis, Symmetry};
 use super::{AttrValue, Boundary, ChainModel, ChainSpec, Reflection, SectorData};
 use crate::data::{Csr, Matrix, Observable, OpData, Operator, Vector};
 use crate::error::{Error, Result};
@@ -154,6 +154,21 @@ fn site_terms(model: &ChainModel, i: usize, w: f64, out: &mut Vec<Term>) {
     }
 }
 
+/// The random fields hᵢ of `spec` (site 1 first; empty for a clean chain), uniform in
+/// `[−W, W]` from the realization's seed (see [`super::Disorder`]).
+pub fn random_fields(spec: &ChainSpec) -> Vec<f64> {
+    use rand::Rng;
+    match spec.disorder {
+        None => Vec::new(),
+        Some(d) => {
+            let mut rng = super::rmt::rng(d.seed);
+            (0..spec.sites)
+                .map(|_| d.strength * (2.0 * rng.random::<f64>() - 1.0))
+                .collect()
+        }
+    }
+}
+
 /// All terms of the Hamiltonian of `spec`.
 fn hamiltonian_terms(spec: &ChainSpec) -> Vec<Term> {
     let l = spec.sites;
@@ -171,6 +186,9 @@ fn hamiltonian_terms(spec: &ChainSpec) -> Vec<Term> {
     }
     for i in 0..l {
         site_terms(&spec.model, i, 1.0, &mut t);
+    }
+    for (i, h) in random_fields(spec).into_iter().enumerate() {
+        t.push(Term::Z(i, h));
     }
     if let Reflection::Break { field } = spec.reflection {
         if field != 0.0 {
@@ -237,6 +255,30 @@ fn check_spec(spec: &ChainSpec) -> Result<()> {
             )));
         }
     }
+    let conserves_sz = matches!(
+        spec.model,
+        ChainModel::Xxz { .. } | ChainModel::FreeSpins { .. }
+    );
+    if spec.sz.is_some() && !conserves_sz {
+        return Err(Error::usage(format!(
+            "--sz: the {} chain does not conserve the total S^z (XXZ and free spins do)",
+            model_name(&spec.model)
+        )));
+    }
+    up_spins(spec)?;
+    if let Some(d) = spec.disorder {
+        if !matches!(spec.model, ChainModel::Xxz { .. }) {
+            return Err(Error::usage(
+                "random fields are built for the XXZ chain only",
+            ));
+        }
+        if !(d.strength.is_finite() && d.strength >= 0.0) {
+            return Err(Error::usage(format!(
+                "disorder strength must be finite and non-negative, got {}",
+                d.strength
+            )));
+        }
+    }
     if let Some(site) = spec.site {
         if site == 0 || site > l {
             return Err(Error::usage(format!(
@@ -251,6 +293,78 @@ fn check_spec(spec: &ChainSpec) -> Result<()> {
         }
     }
     Ok(())
+}
+
+/// The number of up spins n_↑ = L/2 + S^z of the requested U(1) sector, if any.
+pub fn up_spins(spec: &ChainSpec) -> Result<Option<usize>> {
+    let Some(m) = spec.sz else { return Ok(None) };
+    let up = spec.sites as f64 / 2.0 + m;
+    if !(up.is_finite() && up >= 0.0 && up <= spec.sites as f64 && up.fract() == 0.0) {
+        return Err(Error::usage(format!(
+            "--sz {m}: a chain of {} sites has S^z in -{}, -{} + 1, ..., {}",
+            spec.sites,
+            spec.sites as f64 / 2.0,
+            spec.sites as f64 / 2.0,
+            spec.sites as f64 / 2.0
+        )));
+    }
+    Ok(Some(up as usize))
+}
+
+/// One sector to build: group name, the word used in labels and the `parity` attribute,
+/// and the symmetries its basis resolves.
+struct SectorPlan {
+    group: String,
+    tag: String,
+    symmetry: Symmetry,
+}
+
+/// The sectors of `spec`: reflection sectors `even`/`odd` when the reflection is resolved
+/// and not broken by random fields; inside the U(1) block S^z = 0 of a clean XXZ chain
+/// also the spin flip (`even_flip_even`, `even_flip_odd`, `odd_flip_even`, `odd_flip_odd`);
+/// otherwise one sector `full` (its `parity` attribute `full`, `broken` or `disordered`).
+fn sector_plan(spec: &ChainSpec) -> Result<Vec<SectorPlan>> {
+    let up = up_spins(spec)?;
+    let clean = spec.disorder.is_none();
+    let flip = clean
+        && matches!(spec.model, ChainModel::Xxz { .. })
+        && up.is_some_and(|u| 2 * u == spec.sites);
+    let word = |c: i8| if c > 0 { "even" } else { "odd" };
+    if spec.reflection != Reflection::Resolve || !clean {
+        let tag = match (spec.reflection, clean) {
+            (_, false) => "disordered",
+            (Reflection::Break { .. }, true) => "broken",
+            _ => "full",
+        };
+        return Ok(vec![SectorPlan {
+            group: "full".into(),
+            tag: tag.into(),
+            symmetry: Symmetry {
+                up,
+                ..Symmetry::default()
+            },
+        }]);
+    }
+    let mut plan = Vec::new();
+    for r in [1i8, -1] {
+        let flips: &[Option<i8>] = if flip { &[Some(1), Some(-1)] } else { &[None] };
+        for &f in flips {
+            let name = match f {
+                Some(f) => format!("{}_flip_{}", word(r), word(f)),
+                None => word(r).to_string(),
+            };
+            plan.push(SectorPlan {
+                group: name.clone(),
+                tag: name,
+                symmetry: Symmetry {
+                    up,
+                    reflection: Some(r),
+                    flip: f,
+                },
+            });
+        }
+    }
+    Ok(plan)
 }
 
 /// The site of the local observables (1-based): `spec.site` or the centre `⌈L/2⌉`.
@@ -304,146 +418,206 @@ fn observable_support(spec: &ChainSpec, symmetrised: bool) -> String {
     }
 }
 
+/// Full-space operators shared by every sector of one chain.
+struct FullSpace {
+    h: Csr<f64>,
+    sz: Vec<f64>,
+    szsz: Vec<f64>,
+    sx: Csr<f64>,
+    bond: Csr<f64>,
+    mz: Vec<f64>,
+    states: Vec<(&'static str, Vec<f64>)>,
+}
+
+impl FullSpace {
+    fn new(spec: &ChainSpec) -> Result<FullSpace> {
+        let l = spec.sites;
+        let site = observable_site(spec) - 1; // 0-based
+        let next = (site + 1) % l;
+        let fields = random_fields(spec);
+        let mut bt = Vec::new();
+        bond_terms(&spec.model, site, next, &mut bt);
+        site_terms(&spec.model, site, 0.5, &mut bt);
+        site_terms(&spec.model, next, 0.5, &mut bt);
+        for i in [site, next] {
+            if let Some(&h) = fields.get(i) {
+                bt.push(Term::Z(i, 0.5 * h));
+            }
+        }
+        let mz_terms: Vec<Term> = (0..l).map(|i| Term::Z(i, 1.0 / l as f64)).collect();
+        Ok(FullSpace {
+            h: full_hamiltonian(spec)?,
+            sz: diagonal(l, &[Term::Z(site, 1.0)]),
+            szsz: diagonal(l, &[Term::Zz(site, next, 1.0)]),
+            sx: assemble(l, &[Term::X(site, 1.0)]),
+            bond: assemble(l, &bt),
+            mz: diagonal(l, &mz_terms),
+            states: product_states(l),
+        })
+    }
+}
+
 /// [`build_chain`], also returning the time spent on each sector (projection and
 /// diagonalisation; the shared full-space assembly is counted in the first sector).
 pub fn build_chain_timed(spec: &ChainSpec) -> Result<Vec<(SectorData, std::time::Duration)>> {
     let assembly = std::time::Instant::now();
     check_spec(spec)?;
-    let l = spec.sites;
-    let site = observable_site(spec) - 1; // 0-based
-    let h_full = full_hamiltonian(spec)?;
-
-    // observables in the full space
-    let sz = diagonal(l, &[Term::Z(site, 1.0)]);
-    let sx = assemble(l, &[Term::X(site, 1.0)]);
-    let next = (site + 1) % l;
-    let mut bt = Vec::new();
-    bond_terms(&spec.model, site, next, &mut bt);
-    site_terms(&spec.model, site, 0.5, &mut bt);
-    site_terms(&spec.model, next, 0.5, &mut bt);
-    let bond = assemble(l, &bt);
-    let mz_terms: Vec<Term> = (0..l).map(|i| Term::Z(i, 1.0 / l as f64)).collect();
-    let mz = diagonal(l, &mz_terms);
-    let states = product_states(l);
-
-    let parities: &[Parity] = match spec.reflection {
-        Reflection::Resolve => &[Parity::Even, Parity::Odd],
-        _ => &[Parity::Full],
-    };
+    let full = FullSpace::new(spec)?;
+    let plan = sector_plan(spec)?;
     let assembly = assembly.elapsed();
     // The sectors are independent: diagonalise them concurrently (the dense
     // eigensolver is largely sequential, so this is what uses a second core).
     use rayon::prelude::*;
-    let build_one = |parity: Parity| -> Result<(SectorData, std::time::Duration)> {
-        let clock = std::time::Instant::now();
-        let basis = SectorBasis::new(l, parity)?;
-        let (group, tag) = match parity {
-            Parity::Even => ("even", "even"),
-            Parity::Odd => ("odd", "odd"),
-            Parity::Full => (
-                "full",
-                match spec.reflection {
-                    Reflection::Break { .. } => "broken",
-                    _ => "full",
-                },
-            ),
-        };
-        let label = format!("{} L={l} {tag}", short_name(&spec.model));
-        let h = basis.project_csr(&h_full);
-        let pb = crate::progress::spinner(&format!("diagonalising {label} (dim {})", basis.dim()));
-        pb.enable_steady_tick(std::time::Duration::from_millis(200));
-        let dense = densify(&h);
-        let eig = crate::linalg::eigh_real(dense.as_ref());
-        pb.finish_and_clear();
-        let (energies, vectors) = eig?;
-
-        let symmetrised = parity != Parity::Full;
-        let note = "projection P^T O P of the site operator into the reflection sector, \
-                    equal to the symmetrised (O_i + O_{L+1-i})/2 restricted to the sector";
-        let mut notes = Vec::new();
-        if symmetrised {
-            for name in ["sz_site", "sx_site", "bond_energy"] {
-                notes.push((format!("observables/{name}"), note.to_string()));
-            }
-        }
-        let support = observable_support(spec, symmetrised);
-        let supports: Vec<(String, String)> = ["sz_site", "sx_site"]
-            .iter()
-            .map(|n| (format!("observables/{n}"), support.clone()))
-            .collect();
-        let observables = vec![
-            Observable {
-                name: "sz_site".into(),
-                op: Operator::Real(OpData::Diagonal(basis.project_diagonal(&sz))),
-            },
-            Observable {
-                name: "sx_site".into(),
-                op: Operator::Real(OpData::Csr(basis.project_csr(&sx))),
-            },
-            Observable {
-                name: "bond_energy".into(),
-                op: Operator::Real(OpData::Csr(basis.project_csr(&bond))),
-            },
-            Observable {
-                name: "mz".into(),
-                op: Operator::Real(OpData::Diagonal(basis.project_diagonal(&mz))),
-            },
-        ];
-        let sector_states = states
-            .iter()
-            .map(|(name, psi)| (name.to_string(), Vector::Real(basis.project_state(psi))))
-            .collect();
-
-        let mut typed = vec![
-            (
-                "full_dim".to_string(),
-                AttrValue::Int(basis.full_dim as i64),
-            ),
-            ("site".to_string(), AttrValue::Int((site + 1) as i64)),
-        ];
-        for (name, v) in parameters(&spec.model) {
-            typed.push((name.to_string(), AttrValue::Float(v)));
-        }
-        if let Reflection::Break { field } = spec.reflection {
-            typed.push(("break_field".to_string(), AttrValue::Float(field)));
-        }
-        let boundary = match spec.boundary {
-            Boundary::Open => "open",
-            Boundary::Periodic => "periodic",
-        };
-        let reflection = match spec.reflection {
-            Reflection::Ignore => "ignore",
-            Reflection::Resolve => "resolve",
-            Reflection::Break { .. } => "break",
-        };
-        let sector = SectorData {
-            group: group.to_string(),
-            energies,
-            eigenvectors: Some(Matrix::Real(vectors)),
-            observables,
-            hamiltonian: Some(Operator::Real(OpData::Csr(h))),
-            states: sector_states,
-            size: Some(l),
-            label: Some(label),
-            attributes: vec![
-                ("model".into(), model_name(&spec.model).into()),
-                ("boundary".into(), boundary.into()),
-                ("reflection".into(), reflection.into()),
-                ("parity".into(), tag.into()),
-            ],
-            typed_attributes: typed,
-            embedding: Some(basis.embedding()),
-            notes,
-            supports,
-        };
-        Ok((sector, clock.elapsed()))
-    };
-    let mut out = parities
+    let mut out = plan
         .par_iter()
-        .map(|&p| build_one(p))
+        .map(|p| build_sector(spec, &full, p))
         .collect::<Result<Vec<_>>>()?;
     if let Some(first) = out.first_mut() {
         first.1 += assembly;
     }
     Ok(out)
+}
+
+/// The standard observables of one sector (module documentation): σˣ and the
+/// magnetisation are left out of U(1) sectors (zero and constant there), σᶻ of sectors
+/// with the spin flip resolved (identically zero); `szsz_bond` = σᶻᵢσᶻᵢ₊₁ is added in
+/// U(1) sectors.
+fn sector_observables(full: &FullSpace, basis: &SectorBasis) -> Vec<Observable> {
+    let sym = basis.symmetry;
+    let diag = |name: &str, d: &[f64]| Observable {
+        name: name.into(),
+        op: Operator::Real(OpData::Diagonal(basis.project_diagonal(d))),
+    };
+    let csr = |name: &str, o: &Csr<f64>| Observable {
+        name: name.into(),
+        op: Operator::Real(OpData::Csr(basis.project_csr(o))),
+    };
+    let mut obs = Vec::new();
+    if sym.flip.is_none() {
+        obs.push(diag("sz_site", &full.sz));
+    }
+    if sym.up.is_none() {
+        obs.push(csr("sx_site", &full.sx));
+    }
+    obs.push(csr("bond_energy", &full.bond));
+    if sym.up.is_none() {
+        obs.push(diag("mz", &full.mz));
+    } else {
+        obs.push(diag("szsz_bond", &full.szsz));
+    }
+    obs
+}
+
+/// Typed attributes of a sector: dimensions, site, couplings, break field, S^z, disorder.
+fn sector_attributes(spec: &ChainSpec, basis: &SectorBasis) -> Vec<(String, AttrValue)> {
+    let mut typed = vec![
+        (
+            "full_dim".to_string(),
+            AttrValue::Int(basis.full_dim as i64),
+        ),
+        (
+            "site".to_string(),
+            AttrValue::Int(observable_site(spec) as i64),
+        ),
+    ];
+    for (name, v) in parameters(&spec.model) {
+        typed.push((name.to_string(), AttrValue::Float(v)));
+    }
+    if let Reflection::Break { field } = spec.reflection {
+        typed.push(("break_field".to_string(), AttrValue::Float(field)));
+    }
+    if let Some(m) = spec.sz {
+        typed.push(("sz".to_string(), AttrValue::Float(m)));
+    }
+    if let Some(d) = spec.disorder {
+        typed.push(("disorder".to_string(), AttrValue::Float(d.strength)));
+        typed.push((
+            "realization".to_string(),
+            AttrValue::Int(d.realization as i64),
+        ));
+        typed.push(("seed".to_string(), AttrValue::Int(d.seed as i64)));
+    }
+    typed
+}
+
+/// Projects, diagonalises and describes one sector of the plan.
+fn build_sector(
+    spec: &ChainSpec,
+    full: &FullSpace,
+    plan: &SectorPlan,
+) -> Result<(SectorData, std::time::Duration)> {
+    let clock = std::time::Instant::now();
+    let l = spec.sites;
+    let basis = SectorBasis::symmetric(l, plan.symmetry)?;
+    let mut label = format!("{} L={l}", short_name(&spec.model));
+    if let Some(m) = spec.sz {
+        label.push_str(&format!(" Sz={m}"));
+    }
+    if let Some(d) = spec.disorder {
+        label.push_str(&format!(" W={}", d.strength));
+    } else {
+        label.push_str(&format!(" {}", plan.tag));
+    }
+    let h = basis.project_csr(&full.h);
+    let pb = crate::progress::spinner(&format!("diagonalising {label} (dim {})", basis.dim()));
+    pb.enable_steady_tick(std::time::Duration::from_millis(200));
+    let dense = densify(&h);
+    let eig = crate::linalg::eigh_real(dense.as_ref());
+    pb.finish_and_clear();
+    let (energies, vectors) = eig?;
+
+    let symmetrised = plan.symmetry.reflection.is_some();
+    let note = "projection P^T O P of the site operator into the reflection sector, \
+                equal to the symmetrised (O_i + O_{L+1-i})/2 restricted to the sector";
+    let observables = sector_observables(full, &basis);
+    let mut notes = Vec::new();
+    if symmetrised {
+        for o in &observables {
+            if ["sz_site", "sx_site", "bond_energy", "szsz_bond"].contains(&o.name.as_str()) {
+                notes.push((format!("observables/{}", o.name), note.to_string()));
+            }
+        }
+    }
+    let support = observable_support(spec, symmetrised);
+    let supports: Vec<(String, String)> = observables
+        .iter()
+        .filter(|o| ["sz_site", "sx_site"].contains(&o.name.as_str()))
+        .map(|o| (format!("observables/{}", o.name), support.clone()))
+        .collect();
+    let states = full
+        .states
+        .iter()
+        .map(|(name, psi)| (name.to_string(), Vector::Real(basis.project_state(psi))))
+        .collect();
+    let boundary = match spec.boundary {
+        Boundary::Open => "open",
+        Boundary::Periodic => "periodic",
+    };
+    let reflection = match spec.reflection {
+        Reflection::Ignore => "ignore",
+        Reflection::Resolve => "resolve",
+        Reflection::Break { .. } => "break",
+    };
+    let sector = SectorData {
+        group: plan.group.clone(),
+        energies,
+        eigenvectors: Some(Matrix::Real(vectors)),
+        observables,
+        hamiltonian: Some(Operator::Real(OpData::Csr(h))),
+        states,
+        size: Some(l),
+        label: Some(label),
+        attributes: vec![
+            ("model".into(), model_name(&spec.model).into()),
+            ("boundary".into(), boundary.into()),
+            ("reflection".into(), reflection.into()),
+            ("parity".into(), plan.tag.clone()),
+        ],
+        typed_attributes: sector_attributes(spec, &basis),
+        embedding: Some(basis.embedding()),
+        basis: basis.configurations(),
+        notes,
+        supports,
+    };
+    Ok((sector, clock.elapsed()))
 }

@@ -64,6 +64,10 @@ pub struct SectorData {
     /// component `c = Pᵀψ` and a sector vector `c` is the full-space state `P c`.
     /// Written as the CSR group `embedding`.
     pub embedding: Option<Csr<f64>>,
+    /// The computational-basis configuration of each row of the eigenvectors (bit `i − 1`
+    /// is site `i`), when every row is one configuration: written as the `[dim]` uint64
+    /// dataset `basis` with attribute `local_dim = 2`.
+    pub basis: Option<Vec<u64>>,
     /// Attributes `note` on datasets of the sector, as (path relative to the sector group,
     /// e.g. `observables/sz_site`, note text).
     pub notes: Vec<(String, String)>,
@@ -122,4 +126,29 @@ pub struct ChainSpec {
     pub reflection: Reflection,
     /// Site (1-based) of the local observables σᶻ, σˣ and of the bond term (bond site, site+1); default: centre.
     pub site: Option<usize>,
+    /// Total magnetisation S^z = (n_↑ − n_↓)/2 of the one U(1) sector to build (models
+    /// that conserve it: XXZ, free spins); `None`: the whole space.
+    #[serde(default)]
+    pub sz: Option<f64>,
+    /// Random longitudinal fields (XXZ only); `None`: a clean chain.
+    #[serde(default)]
+    pub disorder: Option<Disorder>,
+}
+
+/// Random fields `Σᵢ hᵢ σᶻᵢ`, hᵢ independent and uniform in `[−W, W]`, drawn from a
+/// generator seeded with `seed` (site 1 first). They break the reflection and the spin
+/// flip; the total S^z stays conserved.
+///
+/// In spin-operator units (`S = σ/2`) the XXZ chain `J Σ (σˣσˣ + σʸσʸ + Δ σᶻσᶻ) + Σ hᵢσᶻᵢ`
+/// equals `4J [Σ (SˣSˣ + SʸSʸ + Δ SᶻSᶻ) + Σ (hᵢ / 2J) Sᶻᵢ]`: a strength `W` here is the
+/// strength `W / 2J` of the convention `J Σ S·S + Σ hᵢ Sᶻᵢ` common in the many-body
+/// localisation literature.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Disorder {
+    /// Half-width W of the field distribution.
+    pub strength: f64,
+    /// Seed of this realization's fields.
+    pub seed: u64,
+    /// Index of the realization (written as the attribute `realization`).
+    pub realization: usize,
 }

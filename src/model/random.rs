@@ -122,6 +122,7 @@ pub fn build_random(spec: &RandomSpec) -> Result<SectorData> {
             ),
         ],
         embedding: None,
+        basis: None,
         notes: Vec::new(),
         supports: Vec::new(),
     })

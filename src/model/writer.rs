@@ -11,6 +11,8 @@
 //!   `[n, n]` with attribute `basis = "energy"`;
 //! - `states/<name>` `[dim]` with attribute `weight = ‖c‖² = Σ|cᵢ|²`;
 //! - `embedding` (CSR, `[full_dim, dim]`) when the sector comes from a larger space;
+//! - `basis` `[dim]` uint64 with attribute `local_dim = 2` when every row of the
+//!   eigenvectors is one computational-basis configuration (bit `i − 1` = site `i`);
 //! - attributes `size` (int64), `label`, the string and typed attributes, and `note` on the
 //!   datasets listed in [`SectorData::notes`].
 //!
@@ -107,8 +109,14 @@ fn write_all(tmp: &Path, final_path: &Path, sectors: &[SectorData]) -> Result<()
     let ctx = Ctx { file: final_path };
     // Strong close degree: closing the file closes every object still open in it and
     // flushes, so the file is complete on disk before it is renamed and read elsewhere.
+    // No file lock: nobody can see the temporary name before the rename, and a lock on it
+    // would be inherited by any process the caller spawns meanwhile (flock follows the file
+    // description), keeping the finished file locked against readers until that child exits.
     let file = hdf5::File::with_options()
-        .with_fapl(|p| p.fclose_degree(hdf5::file::FileCloseDegree::Strong))
+        .with_fapl(|p| {
+            p.fclose_degree(hdf5::file::FileCloseDegree::Strong)
+                .file_locking(false)
+        })
         .create(tmp)
         .map_err(|e| Error::file(final_path, e.to_string()))?;
     for s in sectors {
@@ -206,6 +214,10 @@ fn write_sector(ctx: &Ctx, file: &hdf5::File, s: &SectorData) -> Result<()> {
     }
     if let Some(p) = &s.embedding {
         write_csr(ctx, &g, "embedding", &here("embedding"), p)?;
+    }
+    if let Some(b) = &s.basis {
+        let ds = write_array(ctx, &g, "basis", &here("basis"), Array1::from(b.clone()))?;
+        scalar_attr(ctx, &ds, &here("basis"), "local_dim", 2i64)?;
     }
 
     let gp = if base.is_empty() {

@@ -61,6 +61,8 @@ pub fn build_files(
                 boundary: Boundary::Open,
                 reflection: Reflection::Resolve,
                 site: None,
+                sz: None,
+                disorder: None,
             };
             let sectors = build_chain(&spec)?;
             let path = out.join(format!("{stem}_L{l:02}.h5"));

@@ -3,6 +3,7 @@
 
 use super::class::{sector_class, ClassChoice};
 use super::Inputs;
+use crate::analysis::ensemble;
 use crate::analysis::levels::{self, LevelOptions, LevelsOutput, SectorLevels};
 use crate::error::{Context, Result};
 use crate::window::WindowSpec;
@@ -36,7 +37,9 @@ impl LevelsRequest {
 }
 
 /// The level statistics of every selected sector (`sector`: only this one) in the window,
-/// with the symmetry class of each ([`super::class`]).
+/// with the symmetry class of each ([`super::class`]), and the realization averages and
+/// disorder scan of the sectors that carry a `realization` attribute
+/// ([`crate::analysis::ensemble`]).
 pub fn levels(
     inputs: &Inputs,
     sector: Option<&str>,
@@ -45,6 +48,7 @@ pub fn levels(
     class: ClassChoice,
 ) -> Result<LevelsOutput> {
     let mut sectors = Vec::new();
+    let mut members = Vec::new();
     for file in inputs.open()? {
         for s in file.select(sector)? {
             crate::progress::check_interrupt()?;
@@ -62,16 +66,32 @@ pub fn levels(
             let src = vectors
                 .as_ref()
                 .map(|v| v as &dyn crate::data::ColumnSource);
+            if let Some(k) = s.realization {
+                members.push(ensemble::Member {
+                    name: format!("{}:{}", file.path().display(), s.name),
+                    size: s.size,
+                    disorder: s.disorder,
+                    label: s.label.clone().unwrap_or_default(),
+                    realization: k,
+                    value: report.mean_r,
+                });
+            }
             sectors.push(SectorLevels {
                 file: file.path().display().to_string(),
                 name: s.name.clone(),
                 class: sector_class(&file, s, src, &[], class)?,
+                realization: s.realization,
+                disorder: s.disorder,
                 report,
             });
         }
     }
+    let ensembles = ensemble::ensembles(&members);
+    let disorder_scan = ensemble::disorder_scan(&ensembles);
     Ok(LevelsOutput {
         options: opts.clone(),
         sectors,
+        ensembles,
+        disorder_scan,
     })
 }

@@ -16,6 +16,8 @@ pub fn mixed_field_spec(sites: usize) -> ChainSpec {
         boundary: Boundary::Open,
         reflection: Reflection::Resolve,
         site: None,
+        sz: None,
+        disorder: None,
     }
 }
 

@@ -88,14 +88,33 @@ pub enum StateSpec {
 impl StateSpec {
     /// Parses `stored:NAME`, `index:K`, `product:LETTERS` or `product:AXIS±` (module doc).
     pub fn parse(s: &str) -> Result<StateSpec> {
-        let help = "expected stored:NAME, index:K, product:LETTERS (letters u d + - r l, site 1 first) or product:x+ / x- / y+ / y- / z+ / z-";
+        /// `stored:NAME`: a dataset directly under `states/` of each sector.
+        fn stored(s: &str, name: &str) -> Result<StateSpec> {
+            let name = name.trim();
+            if name.is_empty() || name.contains('/') {
+                return Err(Error::usage(format!(
+                    "state '{}': a stored state is named by its dataset under states/ of each sector (stored:NAME or states/NAME)",
+                    crate::error::escape(s)
+                )));
+            }
+            Ok(StateSpec::Stored {
+                name: name.to_string(),
+            })
+        }
+        let help = "expected stored:NAME (or states/NAME), index:K, product:LETTERS (letters u d + - r l, site 1 first) or product:x+ / x- / y+ / y- / z+ / z-";
+        let esc = crate::error::escape(s);
+        // the dataset path of a stored state, as the README writes it
+        if let Some(name) = s.trim().strip_prefix("states/") {
+            return stored(s, name);
+        }
         let (kind, rest) = s
             .split_once(':')
-            .ok_or_else(|| Error::usage(format!("state '{s}': {help}")))?;
+            .ok_or_else(|| Error::usage(format!("state '{esc}': {help}")))?;
         match kind.trim() {
-            "stored" if !rest.trim().is_empty() => Ok(StateSpec::Stored {
-                name: rest.trim().to_string(),
-            }),
+            "stored" => stored(
+                s,
+                rest.trim().strip_prefix("states/").unwrap_or(rest.trim()),
+            ),
             "index" => rest
                 .trim()
                 .parse()

@@ -91,3 +91,81 @@ pub fn levels_text(sectors: &[SectorLevels]) -> String {
     }
     s
 }
+
+/// The realization averages (one line per ensemble) and the disorder scan (⟨r̃⟩ against W
+/// per size, and the crossings with their rule); empty without ensembles.
+pub fn ensembles_text(out: &levels::LevelsOutput) -> String {
+    let mut s = String::new();
+    if out.ensembles.is_empty() {
+        return s;
+    }
+    let _ = writeln!(
+        s,
+        "realization averages (ensembles: same size, disorder and label; error = sample-to-sample sd / sqrt(n))"
+    );
+    let _ = writeln!(
+        s,
+        "  {:<28} {:>5} {:>8} {:>4} {:>9} {:>9} {:>9}",
+        "label", "size", "W", "n", "mean r", "+/-", "spread"
+    );
+    for e in &out.ensembles {
+        let _ = writeln!(
+            s,
+            "  {:<28} {:>5} {:>8} {:>4} {:>9.4} {:>9.4} {:>9.4}",
+            e.label,
+            e.size.map(|l| l.to_string()).unwrap_or("-".into()),
+            e.disorder.map(|w| format!("{w}")).unwrap_or("-".into()),
+            e.realizations,
+            e.mean_r,
+            e.mean_r_stderr,
+            e.mean_r_spread
+        );
+        for w in &e.warnings {
+            let _ = writeln!(s, "    warning: {w}");
+        }
+    }
+    if let Some(scan) = &out.disorder_scan {
+        let _ = writeln!(
+            s,
+            "disorder scan: mean r against W (Poisson 0.3863, GOE 0.5307)"
+        );
+        for c in &scan.curves {
+            let pts: Vec<String> = c
+                .points
+                .iter()
+                .map(|p| format!("W={} {:.4}+/-{:.4}", p.disorder, p.mean_r, p.mean_r_stderr))
+                .collect();
+            let _ = writeln!(s, "  L={:<3} {}", c.size, pts.join("  "));
+        }
+        for c in &scan.crossings {
+            match (c.disorder, c.disorder_stderr) {
+                (Some(w), Some(e)) => {
+                    let _ = writeln!(
+                        s,
+                        "  crossing L={} / L={}: W* = {w:.3} +/- {e:.3} ({} of {} resamples without a crossing)",
+                        c.size_small, c.size_large, c.resamples_without_crossing, c.resamples
+                    );
+                }
+                (Some(w), None) => {
+                    let _ = writeln!(
+                        s,
+                        "  crossing L={} / L={}: W* = {w:.3} (no bootstrap error)",
+                        c.size_small, c.size_large
+                    );
+                }
+                _ => {
+                    let _ = writeln!(
+                        s,
+                        "  crossing L={} / L={}: none in the scanned range",
+                        c.size_small, c.size_large
+                    );
+                }
+            }
+        }
+        for n in &scan.notes {
+            let _ = writeln!(s, "  note: {n}");
+        }
+        let _ = writeln!(s, "  rule: {}", scan.rule);
+    }
+    s
+}

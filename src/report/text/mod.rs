@@ -9,6 +9,6 @@ pub mod scaling;
 
 pub use elements::{diagonal_text, offdiagonal_text};
 pub use inspect::inspect_text;
-pub use levels::levels_text;
+pub use levels::{ensembles_text, levels_text};
 pub use quench::quench_text;
 pub use scaling::{scaling_text, verdicts_text};

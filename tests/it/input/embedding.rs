@@ -19,6 +19,8 @@ fn chain(sites: usize) -> Vec<SectorData> {
         boundary: Boundary::Open,
         reflection: Reflection::Resolve,
         site: None,
+        sz: None,
+        disorder: None,
     })
     .unwrap()
 }

@@ -1,5 +1,6 @@
 //! Reading inputs: h5py fixtures, sector embeddings, the generate/inspect round trip, streaming from a file.
 
+mod custom;
 mod embedding;
 mod fixtures;
 mod layout;

@@ -17,6 +17,8 @@ fn spec(reflection: Reflection) -> ChainSpec {
         boundary: Boundary::Open,
         reflection,
         site: None,
+        sz: None,
+        disorder: None,
     }
 }
 

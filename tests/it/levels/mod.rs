@@ -1,4 +1,5 @@
 //! Level statistics on random-matrix spectra and on spin chains.
 
 mod chain;
+mod ensemble;
 mod statistics;

@@ -476,8 +476,12 @@ fn json_has_the_stable_keys_and_text_states_references() {
             file: "a.h5".into(),
             name: "even".into(),
             class: eigentherm::data::ClassInfo::of_field(eigentherm::data::Field::Real),
+            realization: None,
+            disorder: None,
             report: r,
         }],
+        ensembles: Vec::new(),
+        disorder_scan: None,
     };
     let v = serde_json::to_value(&out).unwrap();
     let s = &v["sectors"][0];

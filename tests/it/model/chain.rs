@@ -14,6 +14,8 @@ fn spec(model: ChainModel, sites: usize, boundary: Boundary, reflection: Reflect
         boundary,
         reflection,
         site: None,
+        sz: None,
+        disorder: None,
     }
 }
 

@@ -142,6 +142,8 @@ fn sector_decomposition_matches_the_unresolved_chain() {
             boundary: Boundary::Open,
             reflection,
             site: None,
+            sz: None,
+            disorder: None,
         })
         .unwrap();
         write_file(&path, &sectors).unwrap();

@@ -267,6 +267,8 @@ fn chain_quench(
         boundary: Boundary::Open,
         reflection: Reflection::Resolve,
         site: None,
+        sz: None,
+        disorder: None,
     })
     .unwrap();
     let times = TimeGrid::parse("lin:0:200:801").unwrap().points();

@@ -124,6 +124,8 @@ fn an_unresolved_symmetry_is_not_evidence() {
                 boundary: Boundary::Open,
                 reflection: Reflection::Resolve,
                 site: None,
+                sz: None,
+                disorder: None,
             })
             .unwrap();
             let p = dir.path().join(format!("xxz{l}.h5"));
