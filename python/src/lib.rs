@@ -50,7 +50,7 @@ fn input_flags(
 #[pyfunction]
 #[pyo3(signature = (files, *, sector=None, window=None, energy_window=None,
     symmetry_class=None, memory=None, unfold=None, unfold_degree=None, bins=None,
-    sff_eta=None, degeneracy_tol=None, min_levels=None, energies_path=None,
+    sff_eta=None, thouless_tolerance=None, degeneracy_tol=None, min_levels=None, energies_path=None,
     eigenvectors_path=None, layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
 #[allow(clippy::too_many_arguments)]
 fn levels(
@@ -65,6 +65,7 @@ fn levels(
     unfold_degree: Option<usize>,
     bins: Option<usize>,
     sff_eta: Option<f64>,
+    thouless_tolerance: Option<f64>,
     degeneracy_tol: Option<f64>,
     min_levels: Option<usize>,
     energies_path: Option<String>,
@@ -91,6 +92,7 @@ fn levels(
         unfold_degree,
         bins,
         sff_eta,
+        thouless_tolerance,
         degeneracy_tol,
         min_levels,
     };

@@ -23,6 +23,10 @@
 //! (2020); Sierant, Lewenstein, Zakrzewski, PRL 125, 156601 (2020)): a crossing locates the
 //! crossover at these sizes, not a transition.
 
+use crate::analysis::levels::surmise::Ensemble;
+use crate::analysis::levels::thouless::{averaged_form_factor, AveragedFormFactor};
+use crate::analysis::levels::LevelOptions;
+use crate::data::SymmetryClass;
 use rand::Rng;
 use serde::Serialize;
 
@@ -46,6 +50,12 @@ pub struct Member {
     pub realization: usize,
     /// The figure measured on this realization (⟨r̃⟩ of its window).
     pub value: f64,
+    /// Its unfolded window levels at unit mean spacing (for the averaged form factor).
+    pub unfolded: Vec<f64>,
+    /// Its mean level spacing in the window, energy units.
+    pub mean_spacing: f64,
+    /// Its symmetry class (chooses the random-matrix curve of the Thouless time).
+    pub class: SymmetryClass,
 }
 
 /// Realization average of ⟨r̃⟩ over one ensemble (module documentation).
@@ -71,7 +81,10 @@ pub struct EnsembleAverage {
     pub realization_indices: Vec<usize>,
     /// `FILE:SECTOR` of each member.
     pub members: Vec<String>,
-    /// Warnings (repeated realization indices, a single realization).
+    /// The realization-averaged connected form factor with its band and the Thouless time
+    /// ([`crate::analysis::levels::thouless`]).
+    pub form_factor: Option<AveragedFormFactor>,
+    /// Warnings (repeated realization indices, a single realization, mixed classes).
     pub warnings: Vec<String>,
 }
 
@@ -86,6 +99,10 @@ pub struct ScanPoint {
     pub mean_r_stderr: f64,
     /// Realizations averaged.
     pub realizations: usize,
+    /// Thouless time τ_Th of the averaged connected form factor, in Heisenberg times.
+    pub thouless_tau: Option<f64>,
+    /// g = log₁₀(t_H/t_Th).
+    pub thouless_g: Option<f64>,
 }
 
 /// ⟨r̃⟩ against disorder strength at one size.
@@ -142,8 +159,9 @@ pub fn sample_stats(x: &[f64]) -> (f64, f64, f64) {
 }
 
 /// Groups `members` into ensembles by (size, disorder, label), sorted by size, then disorder
-/// (members in order of appearance).
-pub fn ensembles(members: &[Member]) -> Vec<EnsembleAverage> {
+/// (members in order of appearance); each with its averaged form factor (the filter and
+/// time grid of `opts`).
+pub fn ensembles(members: &[Member], opts: &LevelOptions) -> Vec<EnsembleAverage> {
     let mut groups: Vec<Vec<&Member>> = Vec::new();
     for m in members {
         let same = |g: &&mut Vec<&Member>| {
@@ -155,6 +173,11 @@ pub fn ensembles(members: &[Member]) -> Vec<EnsembleAverage> {
             None => groups.push(vec![m]),
         }
     }
+    groups.sort_by(|a, b| {
+        let key = |g: &Vec<&Member>| (g[0].size, g[0].disorder.unwrap_or(f64::NAN));
+        let ((la, wa), (lb, wb)) = (key(a), key(b));
+        la.cmp(&lb).then(wa.total_cmp(&wb))
+    });
     groups
         .into_iter()
         .map(|g| {
@@ -173,6 +196,22 @@ pub fn ensembles(members: &[Member]) -> Vec<EnsembleAverage> {
                     "one realization: no sample-to-sample error (reported as 0)".to_string(),
                 );
             }
+            let class = g[0].class;
+            if g.iter().any(|m| m.class != class) {
+                warnings.push(format!(
+                    "members of different symmetry classes: the Thouless time is measured against the {class} curve of the first"
+                ));
+            }
+            let reference = match class {
+                SymmetryClass::Orthogonal => Ensemble::Goe,
+                SymmetryClass::Unitary => Ensemble::Gue,
+            };
+            let spectra: Vec<(&[f64], f64)> = g
+                .iter()
+                .filter(|m| !m.unfolded.is_empty())
+                .map(|m| (m.unfolded.as_slice(), m.mean_spacing))
+                .collect();
+            let form_factor = averaged_form_factor(&spectra, opts, reference);
             EnsembleAverage {
                 label: g[0].label.clone(),
                 size: g[0].size,
@@ -184,6 +223,7 @@ pub fn ensembles(members: &[Member]) -> Vec<EnsembleAverage> {
                 mean_r_samples: values,
                 realization_indices: g.iter().map(|m| m.realization).collect(),
                 members: g.iter().map(|m| m.name.clone()).collect(),
+                form_factor,
                 warnings,
             }
         })
@@ -242,6 +282,8 @@ pub fn disorder_scan(ensembles: &[EnsembleAverage]) -> Option<DisorderScan> {
                     mean_r: x.mean_r,
                     mean_r_stderr: x.mean_r_stderr,
                     realizations: x.realizations,
+                    thouless_tau: x.form_factor.as_ref().and_then(|f| f.thouless.tau),
+                    thouless_g: x.form_factor.as_ref().and_then(|f| f.thouless.g),
                 })
                 .collect(),
         })
@@ -326,6 +368,9 @@ mod tests {
             label: format!("L={size} W={w}"),
             realization: k,
             value,
+            unfolded: Vec::new(),
+            mean_spacing: 1.0,
+            class: SymmetryClass::Orthogonal,
         }
     }
 
@@ -337,7 +382,7 @@ mod tests {
             member(8, 1.0, 1, 2.0),
             member(8, 1.0, 2, 3.0),
         ];
-        let e = ensembles(&m);
+        let e = ensembles(&m, &LevelOptions::default());
         assert_eq!(e.len(), 1);
         assert_eq!(e[0].realizations, 3);
         assert!((e[0].mean_r - 2.0).abs() < 1e-15);
@@ -356,7 +401,7 @@ mod tests {
             m.push(member(12, 1.0, k, 0.60));
             m.push(member(12, 3.0, k, 0.35));
         }
-        let scan = disorder_scan(&ensembles(&m)).unwrap();
+        let scan = disorder_scan(&ensembles(&m, &LevelOptions::default())).unwrap();
         assert_eq!(scan.curves.len(), 2);
         let c = &scan.crossings[0];
         assert!((c.disorder.unwrap() - 2.0).abs() < 1e-12, "{c:?}");

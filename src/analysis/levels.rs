@@ -37,6 +37,7 @@
 
 pub mod spectral;
 pub mod surmise;
+pub mod thouless;
 pub mod unfold;
 
 use crate::error::{Error, Result};
@@ -92,6 +93,9 @@ pub struct LevelOptions {
     pub sff_points_per_decade: usize,
     /// Times averaged inside each table bin (default 128).
     pub sff_samples: usize,
+    /// Tolerance ε of the Thouless-time criterion |log₁₀(K_c/K_RMT)| < ε
+    /// ([`thouless`], default 0.08).
+    pub sff_tolerance: f64,
     /// Interval lengths L of the number variance (default 0.5, 1, 2, 4, 8).
     pub number_variance_lengths: Vec<f64>,
     /// Interval centres averaged over for Σ²(L) (default 2000).
@@ -111,6 +115,7 @@ impl Default for LevelOptions {
             sff_range: (1e-3, 10.0),
             sff_points_per_decade: 8,
             sff_samples: 128,
+            sff_tolerance: thouless::THOULESS_TOLERANCE,
             number_variance_lengths: vec![0.5, 1.0, 2.0, 4.0, 8.0],
             number_variance_positions: 2000,
         }
@@ -203,6 +208,9 @@ pub struct LevelReport {
     pub small_spacing_density: f64,
     /// Spectral form factor of the unfolded window.
     pub form_factor: FormFactor,
+    /// The unfolded window levels at unit mean spacing (for ensemble averages; not in JSON).
+    #[serde(skip)]
+    pub unfolded: Vec<f64>,
     /// Number variance Σ²(L).
     pub number_variance: Vec<NumberVariancePoint>,
     /// One-paragraph verdict stating thresholds and the finite-size caveat.
@@ -622,6 +630,7 @@ pub fn analyze(energies: &[f64], window: &WindowSpec, opts: &LevelOptions) -> Re
         spacing_histogram,
         small_spacing_density,
         form_factor,
+        unfolded: eps,
         number_variance,
         verdict,
         warnings,

@@ -43,6 +43,10 @@ pub struct Args {
     /// Width of the Gaussian filter of the spectral form factor, in standard deviations of the unfolded levels.
     #[arg(long, default_value_t = LevelOptions::default().sff_eta, value_name = "ETA")]
     pub sff_eta: f64,
+    /// Tolerance ε of the Thouless time: the connected form factor counts as on the
+    /// random-matrix curve while |log10(K_c / K_RMT)| < ε.
+    #[arg(long, default_value_t = LevelOptions::default().sff_tolerance, value_name = "EPS")]
+    pub thouless_tolerance: f64,
     /// Relative degeneracy tolerance: |ΔE| < TOL × mean spacing counts as degenerate.
     #[arg(long, default_value_t = LevelOptions::default().degeneracy_tol, value_name = "TOL")]
     pub degeneracy_tol: f64,
@@ -64,6 +68,7 @@ impl Args {
             unfold_degree: self.unfold_degree,
             bins: Some(self.bins),
             sff_eta: Some(self.sff_eta),
+            thouless_tolerance: Some(self.thouless_tolerance),
             degeneracy_tol: Some(self.degeneracy_tol),
             min_levels: Some(self.min_levels),
         }

@@ -287,6 +287,7 @@ fn describe(
     let symmetry_class = attr_string(file, group, &gobj, "symmetry_class")?;
     let realization = attr_count(file, group, &gobj, "realization")?;
     let disorder = h5::attr_number(file, group, &gobj, "disorder")?;
+    let basis = describe_basis(&gobj);
 
     let mut sector = Sector {
         name: sector_name(group),
@@ -305,6 +306,7 @@ fn describe(
         symmetry_class,
         realization,
         disorder,
+        basis,
         energies_path: epath.to_string(),
         energies_element: eel,
         eigenvectors_path: vpath,
@@ -872,4 +874,16 @@ fn probe_csr_operator(
         shape,
         support: attr_string(file, path, &g, "observable_support")?,
     })
+}
+
+/// The `basis` dataset of a sector group in words (`[dim] uint64`), `None` when absent or
+/// not a readable dataset (only shown by `inspect`; readers check it themselves).
+fn describe_basis(g: &hdf5::Group) -> Option<String> {
+    if !g.link_exists("basis") {
+        return None;
+    }
+    let d = g.dataset("basis").ok()?;
+    let ty = d.dtype().ok()?.to_descriptor().ok()?;
+    let shape: Vec<String> = d.shape().iter().map(|x| x.to_string()).collect();
+    Some(format!("[{}] {}", shape.join(", "), h5::describe(&ty)))
 }

@@ -111,7 +111,7 @@ pub fn require_written(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<()
 }
 
 /// Describes a type descriptor for an error message ("integer elements (int64)").
-fn describe(desc: &TypeDescriptor) -> String {
+pub fn describe(desc: &TypeDescriptor) -> String {
     match desc {
         TypeDescriptor::Integer(_) | TypeDescriptor::Unsigned(_) => {
             format!("integer elements ({desc})")

@@ -190,6 +190,9 @@ pub struct Sector {
     /// Attribute `disorder` (disorder strength), when present.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub disorder: Option<f64>,
+    /// The stored `basis` configurations (shape and element type, in words), when present.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub basis: Option<String>,
     /// Full HDF5 path of the energies.
     pub energies_path: String,
     /// Element type of the energies as stored.

@@ -338,14 +338,7 @@ mod tests {
                         )
                         .unwrap();
                         total += b.dim();
-                        let p = densify(&b.embedding());
-                        let ptp = p.transpose() * &p;
-                        for i in 0..b.dim() {
-                            for j in 0..b.dim() {
-                                let want = if i == j { 1.0 } else { 0.0 };
-                                assert!((ptp[(i, j)] - want).abs() < 1e-14);
-                            }
-                        }
+                        assert_isometry(&b);
                     }
                 }
                 assert_eq!(total, binom(l, up), "L={l} up={up}");
@@ -368,19 +361,23 @@ mod tests {
             .is_none());
     }
 
+    /// PᵀP = 1 for the embedding P of `b` (orthonormal columns; linear algebra, no source).
+    fn assert_isometry(b: &SectorBasis) {
+        let p = densify(&b.embedding());
+        let ptp = p.transpose() * &p;
+        for i in 0..b.dim() {
+            for j in 0..b.dim() {
+                let want = if i == j { 1.0 } else { 0.0 };
+                assert!((ptp[(i, j)] - want).abs() < 1e-14);
+            }
+        }
+    }
+
     #[test]
     fn embedding_is_an_isometry() {
         // linear algebra, no source: PᵀP = 1 for orthonormal columns
         for parity in [Parity::Even, Parity::Odd, Parity::Full] {
-            let b = SectorBasis::new(6, parity).unwrap();
-            let p = densify(&b.embedding());
-            let ptp = p.transpose() * &p;
-            for i in 0..b.dim() {
-                for j in 0..b.dim() {
-                    let want = if i == j { 1.0 } else { 0.0 };
-                    assert!((ptp[(i, j)] - want).abs() < 1e-14);
-                }
-            }
+            assert_isometry(&SectorBasis::new(6, parity).unwrap());
         }
     }
 }

@@ -173,6 +173,8 @@ pub struct LevelsFlags {
     pub bins: Option<usize>,
     /// `--sff-eta ETA` (default 0.5).
     pub sff_eta: Option<f64>,
+    /// `--thouless-tolerance EPS` (default 0.08).
+    pub thouless_tolerance: Option<f64>,
     /// `--degeneracy-tol TOL` (default 1e-10).
     pub degeneracy_tol: Option<f64>,
     /// `--min-levels N` (default 100).
@@ -187,6 +189,12 @@ impl LevelsFlags {
         if !(sff_eta.is_finite() && sff_eta > 0.0) {
             return Err(Error::usage(format!(
                 "--sff-eta {sff_eta}: expected a positive number"
+            )));
+        }
+        let sff_tolerance = self.thouless_tolerance.unwrap_or(d.sff_tolerance);
+        if !(sff_tolerance.is_finite() && sff_tolerance > 0.0) {
+            return Err(Error::usage(format!(
+                "--thouless-tolerance {sff_tolerance}: expected a positive number"
             )));
         }
         let degeneracy_tol = self.degeneracy_tol.unwrap_or(d.degeneracy_tol);
@@ -215,6 +223,7 @@ impl LevelsFlags {
             unfold,
             ratio_bins: bins,
             sff_eta,
+            sff_tolerance,
             degeneracy_tol,
             min_levels: self.min_levels.unwrap_or(d.min_levels),
             ..d

@@ -4,7 +4,10 @@
 use super::class::{sector_class, ClassChoice};
 use super::Inputs;
 use crate::analysis::ensemble;
+use crate::analysis::levels::surmise::Ensemble;
+use crate::analysis::levels::thouless::thouless_time;
 use crate::analysis::levels::{self, LevelOptions, LevelsOutput, SectorLevels};
+use crate::data::SymmetryClass;
 use crate::error::{Context, Result};
 use crate::window::WindowSpec;
 
@@ -66,6 +69,20 @@ pub fn levels(
             let src = vectors
                 .as_ref()
                 .map(|v| v as &dyn crate::data::ColumnSource);
+            let class = sector_class(&file, s, src, &[], class)?;
+            let mut report = report;
+            let reference = match class.symmetry_class {
+                SymmetryClass::Orthogonal => Ensemble::Goe,
+                SymmetryClass::Unitary => Ensemble::Gue,
+            };
+            let f = &report.form_factor;
+            let points: Vec<(f64, f64)> = f.table.iter().map(|p| (p.tau, p.k_connected)).collect();
+            report.form_factor.thouless = Some(thouless_time(
+                &points,
+                reference,
+                opts.sff_tolerance,
+                f.heisenberg_time,
+            ));
             if let Some(k) = s.realization {
                 members.push(ensemble::Member {
                     name: format!("{}:{}", file.path().display(), s.name),
@@ -74,19 +91,22 @@ pub fn levels(
                     label: s.label.clone().unwrap_or_default(),
                     realization: k,
                     value: report.mean_r,
+                    unfolded: std::mem::take(&mut report.unfolded),
+                    mean_spacing: report.mean_spacing,
+                    class: class.symmetry_class,
                 });
             }
             sectors.push(SectorLevels {
                 file: file.path().display().to_string(),
                 name: s.name.clone(),
-                class: sector_class(&file, s, src, &[], class)?,
+                class,
                 realization: s.realization,
                 disorder: s.disorder,
                 report,
             });
         }
     }
-    let ensembles = ensemble::ensembles(&members);
+    let ensembles = ensemble::ensembles(&members, opts);
     let disorder_scan = ensemble::disorder_scan(&ensembles);
     Ok(LevelsOutput {
         options: opts.clone(),

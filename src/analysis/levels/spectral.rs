@@ -11,7 +11,15 @@
 //! spacing, ħ = 1). The normalisation makes the plateau K → 1 at long times for
 //! non-degenerate levels (the phases of the cross terms average out). The table
 //! reports K averaged over `samples` equally spaced times inside each bin of a
-//! logarithmic grid, which tames the large point-to-point fluctuations of K.
+//! logarithmic grid (a running time average, which tames the large point-to-point
+//! fluctuations of K), with a blocking error over those samples.
+//!
+//! **Connected form factor.** K contains a disconnected part |⟨Z(τ)⟩|²/Σρ², Z(τ) =
+//! Σⱼ ρⱼ e^(−2πi εⱼ τ), from the smooth density alone; it dominates at the shortest times.
+//! For one spectrum ⟨Z⟩ is taken as the transform of the filtered unit density,
+//! Z̄(τ) = √(2π) w exp(−2π² w² τ²) (w = ησ; the window's edges, where ρ ≈ e^(−6) at η = 0.5,
+//! are neglected), and K_c = K − Z̄²/Σρ². Averages over realizations, which estimate ⟨Z⟩
+//! by the sample mean, are in [`super::thouless`].
 //!
 //! **Number variance** Σ²(L) = ⟨n²⟩ − ⟨n⟩², n the number of unfolded levels in an
 //! interval of length L, the average running over interval centres evenly spread
@@ -30,6 +38,13 @@ pub struct SffPoint {
     pub tau: f64,
     /// K averaged over the bin.
     pub k: f64,
+    /// Standard error of `k`: blocking over the bin's time samples
+    /// ([`super::mean_with_stderr`]), which are correlated over times shorter than
+    /// about 1/(2π η σ).
+    pub k_stderr: f64,
+    /// Connected form factor averaged over the bin: K minus the disconnected part
+    /// |Z̄(τ)|²/Σρ², Z̄ the transform of the filtered smooth density (module documentation).
+    pub k_connected: f64,
     /// Reference K for uncorrelated levels (1).
     pub poisson: f64,
     /// Reference K of the GOE at `tau`.
@@ -52,55 +67,148 @@ pub struct FormFactor {
     /// Plateau: mean of K over times τ ∈ [2, τ_max] (→ 1 for non-degenerate levels).
     pub plateau: f64,
     /// First table time from which the binned K stays at or above 0.8 × plateau
-    /// (the end of the ramp; ≈ 0.73 for the GOE, 0.8 for the GUE, very early for Poisson).
+    /// (the end of the ramp, which marks the Heisenberg time: ≈ 0.73 for the GOE, 0.8 for
+    /// the GUE, very early for Poisson). Not the Thouless time: see `thouless`.
     pub plateau_onset: Option<f64>,
     /// The criterion of `plateau_onset`, in words.
     pub onset_criterion: String,
+    /// How the disconnected part of `k_connected` is estimated, in words.
+    pub disconnected: String,
+    /// Thouless time from the connected K against the random-matrix curve of the sector's
+    /// class ([`super::thouless::thouless_time`]); set once the class is known.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub thouless: Option<super::thouless::ThoulessTime>,
     /// K over a logarithmic time grid.
     pub table: Vec<SffPoint>,
 }
 
-/// Gaussian filter weights ρ(εⱼ) with width η·σ around the mean.
-fn filter_weights(unfolded: &[f64], eta: f64) -> Vec<f64> {
-    let n = unfolded.len() as f64;
-    let mean = unfolded.iter().sum::<f64>() / n;
-    let var = unfolded.iter().map(|e| (e - mean).powi(2)).sum::<f64>() / n;
-    let w = eta * var.sqrt();
-    unfolded
-        .iter()
-        .map(|e| {
-            if w > 0.0 {
-                (-(e - mean).powi(2) / (2.0 * w * w)).exp()
-            } else {
-                1.0
-            }
-        })
-        .collect()
+/// The Gaussian filter of one unfolded spectrum: centred levels dⱼ = εⱼ − ε̄, weights
+/// ρⱼ = exp(−dⱼ²/(2w²)) with w = η σ, and the sums Σρ, Σρ².
+pub(super) struct Filtered {
+    /// Centred levels dⱼ: K does not depend on a global shift, and centring keeps the
+    /// phases small and the sums accurate.
+    pub d: Vec<f64>,
+    /// Weights ρⱼ.
+    pub rho: Vec<f64>,
+    /// Σρ.
+    pub s1: f64,
+    /// Σρ².
+    pub s2: f64,
+    /// Width w = η σ in unfolded units (0: no filter).
+    pub width: f64,
 }
 
-/// K(τ) = |Σⱼ ρⱼ e^(−2πi εⱼ τ)|² / Σⱼ ρⱼ² at each τ of `taus` (Gaussian filter of width η·σ).
+impl Filtered {
+    /// Filters `unfolded` with width η σ around the mean.
+    pub fn new(unfolded: &[f64], eta: f64) -> Filtered {
+        let n = unfolded.len().max(1) as f64;
+        let mean = unfolded.iter().sum::<f64>() / n;
+        let var = unfolded.iter().map(|e| (e - mean).powi(2)).sum::<f64>() / n;
+        let width = eta * var.sqrt();
+        let d: Vec<f64> = unfolded.iter().map(|e| e - mean).collect();
+        let rho: Vec<f64> = d
+            .iter()
+            .map(|x| {
+                if width > 0.0 {
+                    (-x * x / (2.0 * width * width)).exp()
+                } else {
+                    1.0
+                }
+            })
+            .collect();
+        let s1 = rho.iter().sum();
+        let s2 = rho.iter().map(|r| r * r).sum();
+        Filtered {
+            d,
+            rho,
+            s1,
+            s2,
+            width,
+        }
+    }
+
+    /// Transform of the filtered smooth (unit) density, ∫ ρ(x) e^(−2πi x τ) dx =
+    /// √(2π) w exp(−2π² w² τ²): the disconnected part Z̄(τ) of one spectrum (the
+    /// window's edges, where ρ ≈ e^(−6) for η = 0.5, are ignored).
+    pub fn smooth_transform(&self, tau: f64) -> f64 {
+        use std::f64::consts::PI;
+        (2.0 * PI).sqrt() * self.width * (-2.0 * PI * PI * (self.width * tau).powi(2)).exp()
+    }
+
+    /// Z(τ) = Σⱼ ρⱼ e^(−2πi dⱼ τ) at every sample time of `grid`, bin after bin.
+    pub fn sums(&self, grid: &TimeGrid) -> Vec<c64> {
+        (0..grid.bins())
+            .into_par_iter()
+            .flat_map_iter(|k| {
+                let (t0, delta) = grid.start(k);
+                filtered_sums(&self.d, &self.rho, t0, delta, grid.samples)
+            })
+            .collect()
+    }
+}
+
+/// Logarithmic time bins from τ_min to τ_max, each sampled at `samples` equally spaced
+/// times a + (j + ½)(b − a)/samples.
+pub(super) struct TimeGrid {
+    /// Bin edges.
+    pub edges: Vec<f64>,
+    /// Sample times per bin.
+    pub samples: usize,
+}
+
+impl TimeGrid {
+    /// `points_per_decade` bins per decade (at least one bin).
+    pub fn new((tau_min, tau_max): (f64, f64), points_per_decade: usize, samples: usize) -> Self {
+        let decades = (tau_max / tau_min).log10();
+        let nbins = ((decades * points_per_decade as f64).round() as usize).max(1);
+        let edges = (0..=nbins)
+            .map(|k| tau_min * 10f64.powf(decades * k as f64 / nbins as f64))
+            .collect();
+        TimeGrid {
+            edges,
+            samples: samples.max(1),
+        }
+    }
+
+    /// Number of bins.
+    pub fn bins(&self) -> usize {
+        self.edges.len() - 1
+    }
+
+    /// Geometric centre of bin k.
+    pub fn centre(&self, k: usize) -> f64 {
+        (self.edges[k] * self.edges[k + 1]).sqrt()
+    }
+
+    /// First sample time and sample step of bin k.
+    pub fn start(&self, k: usize) -> (f64, f64) {
+        let (a, b) = (self.edges[k], self.edges[k + 1]);
+        let delta = (b - a) / self.samples as f64;
+        (a + 0.5 * delta, delta)
+    }
+
+    /// Sample time j of bin k.
+    pub fn time(&self, k: usize, j: usize) -> f64 {
+        let (t0, delta) = self.start(k);
+        t0 + j as f64 * delta
+    }
+}
+
+/// K(τ) = |Σⱼ ρⱼ e^(−2πi εⱼ τ)|² / Σⱼ ρⱼ² at each τ of `taus` (Gaussian filter of width η·σ),
+/// summed directly (the reference for the faster binned tables).
 pub fn form_factor_at(unfolded: &[f64], eta: f64, taus: &[f64]) -> Vec<f64> {
-    let rho = filter_weights(unfolded, eta);
-    let norm: f64 = rho.iter().map(|r| r * r).sum();
-    let w = phases(unfolded);
+    let f = Filtered::new(unfolded, eta);
     taus.par_iter()
         .map(|&tau| {
             let (mut re, mut im) = (0.0, 0.0);
-            for (&wj, &r) in w.iter().zip(&rho) {
-                let (s, c) = sin_cos_turns(wj * tau);
+            for (&dj, &r) in f.d.iter().zip(&f.rho) {
+                let (s, c) = sin_cos_turns(dj * tau);
                 re += r * c;
                 im -= r * s;
             }
-            (re * re + im * im) / norm
+            (re * re + im * im) / f.s2
         })
         .collect()
-}
-
-/// Centred levels εⱼ − ε̄: K does not depend on a global shift, and centring keeps the
-/// phases small and the sums accurate.
-fn phases(unfolded: &[f64]) -> Vec<f64> {
-    let mean = unfolded.iter().sum::<f64>() / unfolded.len().max(1) as f64;
-    unfolded.iter().map(|e| e - mean).collect()
 }
 
 /// (sin 2πx, cos 2πx), reducing x modulo 1 first so that the sine and cosine always get
@@ -109,21 +217,14 @@ fn sin_cos_turns(x: f64) -> (f64, f64) {
     (2.0 * std::f64::consts::PI * (x - x.round())).sin_cos()
 }
 
-/// K at the `samples` equally spaced times τ₀ + kδ (k = 0 … samples − 1).
+/// Z at the `samples` equally spaced times τ₀ + kδ (k = 0 … samples − 1).
 ///
 /// With k = a·m + b (m ≈ √samples), Σⱼ ρⱼ e^(−2πi dⱼ τₖ) = Σⱼ Aₐⱼ Bⱼᵦ where
-/// Aₐⱼ = ρⱼ e^(−2πi dⱼ (τ₀ + a m δ)) and Bⱼᵦ = e^(−2πi dⱼ b δ), dⱼ = εⱼ − ε̄: a matrix product (faer),
+/// Aₐⱼ = ρⱼ e^(−2πi dⱼ (τ₀ + a m δ)) and Bⱼᵦ = e^(−2πi dⱼ b δ): a matrix product (faer),
 /// whose factors are built by repeated multiplication: two sines and cosines per level
 /// instead of `samples`.
-fn form_factor_run(
-    w: &[f64],
-    rho: &[f64],
-    norm: f64,
-    tau0: f64,
-    delta: f64,
-    samples: usize,
-) -> Vec<f64> {
-    let n = w.len();
+fn filtered_sums(d: &[f64], rho: &[f64], tau0: f64, delta: f64, samples: usize) -> Vec<c64> {
+    let n = d.len();
     let m = ((samples as f64).sqrt().ceil() as usize).max(1);
     let rows = samples.div_ceil(m);
     // first row of A and the one-step factors e^(−2πi dⱼ δ); the other entries follow by
@@ -131,9 +232,9 @@ fn form_factor_run(
     let mut a = Mat::<c64>::zeros(rows, n);
     let mut b = Mat::<c64>::zeros(n, m);
     for j in 0..n {
-        let (s, c) = sin_cos_turns(w[j] * tau0);
+        let (s, c) = sin_cos_turns(d[j] * tau0);
         a[(0, j)] = c64::new(rho[j] * c, -rho[j] * s);
-        let (s, c) = sin_cos_turns(w[j] * delta);
+        let (s, c) = sin_cos_turns(d[j] * delta);
         let u = c64::new(c, -s);
         b[(j, 0)] = c64::new(1.0, 0.0);
         for col in 1..m {
@@ -145,9 +246,7 @@ fn form_factor_run(
         }
     }
     let p = a * b;
-    (0..samples)
-        .map(|k| p[(k / m, k % m)].norm_sqr() / norm)
-        .collect()
+    (0..samples).map(|k| p[(k / m, k % m)]).collect()
 }
 
 /// Spectral form factor table on `points_per_decade` logarithmic bins from `tau_min` to
@@ -157,53 +256,39 @@ pub fn form_factor(
     unfolded: &[f64],
     eta: f64,
     mean_spacing: f64,
-    (tau_min, tau_max): (f64, f64),
+    range: (f64, f64),
     points_per_decade: usize,
     samples: usize,
 ) -> FormFactor {
-    let rho = filter_weights(unfolded, eta);
-    let s1: f64 = rho.iter().sum();
-    let s2: f64 = rho.iter().map(|r| r * r).sum();
-    let decades = (tau_max / tau_min).log10();
-    let nbins = ((decades * points_per_decade as f64).round() as usize).max(1);
-    let samples = samples.max(1);
-    let edges: Vec<f64> = (0..=nbins)
-        .map(|k| tau_min * 10f64.powf(decades * k as f64 / nbins as f64))
-        .collect();
-    let w = phases(unfolded);
-    let runs: Vec<Vec<f64>> = (0..nbins)
-        .into_par_iter()
+    let f = Filtered::new(unfolded, eta);
+    let grid = TimeGrid::new(range, points_per_decade, samples);
+    let samples = grid.samples;
+    let z = f.sums(&grid);
+    let ks: Vec<f64> = z.iter().map(|z| z.norm_sqr() / f.s2).collect();
+    let table: Vec<SffPoint> = (0..grid.bins())
         .map(|k| {
-            let (a, b) = (edges[k], edges[k + 1]);
-            let delta = (b - a) / samples as f64;
-            form_factor_run(&w, &rho, s2, a + 0.5 * delta, delta, samples)
-        })
-        .collect();
-    let taus: Vec<f64> = (0..nbins)
-        .flat_map(|k| {
-            let (a, b) = (edges[k], edges[k + 1]);
-            (0..samples).map(move |j| a + (b - a) * (j as f64 + 0.5) / samples as f64)
-        })
-        .collect();
-    let ks: Vec<f64> = runs.concat();
-    let table: Vec<SffPoint> = (0..nbins)
-        .map(|k| {
-            let tau = (edges[k] * edges[k + 1]).sqrt();
+            let tau = grid.centre(k);
             let chunk = &ks[k * samples..(k + 1) * samples];
+            let (mean, _, se) = super::mean_with_stderr(chunk);
+            let disconnected = (0..samples)
+                .map(|j| f.smooth_transform(grid.time(k, j)).powi(2) / f.s2)
+                .sum::<f64>()
+                / samples as f64;
             SffPoint {
                 tau,
-                k: chunk.iter().sum::<f64>() / samples as f64,
+                k: mean,
+                k_stderr: se,
+                k_connected: mean - disconnected,
                 poisson: Ensemble::Poisson.form_factor(tau),
                 goe: Ensemble::Goe.form_factor(tau),
                 gue: Ensemble::Gue.form_factor(tau),
             }
         })
         .collect();
-    let late: Vec<f64> = taus
-        .iter()
-        .zip(&ks)
-        .filter(|(t, _)| **t >= 2.0)
-        .map(|(_, k)| *k)
+    let late: Vec<f64> = (0..grid.bins())
+        .flat_map(|k| (0..samples).map(move |j| (k, j)))
+        .filter(|&(k, j)| grid.time(k, j) >= 2.0)
+        .map(|(k, j)| ks[k * samples + j])
         .collect();
     let plateau = if late.is_empty() {
         f64::NAN
@@ -225,12 +310,14 @@ pub fn form_factor(
             "Gaussian exp(-(e - mean)^2 / (2 (eta sigma)^2)) over the unfolded levels, eta = {eta}"
         ),
         eta,
-        effective_levels: if s2 > 0.0 { s1 * s1 / s2 } else { 0.0 },
+        effective_levels: if f.s2 > 0.0 { f.s1 * f.s1 / f.s2 } else { 0.0 },
         heisenberg_time: 2.0 * std::f64::consts::PI / mean_spacing,
         plateau,
         plateau_onset,
         onset_criterion: "first table time from which the binned K stays >= 0.8 x plateau"
             .to_string(),
+        disconnected: "one spectrum: |Z|^2 of the filtered smooth density, 2 pi w^2 exp(-4 pi^2 w^2 tau^2) with w = eta sigma, over sum rho^2".to_string(),
+        thouless: None,
         table,
     }
 }

@@ -107,7 +107,17 @@ fn format_sector(o: &mut String, r: &SectorSummary) {
     }
     let size = s.size.map(|x| x.to_string()).unwrap_or_else(|| "-".into());
     let label = s.label.clone().unwrap_or_else(|| "-".into());
-    let _ = writeln!(o, "    attributes    size {size}, label {label}");
+    if let Some(b) = &s.basis {
+        let _ = writeln!(o, "    basis         {b}: one configuration per row");
+    }
+    let mut attrs = format!("size {size}, label {label}");
+    if let Some(k) = s.realization {
+        attrs.push_str(&format!(", realization {k}"));
+    }
+    if let Some(w) = s.disorder {
+        attrs.push_str(&format!(", disorder {w}"));
+    }
+    let _ = writeln!(o, "    attributes    {attrs}");
     if let Some(v) = &r.verify {
         match &v.orthonormality {
             Some(c) => {

@@ -78,6 +78,9 @@ pub fn levels_text(sectors: &[SectorLevels]) -> String {
                 .map_or("-".to_string(), |t| format!("{t:.3}")),
             f.heisenberg_time
         );
+        if let Some(t) = &f.thouless {
+            let _ = writeln!(s, "  {}", thouless_line(t));
+        }
         let _ = writeln!(
             s,
             "  degenerate pairs: {} (|dE| < {:e} x mean spacing); unfolding: {}",
@@ -105,24 +108,40 @@ pub fn ensembles_text(out: &levels::LevelsOutput) -> String {
     );
     let _ = writeln!(
         s,
-        "  {:<28} {:>5} {:>8} {:>4} {:>9} {:>9} {:>9}",
-        "label", "size", "W", "n", "mean r", "+/-", "spread"
+        "  {:<28} {:>5} {:>8} {:>4} {:>9} {:>9} {:>9} {:>10} {:>6}",
+        "label", "size", "W", "n", "mean r", "+/-", "spread", "tau_Th", "g"
     );
     for e in &out.ensembles {
+        let th = e.form_factor.as_ref().map(|f| &f.thouless);
         let _ = writeln!(
             s,
-            "  {:<28} {:>5} {:>8} {:>4} {:>9.4} {:>9.4} {:>9.4}",
+            "  {:<28} {:>5} {:>8} {:>4} {:>9.4} {:>9.4} {:>9.4} {:>10} {:>6}",
             e.label,
             e.size.map(|l| l.to_string()).unwrap_or("-".into()),
             e.disorder.map(|w| format!("{w}")).unwrap_or("-".into()),
             e.realizations,
             e.mean_r,
             e.mean_r_stderr,
-            e.mean_r_spread
+            e.mean_r_spread,
+            th.and_then(|t| t.tau)
+                .map_or("-".to_string(), |t| format!("{t:.3e}")),
+            th.and_then(|t| t.g)
+                .map_or("-".to_string(), |g| format!("{g:.2}"))
         );
         for w in &e.warnings {
             let _ = writeln!(s, "    warning: {w}");
         }
+    }
+    if let Some(t) = out
+        .ensembles
+        .iter()
+        .find_map(|e| e.form_factor.as_ref().map(|f| &f.thouless))
+    {
+        let _ = writeln!(
+            s,
+            "  tau_Th: Thouless time of the realization-averaged connected form factor in Heisenberg times ({}); g = log10(t_H / t_Th)",
+            t.criterion
+        );
     }
     if let Some(scan) = &out.disorder_scan {
         let _ = writeln!(
@@ -168,4 +187,23 @@ pub fn ensembles_text(out: &levels::LevelsOutput) -> String {
         let _ = writeln!(s, "  rule: {}", scan.rule);
     }
     s
+}
+
+/// One line on a Thouless time.
+fn thouless_line(t: &crate::analysis::levels::thouless::ThoulessTime) -> String {
+    match (t.tau, t.g) {
+        (Some(tau), Some(g)) if t.resolved => format!(
+            "Thouless time: tau_Th = {tau:.3e} t_H (t_Th = {:.4e}), g = log10(t_H/t_Th) = {g:.2}; rule: {}",
+            tau * t.heisenberg_time,
+            t.criterion
+        ),
+        (Some(tau), _) => format!(
+            "Thouless time: not resolved, tau_Th <= {tau:.3e} t_H (the connected K already follows {} in the first bin); rule: {}",
+            t.reference, t.criterion
+        ),
+        _ => format!(
+            "Thouless time: none (the connected K still deviates from {} at the Heisenberg time); rule: {}",
+            t.reference, t.criterion
+        ),
+    }
 }

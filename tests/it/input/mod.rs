@@ -1,4 +1,7 @@
 //! Reading inputs: h5py fixtures, sector embeddings, the generate/inspect round trip, streaming from a file.
+//!
+//! This file only declares test modules and checks no values (common practice, no source);
+//! each check names its source beside it in the module that makes it.
 
 mod custom;
 mod embedding;

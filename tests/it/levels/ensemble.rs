@@ -53,6 +53,24 @@ fn realization_averages_equal_numpy() {
         gs.sort_by(f64::total_cmp);
         ws.sort_by(f64::total_cmp);
         assert!(gs.iter().zip(&ws).all(|(a, b)| close(*a, *b)));
+        // the realization-averaged (connected) form factor: same expected.json (NumPy 2.4.6
+        // direct sums over the poly:5-unfolded windows; chebfit for the unfolding), to 1e-9
+        let (wt, gt) = (
+            we["form_factor"].as_array().unwrap(),
+            ge["form_factor"]["table"].as_array().unwrap(),
+        );
+        assert_eq!(gt.len(), wt.len());
+        for (g, w) in gt.iter().zip(wt) {
+            for key in ["tau", "k", "k_stderr", "k_connected", "k_connected_stderr"] {
+                let (a, b) = (g[key].as_f64().unwrap(), w[key].as_f64().unwrap());
+                assert!(
+                    (a - b).abs() <= 1e-9 * b.abs().max(1.0),
+                    "{} tau {}: {key} {a} vs {b}",
+                    we["label"],
+                    w["tau"]
+                );
+            }
+        }
     }
     let c = &got["disorder_scan"]["crossings"][0];
     let (a, b) = (
@@ -156,4 +174,35 @@ fn random_field_chain_goes_from_goe_to_poisson() {
         "strong {rs} +/- {ss}"
     );
     assert!(sw > 0.0 && ss > 0.0);
+}
+
+#[test]
+fn inspect_shows_basis_and_realization_attributes() {
+    // layout of the README (common practice, no source): generate writes `basis` for an
+    // S^z sector and `realization`/`disorder` for each realization
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("rf.h5");
+    let (code, _, err) = run_binary(&[
+        "generate",
+        "--model",
+        "xxz",
+        "--sites",
+        "8",
+        "--sz",
+        "0",
+        "--disorder",
+        "2",
+        "--realizations",
+        "2",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    let (code, text, err) = run_binary(&["inspect", out.to_str().unwrap()]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(
+        text.contains("basis         [70] integer elements (uint64)"),
+        "{text}"
+    );
+    assert!(text.contains("realization 1, disorder 2"), "{text}");
 }

@@ -808,3 +808,82 @@ fn narrow_kernels_and_spectrum_ends_are_warned_about() {
     let r = analyze(&e, &default_window(), &kernel_opts(4.0)).unwrap();
     assert_eq!(r.unfolding.kernel_end_levels, Some(0));
 }
+
+/// Realization-averaged connected form factor of 20 spectra of dimension 2000 of the
+/// β-ensemble (or of Poisson levels).
+fn averaged_k(
+    beta: Option<f64>,
+    seed: u64,
+) -> eigentherm::analysis::levels::thouless::AveragedFormFactor {
+    use rand::Rng;
+    let opts = LevelOptions::default();
+    let reports: Vec<LevelReport> = (0..20)
+        .map(|r| {
+            let e = match beta {
+                Some(b) => beta_hermite_levels(2000, b, seed + r),
+                None => {
+                    let mut rng = rmt::rng(seed + r);
+                    let mut e: Vec<f64> = (0..2000).map(|_| rng.random::<f64>()).collect();
+                    e.sort_by(f64::total_cmp);
+                    e
+                }
+            };
+            analyze(&e, &default_window(), &opts).unwrap()
+        })
+        .collect();
+    let spectra: Vec<(&[f64], f64)> = reports
+        .iter()
+        .map(|r| (r.unfolded.as_slice(), r.mean_spacing))
+        .collect();
+    let reference = if beta == Some(2.0) {
+        Ensemble::Gue
+    } else {
+        Ensemble::Goe
+    };
+    eigentherm::analysis::levels::thouless::averaged_form_factor(&spectra, &opts, reference)
+        .unwrap()
+}
+
+#[test]
+fn averaged_connected_form_factor_follows_goe_gue_and_poisson() {
+    // exact GOE K(τ) = 2τ − τ ln(1 + 2τ) (τ ≤ 1), 2 − τ ln((2τ + 1)/(2τ − 1)) (τ > 1); GUE
+    // K = min(τ, 1) (Mehta, Random Matrices, 3rd ed. 2004, ch. 6-7; Haake, Quantum Signatures
+    // of Chaos), Poisson K = 1. Compared with the bin nearest each time, within 3 standard
+    // errors plus the curve's change across the bin (the bins are 1/8 decade wide).
+    for (beta, ens, seed) in [
+        (Some(1.0), Ensemble::Goe, 300),
+        (Some(2.0), Ensemble::Gue, 400),
+        (None, Ensemble::Poisson, 500),
+    ] {
+        let f = averaged_k(beta, seed);
+        assert_eq!(f.realizations, 20);
+        for tau in [0.1, 0.5, 1.0, 2.0] {
+            let p = f
+                .table
+                .iter()
+                .min_by(|a, b| {
+                    (a.tau / tau)
+                        .ln()
+                        .abs()
+                        .total_cmp(&(b.tau / tau).ln().abs())
+                })
+                .unwrap();
+            let slope =
+                (ens.form_factor(p.tau * 1.155) - ens.form_factor(p.tau / 1.155)).abs() / 2.0;
+            let want = ens.form_factor(p.tau);
+            let dev = (p.k_connected - want).abs();
+            assert!(
+                dev < 3.0 * p.k_connected_stderr + slope,
+                "{ens} tau {}: K_c {} +/- {} vs {want}",
+                p.tau,
+                p.k_connected,
+                p.k_connected_stderr
+            );
+        }
+        if ens == Ensemble::Goe {
+            // the GOE follows its own curve over the ramp: a Thouless time is found, early
+            let th = &f.thouless;
+            assert!(th.tau.is_some_and(|t| t < 0.1), "{th:?}");
+        }
+    }
+}
