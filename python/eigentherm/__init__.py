@@ -204,7 +204,8 @@ levels = _wrap(
 
     Options: sector, window (default "0.25:0.75"), energy_window, symmetry_class
     ("orthogonal", "unitary", "auto"), memory ("6G"), unfold ("poly:5", "kernel:32",
-    "kernel-energy:SIGMA"), unfold_degree, bins, sff_eta, degeneracy_tol, min_levels, and the
+    "kernel-energy:SIGMA"), unfold_degree, bins, sff_eta, thouless_tolerance, degeneracy_tol,
+    min_levels, and the
     dataset paths energies_path, eigenvectors_path, layout, observable_path, hamiltonian_path.
     """,
 )
