@@ -40,3 +40,29 @@ pub fn warn(msg: &str) {
 pub fn note(msg: &str) {
     eprintln!("note: {}", crate::error::escape(msg));
 }
+
+/// Set by [`interrupt`] (the Python module does on Ctrl-C), cleared by [`clear_interrupt`].
+static INTERRUPTED: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// The message of the error a long call ends with after [`interrupt`].
+pub const INTERRUPTED_MESSAGE: &str = "interrupted";
+
+/// Asks the running passes to stop: every block of a pass over the eigenvectors and every
+/// sector checks it ([`check_interrupt`]) and the call ends with [`INTERRUPTED_MESSAGE`].
+/// The binary never sets it (Ctrl-C ends the process).
+pub fn interrupt() {
+    INTERRUPTED.store(true, std::sync::atomic::Ordering::SeqCst);
+}
+
+/// Clears the request of [`interrupt`] (before a new call).
+pub fn clear_interrupt() {
+    INTERRUPTED.store(false, std::sync::atomic::Ordering::SeqCst);
+}
+
+/// `Err` once [`interrupt`] was called.
+pub fn check_interrupt() -> crate::Result<()> {
+    if INTERRUPTED.load(std::sync::atomic::Ordering::SeqCst) {
+        return Err(crate::Error::other(INTERRUPTED_MESSAGE));
+    }
+    Ok(())
+}

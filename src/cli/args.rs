@@ -1,12 +1,13 @@
-//! Flag groups shared by the subcommands. Each flag is defined here once, with its
-//! validation, and resolved once into the library's option structs.
+//! Flag groups shared by the subcommands. Each flag is defined here once; its value is
+//! handed as typed to [`crate::pipeline::flags`], which checks it and resolves it into the
+//! library's option structs (the Python module resolves through the same functions).
 
 use crate::analysis::offdiagonal::OffdiagonalOptions;
-use crate::analysis::quench::{self, state::StateSpec, TimeGrid};
-use crate::data::SymmetryClass;
-use crate::error::{Error, Result};
+use crate::analysis::quench;
+use crate::error::Result;
 use crate::pipeline::class::ClassChoice;
-use crate::pipeline::{Inputs, Layout, Overrides};
+use crate::pipeline::flags::{self, DynamicsFlags, InputFlags};
+use crate::pipeline::{Inputs, Overrides};
 use crate::project::Budget;
 use crate::window::{Window, WindowSpec};
 use std::path::PathBuf;
@@ -23,6 +24,21 @@ pub struct InputArgs {
 }
 
 impl InputArgs {
+    /// The flags as typed, with `--memory`.
+    pub fn flags(&self, memory: &MemoryArg) -> InputFlags {
+        let p = &self.paths;
+        InputFlags {
+            files: self.files.clone(),
+            energies_path: p.energies_path.clone(),
+            eigenvectors_path: p.eigenvectors_path.clone(),
+            layout: p.layout.clone(),
+            observable_paths: p.observable_paths.clone(),
+            hamiltonian_path: p.hamiltonian_path.clone(),
+            memory: memory.memory.clone(),
+            ensemble_by: Some(p.ensemble_by.clone()),
+        }
+    }
+
     /// The files and their overrides; reads are limited by the default budget.
     pub fn resolve(&self) -> Result<Inputs> {
         Ok(Inputs {
@@ -33,9 +49,7 @@ impl InputArgs {
 
     /// The files and their overrides, every read limited by the `--memory` budget.
     pub fn resolve_within(&self, memory: &MemoryArg) -> Result<Inputs> {
-        let mut inputs = self.resolve()?;
-        inputs.overrides.memory = Some(memory.resolve()?.bytes);
-        Ok(inputs)
+        self.flags(memory).inputs()
     }
 }
 
@@ -67,28 +81,12 @@ impl PathArgs {
     /// The overrides (`--observable-path` values are split at the first `=` into NAME and
     /// PATH).
     pub fn resolve(&self) -> Result<Overrides> {
-        let layout = self.layout.as_deref().map(Layout::parse).transpose()?;
-        let observables = self
-            .observable_paths
-            .iter()
-            .map(|s| match s.split_once('=') {
-                Some((n, p)) if !n.is_empty() && !p.is_empty() => {
-                    Ok((n.to_string(), p.to_string()))
-                }
-                _ => Err(Error::usage(format!(
-                    "--observable-path '{s}' is not NAME=PATH"
-                ))),
-            })
-            .collect::<Result<Vec<_>>>()?;
-        Ok(Overrides {
-            energies: self.energies_path.clone(),
-            eigenvectors: self.eigenvectors_path.clone(),
-            layout,
-            observables,
-            hamiltonian: self.hamiltonian_path.clone(),
-            memory: None,
-            ensemble_by: crate::input::EnsembleBy::parse(&self.ensemble_by)?,
-        })
+        InputArgs {
+            files: Vec::new(),
+            paths: self.clone(),
+        }
+        .flags(&MemoryArg::default())
+        .overrides()
     }
 }
 
@@ -122,12 +120,11 @@ pub struct WindowArgs {
 impl WindowArgs {
     /// The window to use, with `default` when none was given.
     pub fn resolve(&self, default: Window) -> Result<WindowSpec> {
-        match (&self.window, &self.energy_window) {
-            (Some(_), Some(_)) => Err(Error::usage("give --window or --energy-window, not both")),
-            (_, Some(e)) => Ok(WindowSpec::EnergyDensity(Window::parse(e)?)),
-            (Some(w), None) => Ok(WindowSpec::Fraction(Window::parse(w)?)),
-            (None, None) => Ok(WindowSpec::Fraction(default)),
-        }
+        flags::window(
+            self.window.as_deref(),
+            self.energy_window.as_deref(),
+            default,
+        )
     }
 }
 
@@ -143,10 +140,7 @@ pub struct ObservableArgs {
 impl ObservableArgs {
     /// The observables, at least one.
     pub fn required(&self) -> Result<Vec<String>> {
-        if self.observables.is_empty() {
-            return Err(Error::usage("give at least one --observable NAME"));
-        }
-        Ok(self.observables.clone())
+        flags::required_observables(&self.observables)
     }
 }
 
@@ -176,7 +170,7 @@ pub struct OmegaArg {
 impl OmegaArg {
     /// The off-diagonal options.
     pub fn resolve(&self) -> Result<OffdiagonalOptions> {
-        OffdiagonalOptions::new(self.omega_max)
+        flags::offdiagonal(self.omega_max)
     }
 }
 
@@ -204,35 +198,14 @@ impl Default for DynamicsArgs {
     }
 }
 
-/// The resolved [`DynamicsArgs`].
-#[derive(Debug, Clone)]
-pub struct Dynamics {
-    /// The states: SPEC as given, parsed.
-    pub states: Vec<(String, StateSpec)>,
-    /// The time grid.
-    pub grid: TimeGrid,
-    /// The dropped fraction of the norm.
-    pub drop_weight: f64,
-}
-
 impl DynamicsArgs {
-    /// The parsed states, grid and drop weight.
-    pub fn resolve(&self) -> Result<Dynamics> {
-        if !(self.drop_weight.is_finite() && (0.0..1.0).contains(&self.drop_weight)) {
-            return Err(Error::usage(format!(
-                "--drop-weight {}: expected 0 <= EPS < 1",
-                self.drop_weight
-            )));
+    /// The flags as typed.
+    pub fn flags(&self) -> DynamicsFlags {
+        DynamicsFlags {
+            states: self.states.clone(),
+            times: Some(self.times.clone()),
+            drop_weight: Some(self.drop_weight),
         }
-        Ok(Dynamics {
-            states: self
-                .states
-                .iter()
-                .map(|s| Ok((s.clone(), StateSpec::parse(s)?)))
-                .collect::<Result<Vec<_>>>()?,
-            grid: TimeGrid::parse(&self.times)?,
-            drop_weight: self.drop_weight,
-        })
     }
 }
 
@@ -253,16 +226,6 @@ pub struct ClassArg {
 impl ClassArg {
     /// The choice of class.
     pub fn resolve(&self) -> Result<ClassChoice> {
-        if self.class.eq_ignore_ascii_case("auto") {
-            return Ok(ClassChoice::Auto);
-        }
-        SymmetryClass::parse(&self.class)
-            .map(ClassChoice::Given)
-            .ok_or_else(|| {
-                Error::usage(format!(
-                    "--class {}: expected orthogonal, unitary or auto",
-                    self.class
-                ))
-            })
+        flags::class(Some(&self.class))
     }
 }

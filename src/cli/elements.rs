@@ -5,10 +5,9 @@ use super::args::{
     ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs,
 };
 use super::output;
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::pipeline::elements::{self, ElementsRequest};
-use crate::project::PredictionStates;
-use crate::window::Window;
+use crate::pipeline::flags::{self, ElementsFlags};
 
 /// Flags shared by `diagonal` and `offdiagonal`.
 #[derive(Debug, Clone, clap::Args)]
@@ -37,16 +36,21 @@ pub struct Common {
 }
 
 impl Common {
+    /// The flags as typed.
+    pub fn flags(&self) -> ElementsFlags {
+        ElementsFlags {
+            input: self.input.flags(&self.memory),
+            sector: self.sector.sector.clone(),
+            window: self.window.window.clone(),
+            energy_window: self.window.energy_window.clone(),
+            observables: self.observables.observables.clone(),
+            class: Some(self.class.class.clone()),
+        }
+    }
+
     /// The request of the pipeline.
     pub fn resolve(&self) -> Result<ElementsRequest> {
-        Ok(ElementsRequest {
-            inputs: self.input.resolve_within(&self.memory)?,
-            sector: self.sector.sector.clone(),
-            window: self.window.resolve(Window::MATRIX_ELEMENTS)?,
-            observables: self.observables.observables.clone(),
-            budget: self.memory.resolve()?,
-            class: self.class.resolve()?,
-        })
+        self.flags().request()
     }
 }
 
@@ -73,21 +77,9 @@ pub struct OffdiagonalArgs {
     pub omega: OmegaArg,
 }
 
-/// Parses `--predictions`: `None` for `auto`.
-fn parse_predictions(s: &str) -> Result<Option<PredictionStates>> {
-    match s.to_ascii_lowercase().as_str() {
-        "auto" => Ok(None),
-        "all" => Ok(Some(PredictionStates::All)),
-        "window" => Ok(Some(PredictionStates::Window)),
-        _ => Err(Error::usage(format!(
-            "--predictions '{s}': expected all, window or auto"
-        ))),
-    }
-}
-
 /// Runs `eigentherm diagonal`.
 pub fn run_diagonal(args: &DiagonalArgs) -> Result<()> {
-    let policy = parse_predictions(&args.predictions)?;
+    let policy = flags::predictions(Some(&args.predictions))?;
     let out = elements::diagonal(&args.common.resolve()?, policy)?;
     if args.common.json.json {
         output::print_json(&out)

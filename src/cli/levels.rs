@@ -2,9 +2,9 @@
 
 use super::args::{ClassArg, InputArgs, JsonArg, MemoryArg, SectorArg, WindowArgs};
 use super::output;
-use crate::analysis::levels::{LevelOptions, UnfoldMethod};
-use crate::error::{Error, Result};
-use crate::window::Window;
+use crate::analysis::levels::LevelOptions;
+use crate::error::Result;
+use crate::pipeline::flags::LevelsFlags;
 
 /// Options of `eigentherm levels`.
 #[derive(Debug, clap::Args)]
@@ -38,83 +38,51 @@ pub struct Args {
     #[arg(long, value_name = "D")]
     pub unfold_degree: Option<usize>,
     /// Bins of the r̃ histogram on [0, 1].
-    #[arg(long, default_value_t = 20, value_name = "N")]
+    #[arg(long, default_value_t = LevelOptions::default().ratio_bins, value_name = "N")]
     pub bins: usize,
     /// Width of the Gaussian filter of the spectral form factor, in standard deviations of the unfolded levels.
-    #[arg(long, default_value_t = 0.5, value_name = "ETA")]
+    #[arg(long, default_value_t = LevelOptions::default().sff_eta, value_name = "ETA")]
     pub sff_eta: f64,
     /// Tolerance ε of the Thouless time: the connected form factor counts as on the
     /// random-matrix curve while |log10(K_c / K_RMT)| < ε.
-    #[arg(long, default_value_t = 0.08, value_name = "EPS")]
+    #[arg(long, default_value_t = LevelOptions::default().sff_tolerance, value_name = "EPS")]
     pub thouless_tolerance: f64,
     /// Relative degeneracy tolerance: |ΔE| < TOL × mean spacing counts as degenerate.
-    #[arg(long, default_value_t = 1e-10, value_name = "TOL")]
+    #[arg(long, default_value_t = LevelOptions::default().degeneracy_tol, value_name = "TOL")]
     pub degeneracy_tol: f64,
     /// Fewer levels than this in the window gives a warning.
-    #[arg(long, default_value_t = 100, value_name = "N")]
+    #[arg(long, default_value_t = LevelOptions::default().min_levels, value_name = "N")]
     pub min_levels: usize,
 }
 
 impl Args {
+    /// The flags as typed.
+    pub fn flags(&self) -> LevelsFlags {
+        LevelsFlags {
+            input: self.input.flags(&self.memory),
+            sector: self.sector.sector.clone(),
+            window: self.window.window.clone(),
+            energy_window: self.window.energy_window.clone(),
+            class: Some(self.class.class.clone()),
+            unfold: self.unfold.clone(),
+            unfold_degree: self.unfold_degree,
+            bins: Some(self.bins),
+            sff_eta: Some(self.sff_eta),
+            thouless_tolerance: Some(self.thouless_tolerance),
+            degeneracy_tol: Some(self.degeneracy_tol),
+            min_levels: Some(self.min_levels),
+        }
+    }
+
     /// The analysis options given on the command line.
     pub fn options(&self) -> Result<LevelOptions> {
-        if !(self.sff_eta.is_finite() && self.sff_eta > 0.0) {
-            return Err(Error::usage(format!(
-                "--sff-eta {}: expected a positive number",
-                self.sff_eta
-            )));
-        }
-        if !(self.thouless_tolerance.is_finite() && self.thouless_tolerance > 0.0) {
-            return Err(Error::usage(format!(
-                "--thouless-tolerance {}: expected a positive number",
-                self.thouless_tolerance
-            )));
-        }
-        if !(self.degeneracy_tol.is_finite() && self.degeneracy_tol >= 0.0) {
-            return Err(Error::usage(format!(
-                "--degeneracy-tol {}: expected a non-negative number",
-                self.degeneracy_tol
-            )));
-        }
-        if self.bins == 0 {
-            return Err(Error::usage("--bins must be at least 1"));
-        }
-        let unfold = match (&self.unfold, self.unfold_degree) {
-            (Some(_), Some(_)) => {
-                return Err(Error::usage(
-                    "--unfold and --unfold-degree both given: use one (--unfold-degree D is --unfold poly:D)",
-                ))
-            }
-            (Some(m), None) => m
-                .parse::<UnfoldMethod>()
-                .map_err(|e| Error::usage(format!("--unfold {m}: {e}")))?,
-            (None, Some(degree)) => UnfoldMethod::Polynomial { degree },
-            (None, None) => UnfoldMethod::default(),
-        };
-        Ok(LevelOptions {
-            unfold,
-            ratio_bins: self.bins,
-            sff_eta: self.sff_eta,
-            sff_tolerance: self.thouless_tolerance,
-            degeneracy_tol: self.degeneracy_tol,
-            min_levels: self.min_levels,
-            ..LevelOptions::default()
-        })
+        self.flags().options()
     }
 }
 
 /// Runs `eigentherm levels`.
 pub fn run(args: &Args) -> Result<()> {
-    let opts = args.options()?;
-    let window = args.window.resolve(Window::LEVELS)?;
-    let inputs = args.input.resolve_within(&args.memory)?;
-    let out = crate::pipeline::levels::levels(
-        &inputs,
-        args.sector.sector.as_deref(),
-        &window,
-        &opts,
-        args.class.resolve()?,
-    )?;
+    let out = args.flags().request()?.run()?;
     if args.json.json {
         output::print_json(&out)
     } else {

@@ -14,7 +14,7 @@ pub mod quench;
 pub mod scaling;
 pub mod study;
 
-use crate::error::{Error, Result};
+use crate::error::Result;
 use clap::{Parser, Subcommand};
 
 /// Level statistics and eigenstate-thermalization analyses of stored eigenbases.
@@ -59,21 +59,9 @@ pub fn parse() -> Cli {
     Cli::parse()
 }
 
-/// Sets the size of the global thread pool (once, before any parallel work).
-fn set_threads(threads: Option<usize>) -> Result<()> {
-    let Some(n) = threads else { return Ok(()) };
-    if n == 0 {
-        return Err(Error::usage("--threads 0: expected at least one thread"));
-    }
-    rayon::ThreadPoolBuilder::new()
-        .num_threads(n)
-        .build_global()
-        .map_err(|e| Error::usage(format!("--threads {n}: {e}")))
-}
-
 /// Runs one parsed command line.
 pub fn run(cli: Cli) -> Result<()> {
-    set_threads(cli.threads)?;
+    crate::pipeline::flags::set_threads(cli.threads)?;
     match cli.command {
         Command::Demo(a) => demo::run(&a),
         Command::Generate(a) => generate::run(&a),

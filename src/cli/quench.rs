@@ -2,8 +2,8 @@
 
 use super::args::{DynamicsArgs, InputArgs, JsonArg, MemoryArg, ObservableArgs, SectorArg};
 use super::output;
-use crate::analysis::quench::QuenchOptions;
-use crate::error::{Error, Result};
+use crate::error::Result;
+use crate::pipeline::flags::QuenchFlags;
 use crate::pipeline::quench::{quench_all, QuenchRequest};
 
 /// Options of `eigentherm quench`.
@@ -33,32 +33,20 @@ pub struct Args {
 }
 
 impl Args {
+    /// The flags as typed.
+    pub fn flags(&self) -> QuenchFlags {
+        QuenchFlags {
+            input: self.input.flags(&self.memory),
+            sector: self.sector.sector.clone(),
+            observables: self.observables.observables.clone(),
+            dynamics: self.dynamics.flags(),
+            shell_width: self.shell_width,
+        }
+    }
+
     /// The request of the pipeline.
     pub fn resolve(&self) -> Result<QuenchRequest> {
-        let dynamics = self.dynamics.resolve()?;
-        if dynamics.states.is_empty() {
-            return Err(Error::usage("give at least one --state SPEC"));
-        }
-        if let Some(w) = self.shell_width {
-            if !(w.is_finite() && w > 0.0) {
-                return Err(Error::usage(format!(
-                    "--shell-width {w}: expected a positive width"
-                )));
-            }
-        }
-        Ok(QuenchRequest {
-            inputs: self.input.resolve_within(&self.memory)?,
-            sector: self.sector.sector.clone(),
-            observables: self.observables.required()?,
-            states: dynamics.states,
-            grid: dynamics.grid,
-            opts: QuenchOptions {
-                shell_half_width: self.shell_width.map(|w| 0.5 * w),
-                drop_weight: dynamics.drop_weight,
-                ..QuenchOptions::default()
-            },
-            budget: self.memory.resolve()?,
-        })
+        self.flags().request()
     }
 }
 

@@ -5,9 +5,8 @@ use super::args::{
 };
 use super::output;
 use crate::error::Result;
+use crate::pipeline::flags::ScalingFlags;
 use crate::pipeline::scaling::{scaling, ScalingRequest};
-use crate::pipeline::sector::SectorSettings;
-use crate::window::{Window, WindowSpec};
 
 /// Flags of the per-sector pipeline (shared by `scaling` and `study`).
 #[derive(Debug, Clone, clap::Args)]
@@ -42,25 +41,24 @@ pub struct PipelineArgs {
 }
 
 impl PipelineArgs {
+    /// The flags as typed.
+    pub fn flags(&self) -> ScalingFlags {
+        ScalingFlags {
+            input: self.input.flags(&self.memory),
+            sector: self.sector.sector.clone(),
+            window: self.window.window.clone(),
+            energy_window: self.window.energy_window.clone(),
+            observables: self.observables.observables.clone(),
+            levels_window: self.levels_window.clone(),
+            omega_max: self.omega.omega_max,
+            class: Some(self.class.class.clone()),
+            combine_sectors: self.combine_sectors,
+        }
+    }
+
     /// The request of the scaling pipeline.
     pub fn resolve(&self) -> Result<ScalingRequest> {
-        let levels_window = match &self.levels_window {
-            Some(w) => WindowSpec::Fraction(Window::parse(w)?),
-            None => WindowSpec::Fraction(Window::LEVELS),
-        };
-        Ok(ScalingRequest {
-            inputs: self.input.resolve_within(&self.memory)?,
-            sector: self.sector.sector.clone(),
-            observables: self.observables.required()?,
-            settings: SectorSettings {
-                levels_window,
-                window: self.window.resolve(Window::MATRIX_ELEMENTS)?,
-                offdiagonal: self.omega.resolve()?,
-                budget: self.memory.resolve()?,
-                class: self.class.resolve()?,
-            },
-            combine_sectors: self.combine_sectors,
-        })
+        self.flags().request()
     }
 }
 

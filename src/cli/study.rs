@@ -4,9 +4,8 @@
 use super::args::{DynamicsArgs, JsonArg};
 use super::output;
 use super::scaling::PipelineArgs;
-use crate::analysis::quench::QuenchOptions;
 use crate::error::Result;
-use crate::pipeline::quench::QuenchRequest;
+use crate::pipeline::flags::StudyFlags;
 use crate::pipeline::study::{study, StudyRequest};
 use std::path::PathBuf;
 
@@ -28,27 +27,17 @@ pub struct Args {
 }
 
 impl Args {
+    /// The flags as typed (the output folder apart).
+    pub fn flags(&self) -> StudyFlags {
+        StudyFlags {
+            scaling: self.pipeline.flags(),
+            dynamics: self.dynamics.flags(),
+        }
+    }
+
     /// The request of the study pipeline.
     pub fn resolve(&self) -> Result<StudyRequest> {
-        let scaling = self.pipeline.resolve()?;
-        let dynamics = self.dynamics.resolve()?;
-        let quench = (!dynamics.states.is_empty()).then(|| QuenchRequest {
-            inputs: scaling.inputs.clone(),
-            sector: scaling.sector.clone(),
-            observables: scaling.observables.clone(),
-            states: dynamics.states,
-            grid: dynamics.grid,
-            opts: QuenchOptions {
-                drop_weight: dynamics.drop_weight,
-                ..QuenchOptions::default()
-            },
-            budget: scaling.settings.budget,
-        });
-        Ok(StudyRequest {
-            scaling,
-            quench,
-            times_label: self.dynamics.times.clone(),
-        })
+        self.flags().request()
     }
 }
 

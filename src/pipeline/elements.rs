@@ -92,6 +92,7 @@ pub fn each_sector<T: crate::analysis::ensemble::figures::Figures>(
     let mut sectors = Vec::new();
     for f in &files {
         for s in f.select(req.sector.as_deref())? {
+            crate::progress::check_interrupt()?;
             let t0 = Instant::now();
             let spectrum = f.spectrum(s)?;
             let (ops, src) = load_sector(f, s, &req.observables, &spectrum, req.budget.bytes)?;

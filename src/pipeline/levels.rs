@@ -8,6 +8,34 @@ use crate::analysis::levels::{self, LevelOptions, LevelsOutput, SectorLevels};
 use crate::error::{Context, Result};
 use crate::window::WindowSpec;
 
+/// What `levels` analyzes (built from the flags by [`super::flags::LevelsFlags`]).
+#[derive(Debug, Clone)]
+pub struct LevelsRequest {
+    /// Input files.
+    pub inputs: Inputs,
+    /// Only this sector (default: every sector).
+    pub sector: Option<String>,
+    /// The window.
+    pub window: WindowSpec,
+    /// Analysis options.
+    pub opts: LevelOptions,
+    /// How the symmetry class is chosen.
+    pub class: ClassChoice,
+}
+
+impl LevelsRequest {
+    /// Runs [`levels`].
+    pub fn run(&self) -> Result<LevelsOutput> {
+        levels(
+            &self.inputs,
+            self.sector.as_deref(),
+            &self.window,
+            &self.opts,
+            self.class,
+        )
+    }
+}
+
 /// The level statistics of every selected sector (`sector`: only this one) in the window,
 /// with the symmetry class of each ([`super::class`]), and the realization averages and
 /// disorder scan of the sectors that carry a `realization` attribute
@@ -23,6 +51,7 @@ pub fn levels(
     let mut members = Vec::new();
     for file in inputs.open()? {
         for s in file.select(sector)? {
+            crate::progress::check_interrupt()?;
             let spectrum = file.spectrum(s)?;
             let dataset = format!("{}/energies", s.group.trim_end_matches('/'));
             let report =

@@ -16,13 +16,17 @@
 //! [`crate::report`]). One file per job: [`levels`], [`elements`] (`diagonal` and
 //! `offdiagonal`, one per-sector loop), [`sector`] (the whole per-sector pipeline of
 //! `scaling` and `study`), [`scaling`], [`quench`] (a state split over the sectors of one
-//! file), [`study`], [`inspect`] and [`demo`].
+//! file), [`study`], [`inspect`] and [`demo`]; [`matrix`] gives one observable's window matrix to
+//! library callers. [`flags`] resolves options spelled as on the command line into these
+//! requests, for the command line and the Python module alike.
 
 pub mod class;
 pub mod demo;
 pub mod elements;
+pub mod flags;
 pub mod inspect;
 pub mod levels;
+pub mod matrix;
 pub mod operators;
 pub mod quench;
 pub mod scaling;

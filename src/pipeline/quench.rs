@@ -77,6 +77,7 @@ pub fn quench_all(req: &QuenchRequest) -> Result<Vec<FileResult>> {
             budget: req.budget,
         };
         for f in &req.inputs.files {
+            crate::progress::check_interrupt()?;
             out.extend(quench_file(f, &req.inputs.overrides, &job)?);
         }
     }

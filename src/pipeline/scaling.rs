@@ -33,6 +33,7 @@ pub fn analyze_all(req: &ScalingRequest) -> Result<Vec<SectorAnalysis>> {
     );
     for f in &files {
         for s in f.select(req.sector.as_deref())? {
+            crate::progress::check_interrupt()?;
             pb.set_message(format!("{} [{}]", f.path().display(), s.name));
             out.push(analyze_sector(f, s, &req.observables, &req.settings)?);
             pb.inc(1);

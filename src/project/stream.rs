@@ -99,6 +99,7 @@ pub(crate) struct Fetch<T> {
 impl<T: Elem> Fetch<T> {
     /// The next block (waiting for the reader when it is not ready yet).
     pub(crate) fn next(&mut self) -> Result<Mat<T>> {
+        crate::progress::check_interrupt()?;
         let t = std::time::Instant::now();
         let m = self
             .rx

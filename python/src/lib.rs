@@ -1,0 +1,508 @@
+//! `eigentherm._native`: the eigentherm library's pipelines called from Python.
+//!
+//! Every function takes the command line's options as keyword arguments (same names, `-`
+//! as `_`; `--class` is `symmetry_class`), fills the library's flag structs
+//! ([`eigentherm::pipeline::flags`]) — the same resolution as the binary's, so defaults,
+//! checks and error messages are the binary's — runs the pipeline without the GIL, and
+//! returns the result serialised exactly as `--json` prints it (a JSON string; the Python
+//! package parses it and turns tables into NumPy columns). `project` returns the window
+//! matrix as a NumPy array instead.
+//!
+//! Errors raise `eigentherm.Error` (a `ValueError`) whose message is the line the binary
+//! prints after `error: `, with `exit_code` the binary's exit status (1 or 2).
+
+mod run;
+
+use eigentherm::pipeline::flags::{
+    self, DynamicsFlags, ElementsFlags, InputFlags, LevelsFlags, QuenchFlags, ScalingFlags,
+    StudyFlags,
+};
+use eigentherm::pipeline::matrix::{window_matrix, MatrixRequest};
+use eigentherm::window::Window;
+use numpy::{PyArray1, PyArrayMethods};
+use pyo3::prelude::*;
+use run::{json, or_raise, run_detached, Error};
+use std::path::PathBuf;
+
+/// The input flags of every function.
+#[allow(clippy::too_many_arguments)]
+fn input_flags(
+    files: Vec<PathBuf>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+    memory: Option<String>,
+) -> InputFlags {
+    InputFlags {
+        files,
+        energies_path,
+        eigenvectors_path,
+        layout,
+        observable_paths: observable_path,
+        hamiltonian_path,
+        memory,
+        ensemble_by: None,
+    }
+}
+
+/// Level statistics of every selected sector (`eigentherm levels FILE... --json`).
+#[pyfunction]
+#[pyo3(signature = (files, *, sector=None, window=None, energy_window=None,
+    symmetry_class=None, memory=None, unfold=None, unfold_degree=None, bins=None,
+    sff_eta=None, thouless_tolerance=None, degeneracy_tol=None, min_levels=None, energies_path=None,
+    eigenvectors_path=None, layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn levels(
+    py: Python<'_>,
+    files: Vec<PathBuf>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    symmetry_class: Option<String>,
+    memory: Option<String>,
+    unfold: Option<String>,
+    unfold_degree: Option<usize>,
+    bins: Option<usize>,
+    sff_eta: Option<f64>,
+    thouless_tolerance: Option<f64>,
+    degeneracy_tol: Option<f64>,
+    min_levels: Option<usize>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<String> {
+    let f = LevelsFlags {
+        input: input_flags(
+            files,
+            energies_path,
+            eigenvectors_path,
+            layout,
+            observable_path,
+            hamiltonian_path,
+            memory,
+        ),
+        sector,
+        window,
+        energy_window,
+        class: symmetry_class,
+        unfold,
+        unfold_degree,
+        bins,
+        sff_eta,
+        thouless_tolerance,
+        degeneracy_tol,
+        min_levels,
+    };
+    run_detached(py, move || json(&f.request()?.run()?))
+}
+
+/// The flags of `diagonal` and `offdiagonal`.
+#[allow(clippy::too_many_arguments)]
+fn elements_flags(
+    files: Vec<PathBuf>,
+    observable: Vec<String>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    symmetry_class: Option<String>,
+    input: InputFlags,
+) -> ElementsFlags {
+    ElementsFlags {
+        input: InputFlags { files, ..input },
+        sector,
+        window,
+        energy_window,
+        observables: observable,
+        class: symmetry_class,
+    }
+}
+
+/// Diagonal matrix elements (`eigentherm diagonal FILE... --json`).
+#[pyfunction]
+#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None,
+    energy_window=None, symmetry_class=None, memory=None, predictions=None,
+    energies_path=None, eigenvectors_path=None, layout=None, observable_path=Vec::new(),
+    hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn diagonal(
+    py: Python<'_>,
+    files: Vec<PathBuf>,
+    observable: Vec<String>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    symmetry_class: Option<String>,
+    memory: Option<String>,
+    predictions: Option<String>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<String> {
+    let input = input_flags(
+        Vec::new(),
+        energies_path,
+        eigenvectors_path,
+        layout,
+        observable_path,
+        hamiltonian_path,
+        memory,
+    );
+    let f = elements_flags(
+        files,
+        observable,
+        sector,
+        window,
+        energy_window,
+        symmetry_class,
+        input,
+    );
+    run_detached(py, move || {
+        let policy = flags::predictions(predictions.as_deref())?;
+        json(&eigentherm::pipeline::elements::diagonal(
+            &f.request()?,
+            policy,
+        )?)
+    })
+}
+
+/// Off-diagonal matrix elements (`eigentherm offdiagonal FILE... --json`).
+#[pyfunction]
+#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None,
+    energy_window=None, symmetry_class=None, memory=None, omega_max=None,
+    energies_path=None, eigenvectors_path=None, layout=None, observable_path=Vec::new(),
+    hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn offdiagonal(
+    py: Python<'_>,
+    files: Vec<PathBuf>,
+    observable: Vec<String>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    symmetry_class: Option<String>,
+    memory: Option<String>,
+    omega_max: Option<f64>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<String> {
+    let input = input_flags(
+        Vec::new(),
+        energies_path,
+        eigenvectors_path,
+        layout,
+        observable_path,
+        hamiltonian_path,
+        memory,
+    );
+    let f = elements_flags(
+        files,
+        observable,
+        sector,
+        window,
+        energy_window,
+        symmetry_class,
+        input,
+    );
+    run_detached(py, move || {
+        let opts = flags::offdiagonal(omega_max)?;
+        json(&eigentherm::pipeline::elements::offdiagonal(
+            &f.request()?,
+            &opts,
+        )?)
+    })
+}
+
+/// Quench dynamics (`eigentherm quench FILE... --json`).
+#[pyfunction]
+#[pyo3(signature = (files, *, observable=Vec::new(), state=Vec::new(), times=None,
+    drop_weight=None, shell_width=None, sector=None, memory=None, energies_path=None,
+    eigenvectors_path=None, layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn quench(
+    py: Python<'_>,
+    files: Vec<PathBuf>,
+    observable: Vec<String>,
+    state: Vec<String>,
+    times: Option<String>,
+    drop_weight: Option<f64>,
+    shell_width: Option<f64>,
+    sector: Option<String>,
+    memory: Option<String>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<String> {
+    let f = QuenchFlags {
+        input: input_flags(
+            files,
+            energies_path,
+            eigenvectors_path,
+            layout,
+            observable_path,
+            hamiltonian_path,
+            memory,
+        ),
+        sector,
+        observables: observable,
+        dynamics: DynamicsFlags {
+            states: state,
+            times,
+            drop_weight,
+        },
+        shell_width,
+    };
+    run_detached(py, move || {
+        let results = eigentherm::pipeline::quench::quench_all(&f.request()?)?;
+        json(&serde_json::json!({ "files": results }))
+    })
+}
+
+/// The flags of the per-sector pipeline (`scaling`, `study`).
+#[allow(clippy::too_many_arguments)]
+fn scaling_flags(
+    input: InputFlags,
+    observable: Vec<String>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    levels_window: Option<String>,
+    omega_max: Option<f64>,
+    symmetry_class: Option<String>,
+    combine_sectors: bool,
+) -> ScalingFlags {
+    ScalingFlags {
+        input,
+        sector,
+        window,
+        energy_window,
+        observables: observable,
+        levels_window,
+        omega_max,
+        class: symmetry_class,
+        combine_sectors,
+    }
+}
+
+/// Finite-size scaling (`eigentherm scaling FILE... --json`).
+#[pyfunction]
+#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None,
+    energy_window=None, levels_window=None, omega_max=None, symmetry_class=None,
+    combine_sectors=false, memory=None, energies_path=None, eigenvectors_path=None,
+    layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn scaling(
+    py: Python<'_>,
+    files: Vec<PathBuf>,
+    observable: Vec<String>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    levels_window: Option<String>,
+    omega_max: Option<f64>,
+    symmetry_class: Option<String>,
+    combine_sectors: bool,
+    memory: Option<String>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<String> {
+    let input = input_flags(
+        files,
+        energies_path,
+        eigenvectors_path,
+        layout,
+        observable_path,
+        hamiltonian_path,
+        memory,
+    );
+    let f = scaling_flags(
+        input,
+        observable,
+        sector,
+        window,
+        energy_window,
+        levels_window,
+        omega_max,
+        symmetry_class,
+        combine_sectors,
+    );
+    run_detached(py, move || {
+        let (_, report) = eigentherm::pipeline::scaling::scaling(&f.request()?)?;
+        json(&report)
+    })
+}
+
+/// Every analysis (`eigentherm study FILE... --json`); with `out`, the report folder is
+/// written too.
+#[pyfunction]
+#[pyo3(signature = (files, *, observable=Vec::new(), out=None, state=Vec::new(),
+    times=None, drop_weight=None, sector=None, window=None, energy_window=None,
+    levels_window=None, omega_max=None, symmetry_class=None, combine_sectors=false,
+    memory=None, energies_path=None, eigenvectors_path=None, layout=None,
+    observable_path=Vec::new(), hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn study(
+    py: Python<'_>,
+    files: Vec<PathBuf>,
+    observable: Vec<String>,
+    out: Option<PathBuf>,
+    state: Vec<String>,
+    times: Option<String>,
+    drop_weight: Option<f64>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    levels_window: Option<String>,
+    omega_max: Option<f64>,
+    symmetry_class: Option<String>,
+    combine_sectors: bool,
+    memory: Option<String>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<String> {
+    let input = input_flags(
+        files,
+        energies_path,
+        eigenvectors_path,
+        layout,
+        observable_path,
+        hamiltonian_path,
+        memory,
+    );
+    let f = StudyFlags {
+        scaling: scaling_flags(
+            input,
+            observable,
+            sector,
+            window,
+            energy_window,
+            levels_window,
+            omega_max,
+            symmetry_class,
+            combine_sectors,
+        ),
+        dynamics: DynamicsFlags {
+            states: state,
+            times,
+            drop_weight,
+        },
+    };
+    run_detached(py, move || {
+        let results = eigentherm::pipeline::study::study(&f.request()?)?;
+        if let Some(dir) = &out {
+            eigentherm::report::study::write_folder(&results, dir)?;
+        }
+        json(&results)
+    })
+}
+
+/// What `project` returns: the matrix, the window's `(lo, hi)` and its energies.
+type Projected<'py> = (Bound<'py, PyAny>, (usize, usize), Bound<'py, PyArray1<f64>>);
+
+/// The window matrix `A_W[i, j] = ⟨lo + i|A|lo + j⟩` of one observable in one sector, with
+/// the window's state indices `(lo, hi)` and energies: `(matrix, (lo, hi), energies)`.
+#[pyfunction]
+#[pyo3(signature = (file, observable, *, sector=None, window=None, energy_window=None,
+    memory=None, energies_path=None, eigenvectors_path=None, layout=None,
+    observable_path=Vec::new(), hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn project<'py>(
+    py: Python<'py>,
+    file: PathBuf,
+    observable: String,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    memory: Option<String>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<Projected<'py>> {
+    let input = input_flags(
+        vec![file],
+        energies_path,
+        eigenvectors_path,
+        layout,
+        observable_path,
+        hamiltonian_path,
+        memory,
+    );
+    let wm = run_detached(py, move || {
+        let req = MatrixRequest {
+            inputs: input.inputs()?,
+            sector,
+            observable,
+            window: flags::window(
+                window.as_deref(),
+                energy_window.as_deref(),
+                Window::MATRIX_ELEMENTS,
+            )?,
+            budget: input.budget()?,
+        };
+        window_matrix(&req)
+    })?;
+    let w = wm.range.len();
+    let matrix = match &wm.matrix {
+        eigentherm::data::Matrix::Real(m) => {
+            let v: Vec<f64> = (0..w)
+                .flat_map(|i| (0..w).map(move |j| m[(i, j)]))
+                .collect();
+            PyArray1::from_vec(py, v).reshape([w, w])?.into_any()
+        }
+        eigentherm::data::Matrix::Complex(m) => {
+            let v: Vec<numpy::Complex64> = (0..w)
+                .flat_map(|i| (0..w).map(move |j| m[(i, j)]))
+                .map(|z| numpy::Complex64::new(z.re, z.im))
+                .collect();
+            PyArray1::from_vec(py, v).reshape([w, w])?.into_any()
+        }
+    };
+    drop(wm.matrix);
+    Ok((
+        matrix,
+        (wm.range.start, wm.range.end),
+        PyArray1::from_vec(py, wm.energies),
+    ))
+}
+
+/// Sets the number of worker threads of the matrix products and parallel loops (the
+/// binary's `--threads`); only before the first analysis of the process.
+#[pyfunction]
+fn set_threads(n: usize) -> PyResult<()> {
+    or_raise(flags::set_threads(Some(n)))
+}
+
+/// The module.
+#[pymodule]
+#[pyo3(name = "_native")]
+fn native(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add("Error", m.py().get_type::<Error>())?;
+    m.add("version", env!("CARGO_PKG_VERSION"))?;
+    m.add_function(wrap_pyfunction!(levels, m)?)?;
+    m.add_function(wrap_pyfunction!(diagonal, m)?)?;
+    m.add_function(wrap_pyfunction!(offdiagonal, m)?)?;
+    m.add_function(wrap_pyfunction!(quench, m)?)?;
+    m.add_function(wrap_pyfunction!(scaling, m)?)?;
+    m.add_function(wrap_pyfunction!(study, m)?)?;
+    m.add_function(wrap_pyfunction!(project, m)?)?;
+    m.add_function(wrap_pyfunction!(set_threads, m)?)?;
+    Ok(())
+}
