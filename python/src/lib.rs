@@ -124,7 +124,7 @@ fn elements_flags(
 /// Diagonal matrix elements (`eigentherm diagonal FILE... --json`).
 #[pyfunction]
 #[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None,
-    energy_window=None, symmetry_class=None, memory=None, predictions=None,
+    energy_window=None, symmetry_class=None, memory=None, predictions=None, per_state=false,
     energies_path=None, eigenvectors_path=None, layout=None, observable_path=Vec::new(),
     hamiltonian_path=None))]
 #[allow(clippy::too_many_arguments)]
@@ -138,6 +138,7 @@ fn diagonal(
     symmetry_class: Option<String>,
     memory: Option<String>,
     predictions: Option<String>,
+    per_state: bool,
     energies_path: Option<String>,
     eigenvectors_path: Option<String>,
     layout: Option<String>,
@@ -167,6 +168,7 @@ fn diagonal(
         json(&eigentherm::pipeline::elements::diagonal(
             &f.request()?,
             policy,
+            per_state,
         )?)
     })
 }

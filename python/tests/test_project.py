@@ -73,3 +73,20 @@ def test_project_window_option(good):
 def test_project_needs_a_sector_when_there_are_several(good):
     with pytest.raises(eigentherm.Error, match="give the sector"):
         eigentherm.project(good, "sz")
+
+
+def test_per_state_diagonal_equals_h5py_numpy_and_the_binary(cli, good):
+    # Reference: the h5py + NumPy projection above (diagonal of V^H A V over every state,
+    # ascending energy); tolerance 1e-12 absolute (common practice, no source)
+    r = eigentherm.diagonal(good, sector="chain", observable="sz", predictions="all",
+                            per_state=True)
+    ps = r["sectors"][0]["observables"][0]["per_state"]
+    full, _, _ = reference(good, "chain", "sz", lo=0.0, hi=1.0)
+    with h5py.File(good, "r") as f:
+        e = np.sort(f["chain"]["energies"][()].astype(np.float64))
+    assert ps["first_state"] == 0
+    np.testing.assert_allclose(np.asarray(ps["values"]), np.real(np.diag(full)), rtol=0, atol=1e-12)
+    np.testing.assert_array_equal(np.asarray(ps["energies"]), e)
+    out = cli(["diagonal", good, "--sector", "chain", "--observable", "sz", "--predictions",
+               "all", "--per-state", "--json"]).json()
+    assert out["sectors"][0]["observables"][0]["per_state"]["values"] == list(ps["values"])

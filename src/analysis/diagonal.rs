@@ -119,6 +119,20 @@ pub struct DiagonalResult {
     pub smooth: Vec<SmoothBin>,
     /// Thermal predictions and their deviations.
     pub predictions: Predictions,
+    /// `(Eₙ, Aₙₙ)` of every projected state, when asked for (`--per-state`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub per_state: Option<PerState>,
+}
+
+/// The diagonal elements of the projected states, in ascending energy.
+#[derive(Debug, Clone, Serialize)]
+pub struct PerState {
+    /// Index (in ascending energy) of the first state.
+    pub first_state: usize,
+    /// Eₙ.
+    pub energies: Vec<f64>,
+    /// Aₙₙ.
+    pub values: Vec<f64>,
 }
 
 /// Eigenstate-to-eigenstate fluctuation figures of consecutive values `a` (one window):
@@ -357,6 +371,7 @@ fn analyze_impl(
         smooth_rule: format!(
             "binned mean: {nb} equal-width energy bins over the window (clamp(floor(sqrt(W)), 1, {MAX_BINS})), error = standard error per bin"
         ),
+        per_state: None,
         predictions: Predictions {
             microcanonical_half_width: half_width,
             microcanonical: deviation(|b| b.microcanonical),

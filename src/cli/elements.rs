@@ -64,6 +64,9 @@ pub struct DiagonalArgs {
     /// for dense observables whose all-state projection would exceed 2e11 flops).
     #[arg(long, value_name = "all|window|auto", default_value = "auto")]
     pub predictions: String,
+    /// Also write (E_n, A_nn) of every projected state (JSON `per_state`).
+    #[arg(long)]
+    pub per_state: bool,
 }
 
 /// Options of `eigentherm offdiagonal`.
@@ -80,7 +83,7 @@ pub struct OffdiagonalArgs {
 /// Runs `eigentherm diagonal`.
 pub fn run_diagonal(args: &DiagonalArgs) -> Result<()> {
     let policy = flags::predictions(Some(&args.predictions))?;
-    let out = elements::diagonal(&args.common.resolve()?, policy)?;
+    let out = elements::diagonal(&args.common.resolve()?, policy, args.per_state)?;
     if args.common.json.json {
         output::print_json(&out)
     } else {

@@ -149,6 +149,7 @@ pub fn each_sector<T: crate::analysis::ensemble::figures::Figures>(
 pub fn diagonal(
     req: &ElementsRequest,
     policy: Option<PredictionStates>,
+    per_state: bool,
 ) -> Result<ElementsOutput<DiagonalResult>> {
     each_sector(req, |w| {
         let refs = w.refs();
@@ -160,6 +161,7 @@ pub fn diagonal(
             PredictionStates::All => 0..n,
             PredictionStates::Window => w.range.clone(),
         };
+        let first = states.start;
         let mut st = project::StageTiming::default();
         let diags =
             project::project_diagonal_timed(w.src.as_ref(), &refs, states, &req.budget, &mut st)
@@ -169,7 +171,7 @@ pub fn diagonal(
         let mut observables = Vec::new();
         for ((name, _), d) in w.ops.iter().zip(&diags) {
             let e = &w.spectrum.energies;
-            let r = match which {
+            let mut r = match which {
                 PredictionStates::All => {
                     diagonal::analyze(name, e, d, w.range.clone(), &w.label, w.sector.dim)
                 }
@@ -178,6 +180,13 @@ pub fn diagonal(
                 }
             }
             .at(w.file.path(), w.group())?;
+            if per_state {
+                r.per_state = Some(diagonal::PerState {
+                    first_state: first,
+                    energies: e[first..first + d.len()].to_vec(),
+                    values: d.clone(),
+                });
+            }
             observables.push(r);
         }
         w.timing.analyze_seconds += t_an.elapsed().as_secs_f64();

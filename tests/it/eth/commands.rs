@@ -45,7 +45,7 @@ fn diagonal_of(
 ) -> eigentherm::Result<
     eigentherm::analysis::sector::ElementsOutput<eigentherm::analysis::diagonal::DiagonalResult>,
 > {
-    eigentherm::pipeline::elements::diagonal(&a.common.resolve()?, None)
+    eigentherm::pipeline::elements::diagonal(&a.common.resolve()?, None, false)
 }
 
 /// `eigentherm offdiagonal` without printing.
