@@ -6,6 +6,7 @@
 pub mod args;
 pub mod demo;
 pub mod elements;
+pub mod gauge;
 pub mod generate;
 pub mod inspect;
 pub mod levels;
@@ -47,6 +48,8 @@ pub enum Command {
     Offdiagonal(elements::OffdiagonalArgs),
     /// Quench dynamics: diagonal ensemble, time trace, temporal fluctuations.
     Quench(quench::Args),
+    /// Adiabatic gauge potential norm and fidelity susceptibility of each eigenstate.
+    Gauge(gauge::Args),
     /// Finite-size scaling of the ETH figures across files and sectors.
     Scaling(scaling::Args),
     /// Every analysis on every file, sector and observable, written to a report folder.
@@ -82,6 +85,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Diagonal(a) => elements::run_diagonal(&a),
         Command::Offdiagonal(a) => elements::run_offdiagonal(&a),
         Command::Quench(a) => quench::run(&a),
+        Command::Gauge(a) => gauge::run(&a),
         Command::Scaling(a) => scaling::run(&a),
         Command::Study(a) => study::run(&a),
     }
