@@ -3,6 +3,7 @@
 
 pub mod diagonal;
 pub mod ensemble;
+pub mod entanglement;
 pub mod gauge;
 pub mod levels;
 pub mod offdiagonal;

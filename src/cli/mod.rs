@@ -6,6 +6,7 @@
 pub mod args;
 pub mod demo;
 pub mod elements;
+pub mod entanglement;
 pub mod gauge;
 pub mod generate;
 pub mod inspect;
@@ -50,6 +51,8 @@ pub enum Command {
     Quench(quench::Args),
     /// Adiabatic gauge potential norm and fidelity susceptibility of each eigenstate.
     Gauge(gauge::Args),
+    /// Entanglement entropy of each eigenstate for a cut of the chain, against the random-state value.
+    Entanglement(entanglement::Args),
     /// Finite-size scaling of the ETH figures across files and sectors.
     Scaling(scaling::Args),
     /// Every analysis on every file, sector and observable, written to a report folder.
@@ -86,6 +89,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Offdiagonal(a) => elements::run_offdiagonal(&a),
         Command::Quench(a) => quench::run(&a),
         Command::Gauge(a) => gauge::run(&a),
+        Command::Entanglement(a) => entanglement::run(&a),
         Command::Scaling(a) => scaling::run(&a),
         Command::Study(a) => study::run(&a),
     }

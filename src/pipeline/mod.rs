@@ -21,6 +21,7 @@
 pub mod class;
 pub mod demo;
 pub mod elements;
+pub mod entanglement;
 pub mod gauge;
 pub mod inspect;
 pub mod levels;
