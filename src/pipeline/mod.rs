@@ -14,7 +14,7 @@
 //! inputs read-only, runs the passes over the eigenvectors and the analyses, and returns
 //! the results; none prints or writes files (the command-line layer hands the results to
 //! [`crate::report`]). One file per job: [`levels`], [`elements`] (`diagonal` and
-//! `offdiagonal`, one per-sector loop; [`gauge`] uses the same loop), [`sector`] (the whole per-sector pipeline of
+//! `offdiagonal`, one per-sector loop; [`gauge`] uses the same loop; [`entanglement`]), [`sector`] (the whole per-sector pipeline of
 //! `scaling` and `study`), [`scaling`], [`quench`] (a state split over the sectors of one
 //! file), [`study`], [`inspect`] and [`demo`].
 
