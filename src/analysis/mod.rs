@@ -3,6 +3,8 @@
 
 pub mod diagonal;
 pub mod ensemble;
+pub mod entanglement;
+pub mod gauge;
 pub mod levels;
 pub mod offdiagonal;
 pub mod quench;

@@ -6,6 +6,8 @@
 pub mod args;
 pub mod demo;
 pub mod elements;
+pub mod entanglement;
+pub mod gauge;
 pub mod generate;
 pub mod inspect;
 pub mod levels;
@@ -47,6 +49,10 @@ pub enum Command {
     Offdiagonal(elements::OffdiagonalArgs),
     /// Quench dynamics: diagonal ensemble, time trace, temporal fluctuations.
     Quench(quench::Args),
+    /// Adiabatic gauge potential norm and fidelity susceptibility of each eigenstate.
+    Gauge(gauge::Args),
+    /// Entanglement entropy of each eigenstate for a cut of the chain, against the random-state value.
+    Entanglement(entanglement::Args),
     /// Finite-size scaling of the ETH figures across files and sectors.
     Scaling(scaling::Args),
     /// Every analysis on every file, sector and observable, written to a report folder.
@@ -70,6 +76,8 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Diagonal(a) => elements::run_diagonal(&a),
         Command::Offdiagonal(a) => elements::run_offdiagonal(&a),
         Command::Quench(a) => quench::run(&a),
+        Command::Gauge(a) => gauge::run(&a),
+        Command::Entanglement(a) => entanglement::run(&a),
         Command::Scaling(a) => scaling::run(&a),
         Command::Study(a) => study::run(&a),
     }

@@ -535,3 +535,76 @@ impl EigenFile {
         operators::read_vector(&self.path, &self.h5, &info.path, info.element, &self.limit)
     }
 }
+
+impl EigenFile {
+    /// The sector's `basis` configurations (one unsigned integer per eigenvector row: site
+    /// i of a spin-½ chain is bit i − 1), checked: shape `[dim]` against the eigenvectors,
+    /// integer type, attribute `local_dim` 2 when present, values below `2^sites` when the
+    /// sector's `size` is known, and no configuration twice. `Ok(None)` when absent.
+    pub fn basis(&self, sector: &Sector) -> Result<Option<Vec<usize>>> {
+        let path = discover::join(&sector.group, "basis");
+        if discover::kind(&self.path, &self.h5, &path)?.is_none() {
+            return Ok(None);
+        }
+        let ds = self
+            .h5
+            .dataset(&path)
+            .map_err(|e| Error::dataset(&self.path, &path, format!("not a dataset ({e})")))?;
+        let shape = ds.shape();
+        let dim = sector.dim.unwrap_or(0);
+        if shape != [dim] {
+            return Err(Error::dataset(
+                &self.path,
+                &path,
+                format!(
+                    "shape {} does not match the eigenvectors' dimension {dim} (expected [{dim}])",
+                    h5::format_shape(&shape)
+                ),
+            ));
+        }
+        if let Ok(a) = ds.attr("local_dim") {
+            let ld = a.read_scalar::<i64>().map_err(|e| {
+                Error::dataset(
+                    &self.path,
+                    &path,
+                    format!("attribute local_dim unreadable ({e})"),
+                )
+            })?;
+            if ld != 2 {
+                return Err(Error::dataset(
+                    &self.path,
+                    &path,
+                    format!("attribute local_dim = {ld}: only spin-½ (local_dim 2) configurations are supported"),
+                ));
+            }
+        }
+        self.limit.check(
+            &self.path,
+            &path,
+            &shape,
+            "integers",
+            8.0 * dim as f64,
+            "to read them",
+        )?;
+        let conf = h5::read_indices(&self.path, &path, &ds)?;
+        if let Some(l) = sector.size.filter(|&l| l < 64) {
+            if let Some((i, c)) = conf.iter().enumerate().find(|(_, &c)| (c as u64) >> l != 0) {
+                return Err(Error::dataset(
+                    &self.path,
+                    &path,
+                    format!("configuration {c} at position {i} has bits beyond the {l} sites (attribute size)"),
+                ));
+            }
+        }
+        let mut sorted = conf.clone();
+        sorted.sort_unstable();
+        if let Some(w) = sorted.windows(2).find(|w| w[0] == w[1]) {
+            return Err(Error::dataset(
+                &self.path,
+                &path,
+                format!("configuration {} appears twice", w[0]),
+            ));
+        }
+        Ok(Some(conf))
+    }
+}

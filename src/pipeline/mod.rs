@@ -14,8 +14,8 @@
 //! inputs read-only, runs the passes over the eigenvectors and the analyses, and returns
 //! the results; none prints or writes files (the command-line layer hands the results to
 //! [`crate::report`]). One file per job: [`levels`], [`elements`] (`diagonal` and
-//! `offdiagonal`, one per-sector loop), [`sector`] (the whole per-sector pipeline of
-//! `scaling` and `study`), [`scaling`], [`quench`] (a state split over the sectors of one
+//! `offdiagonal`, one per-sector loop; [`gauge`] uses the same loop; [`entanglement`]),
+//! [`sector`] (the whole per-sector pipeline of `scaling` and `study`), [`scaling`], [`quench`] (a state split over the sectors of one
 //! file), [`study`], [`inspect`] and [`demo`]; [`matrix`] gives one observable's window matrix to
 //! library callers. [`flags`] resolves options spelled as on the command line into these
 //! requests, for the command line and the Python module alike.
@@ -23,7 +23,9 @@
 pub mod class;
 pub mod demo;
 pub mod elements;
+pub mod entanglement;
 pub mod flags;
+pub mod gauge;
 pub mod inspect;
 pub mod levels;
 pub mod matrix;

@@ -46,7 +46,8 @@
 //! operator form and the shape checks; [`stream`]: the prefetching reader every pass goes
 //! through; [`pairs`]: block pairs and whole windows; [`diagonal`]: diagonal elements and
 //! the prediction policy; [`kept`]: the passes of a quench (a state's coefficients with the
-//! diagonal elements, and the operators over the kept states).
+//! diagonal elements, and the operators over the kept states); [`vectors`]: the eigenvectors
+//! themselves in column blocks (entanglement).
 
 pub mod budget;
 pub mod diagonal;
@@ -54,6 +55,7 @@ pub mod kept;
 mod kernels;
 pub mod pairs;
 pub mod stream;
+pub mod vectors;
 
 pub use budget::{block_size, human_bytes, parse_memory, Budget};
 pub use diagonal::{
@@ -63,6 +65,7 @@ pub use diagonal::{
 pub use kept::{kept_matrices, state_pass, Kept, KeptPath, StatePass};
 pub use pairs::{for_each_block, for_each_block_timed, project_window};
 pub use stream::StageTiming;
+pub use vectors::for_each_vector_block;
 
 use crate::data::{ColumnSource, Field, Matrix, Operator};
 use crate::error::{Error, Result};

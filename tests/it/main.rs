@@ -11,6 +11,7 @@ mod eth;
 mod input;
 mod levels;
 mod model;
+mod probes;
 mod project;
 mod quench;
 mod report;

@@ -154,3 +154,18 @@ pub fn figure_ensembles<T: Figures>(items: &[(MemberKey, &T)]) -> Vec<FigureEnse
         })
         .collect()
 }
+
+impl Figures for crate::analysis::gauge::GaugeResult {
+    fn observable(&self) -> &str {
+        &self.name
+    }
+    fn figures(&self) -> Vec<(&'static str, f64)> {
+        vec![
+            ("chi_geometric_mean", self.chi.geometric_mean),
+            ("chi_median", self.chi.median),
+            ("chi_mean_log", self.chi.mean_log),
+            ("fidelity_geometric_mean", self.fidelity.geometric_mean),
+            ("fidelity_median", self.fidelity.median),
+        ]
+    }
+}
