@@ -3,6 +3,7 @@
 
 pub mod diagonal;
 pub mod ensemble;
+pub mod kpm;
 pub mod levels;
 pub mod offdiagonal;
 pub mod quench;

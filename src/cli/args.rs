@@ -6,6 +6,7 @@ use crate::analysis::quench::{self, state::StateSpec, TimeGrid};
 use crate::data::SymmetryClass;
 use crate::error::{Error, Result};
 use crate::pipeline::class::ClassChoice;
+use crate::pipeline::thermal::{ThermoChoice, ThermoRequest};
 use crate::pipeline::{Inputs, Layout, Overrides};
 use crate::project::Budget;
 use crate::window::{Window, WindowSpec};
@@ -157,6 +158,32 @@ impl MemoryArg {
     /// The budget (products use every thread of the pool `--threads` set).
     pub fn resolve(&self) -> Result<Budget> {
         Budget::from_arg(self.memory.as_deref())
+    }
+}
+
+/// Source of the thermal predictions (pipeline::thermal).
+#[derive(Debug, Clone, clap::Args)]
+pub struct ThermoArgs {
+    /// S(E), beta(E) and predictions from: full (stored states), kpm (kernel polynomial method on the stored hamiltonian), stored (the `spectrum` dataset), auto (partial bases: stored, else kpm, else full).
+    #[arg(long, value_name = "auto|full|kpm|stored", default_value = "auto")]
+    pub thermo: String,
+    /// Chebyshev moments N of the kernel polynomial method.
+    #[arg(long, value_name = "N", default_value_t = 512)]
+    pub kpm_moments: usize,
+    /// Random vectors R of the stochastic trace (0: exact trace over all basis vectors).
+    #[arg(long, value_name = "R", default_value_t = 32)]
+    pub kpm_vectors: usize,
+    /// Seed of the random vectors.
+    #[arg(long, value_name = "S", default_value_t = 1)]
+    pub kpm_seed: u64,
+}
+
+impl ThermoArgs {
+    /// The request of the pipeline.
+    pub fn resolve(&self) -> Result<ThermoRequest> {
+        let (moments, vectors, seed) = (self.kpm_moments, self.kpm_vectors, self.kpm_seed);
+        let choice = ThermoChoice::parse(&self.thermo)?;
+        ThermoRequest::new(choice, moments, vectors, seed)
     }
 }
 

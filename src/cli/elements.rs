@@ -2,7 +2,8 @@
 //! commands, resolved into an [`ElementsRequest`].
 
 use super::args::{
-    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs,
+    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, ThermoArgs,
+    WindowArgs,
 };
 use super::output;
 use crate::error::{Error, Result};
@@ -34,6 +35,9 @@ pub struct Common {
     /// Symmetry class.
     #[command(flatten)]
     pub class: ClassArg,
+    /// Thermal source.
+    #[command(flatten)]
+    pub thermo: ThermoArgs,
 }
 
 impl Common {
@@ -46,6 +50,7 @@ impl Common {
             observables: self.observables.observables.clone(),
             budget: self.memory.resolve()?,
             class: self.class.resolve()?,
+            thermo: self.thermo.resolve()?,
         })
     }
 }

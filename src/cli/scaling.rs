@@ -1,7 +1,8 @@
 //! `eigentherm scaling`: finite-size scaling of the ETH figures across files and sectors.
 
 use super::args::{
-    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs,
+    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, ThermoArgs,
+    WindowArgs,
 };
 use super::output;
 use crate::error::Result;
@@ -36,6 +37,9 @@ pub struct PipelineArgs {
     /// Symmetry class.
     #[command(flatten)]
     pub class: ClassArg,
+    /// Thermal source.
+    #[command(flatten)]
+    pub thermo: ThermoArgs,
     /// Merge the sectors of one size into one row (default: fit each sector name apart).
     #[arg(long)]
     pub combine_sectors: bool,
@@ -58,6 +62,7 @@ impl PipelineArgs {
                 offdiagonal: self.omega.resolve()?,
                 budget: self.memory.resolve()?,
                 class: self.class.resolve()?,
+                thermo: self.thermo.resolve()?,
             },
             combine_sectors: self.combine_sectors,
         })

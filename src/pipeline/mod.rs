@@ -16,7 +16,8 @@
 //! [`crate::report`]). One file per job: [`levels`], [`elements`] (`diagonal` and
 //! `offdiagonal`, one per-sector loop), [`sector`] (the whole per-sector pipeline of
 //! `scaling` and `study`), [`scaling`], [`quench`] (a state split over the sectors of one
-//! file), [`study`], [`inspect`] and [`demo`].
+//! file), [`study`], [`inspect`] and [`demo`]; [`thermal`] resolves a sector's thermal source
+//! (`--thermo`: the stored states, the kernel polynomial method, a stored spectrum).
 
 pub mod class;
 pub mod demo;
@@ -28,6 +29,7 @@ pub mod quench;
 pub mod scaling;
 pub mod sector;
 pub mod study;
+pub mod thermal;
 
 pub use crate::input::{Layout, LayoutSource, Overrides};
 

@@ -46,9 +46,11 @@
 //! operator form and the shape checks; [`stream`]: the prefetching reader every pass goes
 //! through; [`pairs`]: block pairs and whole windows; [`diagonal`]: diagonal elements and
 //! the prediction policy; [`kept`]: the passes of a quench (a state's coefficients with the
-//! diagonal elements, and the operators over the kept states).
+//! diagonal elements, and the operators over the kept states); [`chebyshev`]: Chebyshev
+//! moments of a stored Hamiltonian for the kernel polynomial method (no eigenvectors read).
 
 pub mod budget;
+pub mod chebyshev;
 pub mod diagonal;
 pub mod kept;
 mod kernels;
