@@ -278,6 +278,50 @@ fn prediction_note(
     (!notes.is_empty()).then(|| notes.join("; "))
 }
 
+/// Predicted values at a bin's energy with their errors:
+/// `(microcanonical, β, canonical, (σ_β, σ_canonical, σ_microcanonical))`, from `ext` or
+/// from the stored states `e_cov`/`diag` (the canonical one only when they are all states).
+type BinPredictions = (
+    Option<f64>,
+    Option<f64>,
+    Option<f64>,
+    (Option<f64>, Option<f64>, Option<f64>),
+);
+
+fn bin_predictions(
+    ext: Option<&dyn Predictor>,
+    energies: &[f64],
+    e_cov: &[f64],
+    diag: &[f64],
+    all_states: bool,
+    energy: f64,
+    half_width: f64,
+) -> BinPredictions {
+    match ext {
+        Some(p) => {
+            let mc = p.microcanonical(energy, half_width);
+            let beta = p.beta(energy);
+            let can = beta.and_then(|b| p.canonical(b.0));
+            let errors = (
+                beta.and_then(|b| b.1),
+                can.and_then(|c| c.1),
+                mc.and_then(|m| m.1),
+            );
+            (mc.map(|m| m.0), beta.map(|b| b.0), can.map(|c| c.0), errors)
+        }
+        None => {
+            let mc = thermo::microcanonical_average(e_cov, diag, energy, half_width).map(|x| x.0);
+            let beta = thermo::beta_of_energy(energies, energy);
+            let canonical = if all_states {
+                beta.map(|b| thermo::canonical_average(energies, diag, b))
+            } else {
+                None
+            };
+            (mc, beta, canonical, (None, None, None))
+        }
+    }
+}
+
 /// Common body: `diag[k]` is `A_nn` of state `offset + k`; the predictions use every
 /// state `diag` covers (all of them when `offset = 0` and `diag.len() = n`), or `ext`.
 #[allow(clippy::too_many_arguments)]
@@ -352,30 +396,8 @@ fn analyze_impl(
         let m = sa / cf;
         let stderr = (c >= 2).then(|| ((saa - cf * m * m).max(0.0) / (cf - 1.0) / cf).sqrt());
         let energy = se / cf;
-        let (microcanonical, beta, canonical, errors) = match ext {
-            Some(p) => {
-                let mc = p.microcanonical(energy, half_width);
-                let beta = p.beta(energy);
-                let can = beta.and_then(|b| p.canonical(b.0));
-                let errors = (
-                    beta.and_then(|b| b.1),
-                    can.and_then(|c| c.1),
-                    mc.and_then(|m| m.1),
-                );
-                (mc.map(|m| m.0), beta.map(|b| b.0), can.map(|c| c.0), errors)
-            }
-            None => {
-                let mc =
-                    thermo::microcanonical_average(e_cov, diag, energy, half_width).map(|x| x.0);
-                let beta = thermo::beta_of_energy(energies, energy);
-                let canonical = if all_states {
-                    beta.map(|b| thermo::canonical_average(energies, diag, b))
-                } else {
-                    None
-                };
-                (mc, beta, canonical, (None, None, None))
-            }
-        };
+        let (microcanonical, beta, canonical, errors) =
+            bin_predictions(ext, energies, e_cov, diag, all_states, energy, half_width);
         smooth.push(SmoothBin {
             energy,
             energy_lo: elo + k as f64 * width,

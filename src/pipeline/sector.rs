@@ -71,12 +71,8 @@ pub fn analyze_sector(
     let th =
         super::thermal::sector_thermo(file, sector, &refs, &settings.thermo, &settings.budget)?;
     // predictions from another source need only the window's A_nn
-    let policy = match th.source {
-        crate::analysis::thermo::ThermoSource::Full => {
-            project::auto_prediction_states(&refs, sector.dim.unwrap_or(n), n)
-        }
-        _ => PredictionStates::Window,
-    };
+    let auto = project::auto_prediction_states(&refs, sector.dim.unwrap_or(n), n);
+    let policy = th.prediction_states(auto);
     let diag_range = match policy {
         PredictionStates::All => 0..n,
         PredictionStates::Window => range.clone(),
@@ -151,19 +147,9 @@ pub fn analyze_sector(
         .enumerate()
     {
         let e = &spectrum.energies;
-        let start = diag_range.start;
-        let diagonal = match (th.predictor(k), policy) {
-            (Some(p), _) => {
-                diagonal::analyze_with(name, e, d, start, range.clone(), &label, sector.dim, &p)
-            }
-            (None, PredictionStates::All) => {
-                diagonal::analyze(name, e, d, range.clone(), &label, sector.dim)
-            }
-            (None, PredictionStates::Window) => {
-                diagonal::analyze_window(name, e, d, range.clone(), &label, sector.dim)
-            }
-        }
-        .at(path, group)?;
+        let (start, r) = (diag_range.start, range.clone());
+        let diagonal = diagonal_result(&th, k, policy, name, e, d, start, r, &label, sector.dim)
+            .at(path, group)?;
         let offdiagonal = acc.and_then(|a| {
             a.finish()
                 .map_err(|e| note.push(format!("off-diagonal analysis skipped: {e}")))
@@ -201,4 +187,26 @@ pub fn analyze_sector(
         levels,
         observables,
     })
+}
+
+/// The diagonal analysis of observable `k` with the sector's thermal source (`d[i]` is
+/// `A_nn` of state `start + i`).
+#[allow(clippy::too_many_arguments)]
+fn diagonal_result(
+    th: &super::thermal::SectorThermo,
+    k: usize,
+    policy: PredictionStates,
+    name: &str,
+    e: &[f64],
+    d: &[f64],
+    start: usize,
+    range: Range<usize>,
+    label: &str,
+    dim: Option<usize>,
+) -> Result<crate::analysis::diagonal::DiagonalResult> {
+    match (th.predictor(k), policy) {
+        (Some(p), _) => diagonal::analyze_with(name, e, d, start, range, label, dim, &p),
+        (None, PredictionStates::All) => diagonal::analyze(name, e, d, range, label, dim),
+        (None, PredictionStates::Window) => diagonal::analyze_window(name, e, d, range, label, dim),
+    }
 }

@@ -16,7 +16,7 @@ use crate::data::{Operator, OperatorForm};
 use crate::error::{Context, Error, Result};
 use crate::input::{EigenFile, Sector};
 use crate::project::chebyshev::{self, TraceMode};
-use crate::project::Budget;
+use crate::project::{Budget, PredictionStates};
 
 /// The `--thermo` choice.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -98,6 +98,15 @@ pub struct SectorThermo {
 }
 
 impl SectorThermo {
+    /// The states whose `Aₙₙ` the predictions need: `auto` for the source `full`, the
+    /// window's only for the others.
+    pub fn prediction_states(&self, auto: PredictionStates) -> PredictionStates {
+        match self.source {
+            ThermoSource::Full => auto,
+            _ => PredictionStates::Window,
+        }
+    }
+
     /// Energy resolution of the source's density of states: the Jackson kernel's `πa/N`
     /// (KPM), or the Gaussian width of a stored spectrum's.
     pub fn resolution(&self) -> f64 {

@@ -253,3 +253,41 @@ fn partial_basis_predictions_agree_with_the_full_spectrum() {
         );
     }
 }
+
+#[test]
+fn stored_spectrum_gives_beta_and_kpm_the_averages() {
+    // with a `spectrum` dataset (every eigenvalue) auto picks `stored`: β(E) is the
+    // full-spectrum root of ⟨H⟩_β = E (thermo::beta_of_energy on the same eigenvalues,
+    // definition) and the canonical prediction still comes from the KPM, within 1e-3 of the
+    // full-spectrum one (acceptance of issue 15)
+    use eigentherm::analysis::thermo::ThermoSource;
+    use eigentherm::pipeline::thermal::ThermoRequest;
+    let dir = tempfile::tempdir().unwrap();
+    let (path, full) = slice_file(dir.path(), 9);
+    {
+        let f = hdf5::File::open_rw(&path).unwrap();
+        let g = f.group("even").unwrap();
+        g.new_dataset_builder()
+            .with_data(&ndarray::Array1::from(full.energies.clone()))
+            .create("spectrum")
+            .unwrap();
+    }
+    let n = full.energies.len();
+    let v = full.eigenvectors.as_ref().unwrap();
+    let sz = obs(&full, "sz_site");
+    let d = eigentherm::project::project_diagonal(v, &[sz], 0..n, &Budget::new(1 << 28))
+        .unwrap()
+        .remove(0);
+    let r = diagonal_of(&path, ThermoRequest::default()).remove(0);
+    assert_eq!(r.predictions.thermo_source, ThermoSource::Stored);
+    for b in &r.smooth {
+        let beta = thermo::beta_of_energy(&full.energies, b.energy).unwrap();
+        assert!((b.beta.unwrap() - beta).abs() < 1e-12);
+        let can = thermo::canonical_average(&full.energies, &d, beta);
+        assert!(
+            (b.canonical.unwrap() - can).abs() < 1e-3,
+            "{:?} vs {can}",
+            b.canonical
+        );
+    }
+}
