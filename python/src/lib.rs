@@ -118,6 +118,7 @@ fn elements_flags(
         energy_window,
         observables: observable,
         class: symmetry_class,
+        thermo: Default::default(),
     }
 }
 
@@ -226,7 +227,8 @@ fn offdiagonal(
 /// Quench dynamics (`eigentherm quench FILE... --json`).
 #[pyfunction]
 #[pyo3(signature = (files, *, observable=Vec::new(), state=Vec::new(), times=None,
-    drop_weight=None, shell_width=None, sector=None, memory=None, energies_path=None,
+    drop_weight=None, shell_width=None, min_window_weight=None, renormalise=false, sector=None,
+    memory=None, energies_path=None,
     eigenvectors_path=None, layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
 #[allow(clippy::too_many_arguments)]
 fn quench(
@@ -237,6 +239,8 @@ fn quench(
     times: Option<String>,
     drop_weight: Option<f64>,
     shell_width: Option<f64>,
+    min_window_weight: Option<f64>,
+    renormalise: bool,
     sector: Option<String>,
     memory: Option<String>,
     energies_path: Option<String>,
@@ -263,6 +267,8 @@ fn quench(
             drop_weight,
         },
         shell_width,
+        min_window_weight,
+        renormalise,
     };
     run_detached(py, move || {
         let results = eigentherm::pipeline::quench::quench_all(&f.request()?)?;
@@ -292,6 +298,7 @@ fn scaling_flags(
         levels_window,
         omega_max,
         class: symmetry_class,
+        thermo: Default::default(),
         combine_sectors,
     }
 }

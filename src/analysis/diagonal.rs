@@ -24,8 +24,12 @@
 //!   `A(Ē) − prediction` over bins with `count ≥ 2`. With a partial eigenbasis
 //!   (`n < dim`) the canonical sums miss states and the prediction is unreliable; the
 //!   result says so.
+//! - with a [`thermo::Predictor`] ([`analyze_with`]), `β(Ē)`, both predictions and the
+//!   shell half-width come from it instead (the kernel polynomial method on the stored
+//!   Hamiltonian, or a stored `spectrum`; [`crate::analysis::kpm`]), with their errors;
+//!   `predictions.thermo_source` names the source (`full` for the stored states).
 
-use crate::analysis::thermo;
+use crate::analysis::thermo::{self, Predictor, ThermoSource};
 use crate::error::{Error, Result};
 use serde::Serialize;
 use std::ops::Range;
@@ -54,6 +58,15 @@ pub struct SmoothBin {
     pub beta: Option<f64>,
     /// Canonical prediction `⟨A⟩_β` at `β(energy)`.
     pub canonical: Option<f64>,
+    /// Error of `beta` (KPM: jackknife over the random vectors).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beta_stderr: Option<f64>,
+    /// Error of `canonical` at fixed β (KPM).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub canonical_stderr: Option<f64>,
+    /// Error of `microcanonical` (KPM).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub microcanonical_stderr: Option<f64>,
 }
 
 /// How far the smooth `A(E)` lies from a prediction over the window's bins.
@@ -80,6 +93,13 @@ pub struct Predictions {
     pub partial_basis: bool,
     /// A plain-language caveat, when there is one.
     pub note: Option<String>,
+    /// Where `β(E)` and the predictions come from: `full` (the stored states), `kpm`
+    /// (kernel polynomial method on the stored Hamiltonian) or `stored` (the `spectrum`
+    /// dataset for `β(E)`, the KPM for the averages).
+    pub thermo_source: ThermoSource,
+    /// The source in words (moments, random vectors, seed, bounds), for `kpm`/`stored`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub thermo: Option<String>,
 }
 
 /// Diagonal ETH figures of one observable in one sector (JSON keys of DESIGN.md).
@@ -176,7 +196,39 @@ pub fn analyze(
             diag.len()
         )));
     }
-    analyze_impl(name, energies, diag, 0, window, window_label, dim)
+    analyze_impl(name, energies, diag, 0, window, window_label, dim, None)
+}
+
+/// Diagonal analysis with the thermal predictions of `predictor` (module docs):
+/// `diag[k]` is `A_nn` of state `offset + k` and must cover the window.
+#[allow(clippy::too_many_arguments)]
+pub fn analyze_with(
+    name: &str,
+    energies: &[f64],
+    diag: &[f64],
+    offset: usize,
+    window: Range<usize>,
+    window_label: &str,
+    dim: Option<usize>,
+    predictor: &dyn Predictor,
+) -> Result<DiagonalResult> {
+    if offset + diag.len() > energies.len() {
+        return Err(Error::other(format!(
+            "observable '{name}': {} diagonal elements from state {offset} for {} energies",
+            diag.len(),
+            energies.len()
+        )));
+    }
+    analyze_impl(
+        name,
+        energies,
+        diag,
+        offset,
+        window,
+        window_label,
+        dim,
+        Some(predictor),
+    )
 }
 
 /// Diagonal analysis of one observable from the window's `Aₙₙ` only.
@@ -213,6 +265,7 @@ pub fn analyze_window(
         window,
         window_label,
         dim,
+        None,
     )
 }
 
@@ -239,8 +292,53 @@ fn prediction_note(
     (!notes.is_empty()).then(|| notes.join("; "))
 }
 
+/// Predicted values at a bin's energy with their errors:
+/// `(microcanonical, β, canonical, (σ_β, σ_canonical, σ_microcanonical))`, from `ext` or
+/// from the stored states `e_cov`/`diag` (the canonical one only when they are all states).
+type BinPredictions = (
+    Option<f64>,
+    Option<f64>,
+    Option<f64>,
+    (Option<f64>, Option<f64>, Option<f64>),
+);
+
+fn bin_predictions(
+    ext: Option<&dyn Predictor>,
+    energies: &[f64],
+    e_cov: &[f64],
+    diag: &[f64],
+    all_states: bool,
+    energy: f64,
+    half_width: f64,
+) -> BinPredictions {
+    match ext {
+        Some(p) => {
+            let mc = p.microcanonical(energy, half_width);
+            let beta = p.beta(energy);
+            let can = beta.and_then(|b| p.canonical(b.0));
+            let errors = (
+                beta.and_then(|b| b.1),
+                can.and_then(|c| c.1),
+                mc.and_then(|m| m.1),
+            );
+            (mc.map(|m| m.0), beta.map(|b| b.0), can.map(|c| c.0), errors)
+        }
+        None => {
+            let mc = thermo::microcanonical_average(e_cov, diag, energy, half_width).map(|x| x.0);
+            let beta = thermo::beta_of_energy(energies, energy);
+            let canonical = if all_states {
+                beta.map(|b| thermo::canonical_average(energies, diag, b))
+            } else {
+                None
+            };
+            (mc, beta, canonical, (None, None, None))
+        }
+    }
+}
+
 /// Common body: `diag[k]` is `A_nn` of state `offset + k`; the predictions use every
-/// state `diag` covers (all of them when `offset = 0` and `diag.len() = n`).
+/// state `diag` covers (all of them when `offset = 0` and `diag.len() = n`), or `ext`.
+#[allow(clippy::too_many_arguments)]
 fn analyze_impl(
     name: &str,
     energies: &[f64],
@@ -249,6 +347,7 @@ fn analyze_impl(
     window: Range<usize>,
     window_label: &str,
     dim: Option<usize>,
+    ext: Option<&dyn Predictor>,
 ) -> Result<DiagonalResult> {
     let n = energies.len();
     let covered = offset..offset + diag.len();
@@ -298,7 +397,10 @@ fn analyze_impl(
         b.2 += a * a;
         b.3 += 1;
     }
-    let half_width = thermo::default_dos_width(energies);
+    let half_width = match ext {
+        Some(p) => p.half_width(),
+        None => thermo::default_dos_width(energies),
+    };
     let mut smooth = Vec::new();
     for (k, &(se, sa, saa, c)) in sums.iter().enumerate() {
         if c == 0 {
@@ -308,14 +410,8 @@ fn analyze_impl(
         let m = sa / cf;
         let stderr = (c >= 2).then(|| ((saa - cf * m * m).max(0.0) / (cf - 1.0) / cf).sqrt());
         let energy = se / cf;
-        let microcanonical =
-            thermo::microcanonical_average(e_cov, diag, energy, half_width).map(|x| x.0);
-        let beta = thermo::beta_of_energy(energies, energy);
-        let canonical = if all_states {
-            beta.map(|b| thermo::canonical_average(energies, diag, b))
-        } else {
-            None
-        };
+        let (microcanonical, beta, canonical, errors) =
+            bin_predictions(ext, energies, e_cov, diag, all_states, energy, half_width);
         smooth.push(SmoothBin {
             energy,
             energy_lo: elo + k as f64 * width,
@@ -326,6 +422,9 @@ fn analyze_impl(
             microcanonical,
             beta,
             canonical,
+            beta_stderr: errors.0,
+            canonical_stderr: errors.1,
+            microcanonical_stderr: errors.2,
         });
     }
     let smooth_of = |e: f64| -> f64 {
@@ -352,7 +451,10 @@ fn analyze_impl(
         })
     };
     let partial = dim.is_some_and(|d| n < d);
-    let note = prediction_note(partial, all_states, n, dim, diag.len());
+    let note = match ext {
+        Some(_) => None,
+        None => prediction_note(partial, all_states, n, dim, diag.len()),
+    };
     Ok(DiagonalResult {
         name: name.to_string(),
         window: window_label.to_string(),
@@ -378,6 +480,8 @@ fn analyze_impl(
             canonical: deviation(|b| b.canonical),
             partial_basis: partial,
             note,
+            thermo_source: ext.map_or(ThermoSource::Full, |p| p.source()),
+            thermo: ext.map(|p| p.describe()),
         },
         smooth,
     })

@@ -5,6 +5,7 @@ pub mod diagonal;
 pub mod ensemble;
 pub mod entanglement;
 pub mod gauge;
+pub mod kpm;
 pub mod levels;
 pub mod offdiagonal;
 pub mod quench;

@@ -159,6 +159,9 @@ pub struct OffdiagonalResult {
     pub plateau: Option<Plateau>,
     /// Gaussian width σ of the density of states used for `e^{S}`.
     pub dos_width: f64,
+    /// Source of `S(E)` in the rescaling `e^S`: `full` (the stored states), `kpm` or
+    /// `stored` ([`crate::analysis::thermo::ThermoSource`]).
+    pub thermo_source: thermo::ThermoSource,
 }
 
 /// Settings of the off-diagonal analysis.
@@ -247,6 +250,7 @@ pub struct Accumulator {
     omega_rule: String,
     spacing: f64,
     entropy: EntropyTable,
+    thermo_source: thermo::ThermoSource,
     field: Option<Field>,
     class: Option<ClassInfo>,
     diag: Vec<f64>,
@@ -263,6 +267,15 @@ pub struct Accumulator {
 }
 
 impl Accumulator {
+    /// Uses `S(E)` of another source (`predictor`: KPM or a stored spectrum) for the
+    /// rescaling `e^{S(Ē)}`, tabulated over the window with resolution `sigma`.
+    pub fn with_entropy(mut self, predictor: &dyn thermo::Predictor, sigma: f64) -> Accumulator {
+        let (lo, hi) = (self.entropy.lo, self.entropy.hi);
+        self.entropy = EntropyTable::from_fn(|e| predictor.entropy(e), lo, hi, sigma, 257);
+        self.thermo_source = predictor.source();
+        self
+    }
+
     /// New accumulator for the window `window` of the ascending spectrum `energies`
     /// (all available states: the density of states uses them all).
     pub fn new(
@@ -310,6 +323,7 @@ impl Accumulator {
             omega_rule,
             spacing,
             entropy,
+            thermo_source: thermo::ThermoSource::Full,
             field: None,
             class: opts.class.clone(),
             diag: Vec::new(),
@@ -490,6 +504,7 @@ impl Accumulator {
             envelope_log_below: self.log_below,
             plateau,
             dos_width: self.entropy.sigma,
+            thermo_source: self.thermo_source,
         })
     }
 }

@@ -15,6 +15,50 @@
 //!   `σ = (E_max − E_min)·max(0.02, 10/n)`: 2 % of the spectral width, widened for
 //!   small spectra so that about ten or more states fall within one σ.
 
+/// Where the thermal predictions (`S(E)`, `β(E)`, canonical and microcanonical averages)
+/// come from: the stored states (`full`), the kernel polynomial method on the stored
+/// Hamiltonian (`kpm`, [`crate::analysis::kpm`]), or a stored `spectrum` of every
+/// eigenvalue for `S(E)` and `β(E)` (`stored`; averages of observables then from the KPM).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ThermoSource {
+    /// The stored states.
+    Full,
+    /// Chebyshev moments of the stored Hamiltonian.
+    Kpm,
+    /// The stored `spectrum` dataset.
+    Stored,
+}
+
+impl std::fmt::Display for ThermoSource {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            ThermoSource::Full => "full",
+            ThermoSource::Kpm => "kpm",
+            ThermoSource::Stored => "stored",
+        })
+    }
+}
+
+/// Thermal predictions of one observable from a source other than its stored `Aₙₙ`
+/// (values with an error estimate where the source has one).
+pub trait Predictor {
+    /// The source, as reported.
+    fn source(&self) -> ThermoSource;
+    /// Half-width of the microcanonical shell (2 % of the spectral width of the source).
+    fn half_width(&self) -> f64;
+    /// `β(E)` solving `⟨H⟩_β = E`.
+    fn beta(&self, e: f64) -> Option<(f64, Option<f64>)>;
+    /// Canonical average `⟨A⟩_β`.
+    fn canonical(&self, beta: f64) -> Option<(f64, Option<f64>)>;
+    /// Microcanonical average over `|E' − e| ≤ half_width`.
+    fn microcanonical(&self, e: f64, half_width: f64) -> Option<(f64, Option<f64>)>;
+    /// `S(E) = ln ρ(E)`.
+    fn entropy(&self, e: f64) -> f64;
+    /// What the source is, in words.
+    fn describe(&self) -> String;
+}
+
 /// Largest |β| searched, in units of the inverse spectral width.
 const BETA_RANGE_WIDTHS: f64 = 1.0e3;
 
@@ -190,6 +234,26 @@ impl EntropyTable {
                 let e = lo + (hi - lo) * k as f64 / (points - 1) as f64;
                 entropy(energies, e, sigma)
             })
+            .collect();
+        EntropyTable {
+            lo,
+            hi,
+            sigma,
+            values,
+        }
+    }
+
+    /// Tabulates `S(E)` given by `entropy` (a density of states of resolution `sigma`).
+    pub fn from_fn(
+        entropy: impl Fn(f64) -> f64,
+        lo: f64,
+        hi: f64,
+        sigma: f64,
+        points: usize,
+    ) -> EntropyTable {
+        let points = points.max(2);
+        let values = (0..points)
+            .map(|k| entropy(lo + (hi - lo) * k as f64 / (points - 1) as f64))
             .collect();
         EntropyTable {
             lo,

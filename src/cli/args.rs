@@ -159,6 +159,35 @@ impl MemoryArg {
     }
 }
 
+/// Source of the thermal predictions (pipeline::thermal).
+#[derive(Debug, Clone, clap::Args)]
+pub struct ThermoArgs {
+    /// S(E), beta(E) and predictions from: full (stored states), kpm (kernel polynomial method on the stored hamiltonian), stored (the `spectrum` dataset), auto (partial bases: stored, else kpm, else full).
+    #[arg(long, value_name = "auto|full|kpm|stored", default_value = "auto")]
+    pub thermo: String,
+    /// Chebyshev moments N of the kernel polynomial method.
+    #[arg(long, value_name = "N", default_value_t = 512)]
+    pub kpm_moments: usize,
+    /// Random vectors R of the stochastic trace (0: exact trace over all basis vectors).
+    #[arg(long, value_name = "R", default_value_t = 32)]
+    pub kpm_vectors: usize,
+    /// Seed of the random vectors.
+    #[arg(long, value_name = "S", default_value_t = 1)]
+    pub kpm_seed: u64,
+}
+
+impl ThermoArgs {
+    /// The flags as typed.
+    pub fn flags(&self) -> flags::ThermoFlags {
+        flags::ThermoFlags {
+            thermo: Some(self.thermo.clone()),
+            kpm_moments: Some(self.kpm_moments),
+            kpm_vectors: Some(self.kpm_vectors),
+            kpm_seed: Some(self.kpm_seed),
+        }
+    }
+}
+
 /// Frequency cut of the low-ω statistics.
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct OmegaArg {

@@ -54,6 +54,7 @@ pub fn demo_request(files: Vec<PathBuf>) -> Result<StudyRequest> {
                 offdiagonal: Default::default(),
                 budget,
                 class: Default::default(),
+                thermo: Default::default(),
             },
             combine_sectors: false,
         },

@@ -2,7 +2,8 @@
 //! commands, resolved into an [`ElementsRequest`].
 
 use super::args::{
-    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs,
+    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, ThermoArgs,
+    WindowArgs,
 };
 use super::output;
 use crate::error::Result;
@@ -33,6 +34,9 @@ pub struct Common {
     /// Symmetry class.
     #[command(flatten)]
     pub class: ClassArg,
+    /// Thermal source.
+    #[command(flatten)]
+    pub thermo: ThermoArgs,
 }
 
 impl Common {
@@ -45,6 +49,7 @@ impl Common {
             energy_window: self.window.energy_window.clone(),
             observables: self.observables.observables.clone(),
             class: Some(self.class.class.clone()),
+            thermo: self.thermo.flags(),
         }
     }
 

@@ -60,6 +60,7 @@ impl Args {
             observables: self.perturbations.clone(),
             budget: self.memory.resolve()?,
             class: ClassChoice::Auto,
+            thermo: Default::default(),
         };
         Ok((req, GaugeOptions { cutoff, partners }))
     }

@@ -21,6 +21,12 @@ pub struct Args {
     /// Full width ΔE of the microcanonical shell [default: 5% of the spectral width].
     #[arg(long, value_name = "DE")]
     pub shell_width: Option<f64>,
+    /// Smallest weight of the state on the stored eigenstates (partial eigenbasis) for which its normalised projection is analyzed; below it the quench is refused.
+    #[arg(long, value_name = "W", default_value_t = crate::analysis::quench::DEFAULT_MIN_WINDOW_WEIGHT)]
+    pub min_window_weight: f64,
+    /// Analyze the normalised projection on the stored eigenstates whatever its weight.
+    #[arg(long)]
+    pub renormalise: bool,
     /// Memory budget.
     #[command(flatten)]
     pub memory: MemoryArg,
@@ -41,6 +47,8 @@ impl Args {
             observables: self.observables.observables.clone(),
             dynamics: self.dynamics.flags(),
             shell_width: self.shell_width,
+            min_window_weight: Some(self.min_window_weight),
+            renormalise: self.renormalise,
         }
     }
 

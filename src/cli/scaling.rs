@@ -1,7 +1,8 @@
 //! `eigentherm scaling`: finite-size scaling of the ETH figures across files and sectors.
 
 use super::args::{
-    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, WindowArgs,
+    ClassArg, InputArgs, JsonArg, MemoryArg, ObservableArgs, OmegaArg, SectorArg, ThermoArgs,
+    WindowArgs,
 };
 use super::output;
 use crate::error::Result;
@@ -35,6 +36,9 @@ pub struct PipelineArgs {
     /// Symmetry class.
     #[command(flatten)]
     pub class: ClassArg,
+    /// Thermal source.
+    #[command(flatten)]
+    pub thermo: ThermoArgs,
     /// Merge the sectors of one size into one row (default: fit each sector name apart).
     #[arg(long)]
     pub combine_sectors: bool,
@@ -52,6 +56,7 @@ impl PipelineArgs {
             levels_window: self.levels_window.clone(),
             omega_max: self.omega.omega_max,
             class: Some(self.class.class.clone()),
+            thermo: self.thermo.flags(),
             combine_sectors: self.combine_sectors,
         }
     }

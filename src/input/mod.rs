@@ -424,6 +424,55 @@ impl EigenFile {
         let raw = h5::read_real(&self.path, p, &ds)?;
         Ok(Spectrum::from_unsorted(raw))
     }
+    /// The optional `spectrum` dataset of a sector: every eigenvalue of the sector (no
+    /// vectors), for the thermodynamics of a partial eigenbasis; ascending. `Ok(None)` when
+    /// it is absent. It must be one-dimensional, finite and hold at least the sector's
+    /// `energies` count.
+    pub fn stored_spectrum(&self, sector: &Sector) -> Result<Option<Vec<f64>>> {
+        let p = discover::join(&sector.group, "spectrum");
+        if discover::kind(&self.path, &self.h5, &p)?.is_none() {
+            return Ok(None);
+        }
+        let ds = self
+            .h5
+            .dataset(&p)
+            .map_err(|e| h5::h5err(&self.path, &p, "cannot open dataset", e))?;
+        let shape = ds.shape();
+        if shape.len() != 1 {
+            return Err(Error::dataset(
+                &self.path,
+                p,
+                format!(
+                    "has shape {shape:?}; a one-dimensional dataset of eigenvalues is expected"
+                ),
+            ));
+        }
+        let need = 16.0 * limit::elements(&shape);
+        self.limit
+            .check(&self.path, &p, &shape, "float", need, "to read and sort")?;
+        h5::require_written(&self.path, &p, &ds)?;
+        let mut v = h5::read_real(&self.path, &p, &ds)?;
+        if let Some(k) = v.iter().position(|x| !x.is_finite()) {
+            return Err(Error::dataset(
+                &self.path,
+                p,
+                format!("eigenvalue {k} is not finite"),
+            ));
+        }
+        if v.len() < sector.n_states {
+            return Err(Error::dataset(
+                &self.path,
+                p,
+                format!(
+                    "holds {} eigenvalues, fewer than the {} stored energies",
+                    v.len(),
+                    sector.n_states
+                ),
+            ));
+        }
+        v.sort_by(f64::total_cmp);
+        Ok(Some(v))
+    }
     /// A reader of eigenvector columns in ascending-energy order, reading hyperslabs on demand.
     pub fn vectors(&self, sector: &Sector, spectrum: &Spectrum) -> Result<VectorReader> {
         let (layout, source) = self.layout(sector)?;

@@ -21,6 +21,7 @@ use super::Inputs;
 use crate::analysis::diagonal::{self, DiagonalResult};
 use crate::analysis::offdiagonal::{Accumulator, OffdiagonalOptions, OffdiagonalResult};
 use crate::analysis::sector::{ElementsOutput, SectorElements, Timing};
+use crate::analysis::thermo::ThermoSource;
 use crate::data::{ClassInfo, ColumnSource, Operator, Spectrum};
 use crate::error::{Context, Result};
 use crate::input::{EigenFile, Sector};
@@ -44,6 +45,8 @@ pub struct ElementsRequest {
     pub budget: Budget,
     /// How the symmetry class is chosen.
     pub class: ClassChoice,
+    /// Where the thermal predictions come from (`--thermo`, [`super::thermal`]).
+    pub thermo: super::thermal::ThermoRequest,
 }
 
 /// One open sector, handed by [`each_sector`] to a command's pass.
@@ -154,8 +157,17 @@ pub fn diagonal(
     each_sector(req, |w| {
         let refs = w.refs();
         let n = w.spectrum.len();
+        let t_th = Instant::now();
+        let th = super::thermal::sector_thermo(w.file, w.sector, &refs, &req.thermo, &req.budget)?;
+        let th_seconds = t_th.elapsed().as_secs_f64();
+        // predictions from another source need only the window's A_nn
+        let external = th.source != ThermoSource::Full;
         let which = policy.unwrap_or_else(|| {
-            project::auto_prediction_states(&refs, w.sector.dim.unwrap_or(0), n)
+            if external {
+                PredictionStates::Window
+            } else {
+                project::auto_prediction_states(&refs, w.sector.dim.unwrap_or(0), n)
+            }
         });
         let states = match which {
             PredictionStates::All => 0..n,
@@ -169,13 +181,27 @@ pub fn diagonal(
         w.timing.add_projector(&st);
         let t_an = Instant::now();
         let mut observables = Vec::new();
-        for ((name, _), d) in w.ops.iter().zip(&diags) {
+        for (k, ((name, _), d)) in w.ops.iter().zip(&diags).enumerate() {
             let e = &w.spectrum.energies;
-            let mut r = match which {
-                PredictionStates::All => {
+            let offset = match which {
+                PredictionStates::All => 0,
+                PredictionStates::Window => w.range.start,
+            };
+            let mut r = match (th.predictor(k), which) {
+                (Some(p), _) => diagonal::analyze_with(
+                    name,
+                    e,
+                    d,
+                    offset,
+                    w.range.clone(),
+                    &w.label,
+                    w.sector.dim,
+                    &p,
+                ),
+                (None, PredictionStates::All) => {
                     diagonal::analyze(name, e, d, w.range.clone(), &w.label, w.sector.dim)
                 }
-                PredictionStates::Window => {
+                (None, PredictionStates::Window) => {
                     diagonal::analyze_window(name, e, d, w.range.clone(), &w.label, w.sector.dim)
                 }
             }
@@ -189,7 +215,7 @@ pub fn diagonal(
             }
             observables.push(r);
         }
-        w.timing.analyze_seconds += t_an.elapsed().as_secs_f64();
+        w.timing.analyze_seconds += t_an.elapsed().as_secs_f64() + th_seconds;
         w.prediction_states = Some(which);
         Ok(observables)
     })
@@ -208,15 +234,27 @@ pub fn offdiagonal(
             ..opts.clone()
         };
         let opts = &opts;
+        let refs = w.refs();
+        let t_th = Instant::now();
+        let th = super::thermal::sector_thermo(w.file, w.sector, &refs, &req.thermo, &req.budget)?;
+        let th_seconds = t_th.elapsed().as_secs_f64();
         let mut accs = w
             .ops
             .iter()
-            .map(|(name, _)| {
-                Accumulator::new(name, &w.spectrum.energies, w.range.clone(), &w.label, opts)
+            .enumerate()
+            .map(|(k, (name, _))| {
+                let acc =
+                    Accumulator::new(name, &w.spectrum.energies, w.range.clone(), &w.label, opts)?;
+                Ok(match th.predictor(k) {
+                    Some(p) => {
+                        let sigma = th.resolution();
+                        acc.with_entropy(&p, sigma)
+                    }
+                    None => acc,
+                })
             })
             .collect::<Result<Vec<_>>>()
             .at(&path, &group)?;
-        let refs = w.refs();
         let mut st = project::StageTiming::default();
         project::for_each_block_timed(
             w.src.as_ref(),
@@ -239,7 +277,7 @@ pub fn offdiagonal(
             .map(Accumulator::finish)
             .collect::<Result<Vec<_>>>()
             .at(&path, &group)?;
-        w.timing.analyze_seconds += t_an.elapsed().as_secs_f64();
+        w.timing.analyze_seconds += t_an.elapsed().as_secs_f64() + th_seconds;
         Ok(observables)
     })
 }

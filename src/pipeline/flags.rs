@@ -13,6 +13,7 @@ use super::quench::QuenchRequest;
 use super::scaling::ScalingRequest;
 use super::sector::SectorSettings;
 use super::study::StudyRequest;
+use super::thermal::{ThermoChoice, ThermoRequest};
 use super::{Inputs, Layout, Overrides};
 use crate::analysis::levels::{LevelOptions, UnfoldMethod};
 use crate::analysis::offdiagonal::OffdiagonalOptions;
@@ -269,6 +270,38 @@ pub struct ElementsFlags {
     pub observables: Vec<String>,
     /// `--class`.
     pub class: Option<String>,
+    /// `--thermo` and the KPM parameters.
+    pub thermo: ThermoFlags,
+}
+
+/// The thermal source (`--thermo`, `--kpm-moments`, `--kpm-vectors`, `--kpm-seed`).
+#[derive(Debug, Clone, Default)]
+pub struct ThermoFlags {
+    /// `--thermo auto|full|kpm|stored` (default auto).
+    pub thermo: Option<String>,
+    /// `--kpm-moments N` (default 512).
+    pub kpm_moments: Option<usize>,
+    /// `--kpm-vectors R` (default 32; 0: exact trace).
+    pub kpm_vectors: Option<usize>,
+    /// `--kpm-seed S` (default 1).
+    pub kpm_seed: Option<u64>,
+}
+
+impl ThermoFlags {
+    /// The request of [`super::thermal`].
+    pub fn request(&self) -> Result<ThermoRequest> {
+        let d = ThermoRequest::default();
+        let choice = match &self.thermo {
+            Some(t) => ThermoChoice::parse(t)?,
+            None => d.choice,
+        };
+        ThermoRequest::new(
+            choice,
+            self.kpm_moments.unwrap_or(d.moments),
+            self.kpm_vectors.unwrap_or(d.vectors),
+            self.kpm_seed.unwrap_or(d.seed),
+        )
+    }
 }
 
 impl ElementsFlags {
@@ -285,6 +318,7 @@ impl ElementsFlags {
             observables: self.observables.clone(),
             budget: self.input.budget()?,
             class: class(self.class.as_deref())?,
+            thermo: self.thermo.request()?,
         })
     }
 }
@@ -352,6 +386,10 @@ pub struct QuenchFlags {
     pub dynamics: DynamicsFlags,
     /// `--shell-width DE` (default: 5 % of the spectral width).
     pub shell_width: Option<f64>,
+    /// `--min-window-weight W` (default [`quench::DEFAULT_MIN_WINDOW_WEIGHT`]).
+    pub min_window_weight: Option<f64>,
+    /// `--renormalise`.
+    pub renormalise: bool,
 }
 
 impl QuenchFlags {
@@ -377,6 +415,10 @@ impl QuenchFlags {
             opts: QuenchOptions {
                 shell_half_width: self.shell_width.map(|w| 0.5 * w),
                 drop_weight: dynamics.drop_weight,
+                min_window_weight: self
+                    .min_window_weight
+                    .unwrap_or(quench::DEFAULT_MIN_WINDOW_WEIGHT),
+                renormalise: self.renormalise,
                 ..QuenchOptions::default()
             },
             budget: self.input.budget()?,
@@ -403,6 +445,8 @@ pub struct ScalingFlags {
     pub omega_max: Option<f64>,
     /// `--class`.
     pub class: Option<String>,
+    /// `--thermo` and the KPM parameters.
+    pub thermo: ThermoFlags,
     /// `--combine-sectors`.
     pub combine_sectors: bool,
 }
@@ -428,6 +472,7 @@ impl ScalingFlags {
                 offdiagonal: offdiagonal(self.omega_max)?,
                 budget: self.input.budget()?,
                 class: class(self.class.as_deref())?,
+                thermo: self.thermo.request()?,
             },
             combine_sectors: self.combine_sectors,
         })

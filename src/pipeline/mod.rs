@@ -15,9 +15,11 @@
 //! the results; none prints or writes files (the command-line layer hands the results to
 //! [`crate::report`]). One file per job: [`levels`], [`elements`] (`diagonal` and
 //! `offdiagonal`, one per-sector loop; [`gauge`] uses the same loop; [`entanglement`]),
-//! [`sector`] (the whole per-sector pipeline of `scaling` and `study`), [`scaling`], [`quench`] (a state split over the sectors of one
-//! file), [`study`], [`inspect`] and [`demo`]; [`matrix`] gives one observable's window matrix to
-//! library callers. [`flags`] resolves options spelled as on the command line into these
+//! [`sector`] (the whole per-sector pipeline of `scaling` and `study`), [`scaling`], [`quench`]
+//! (a state split over the sectors of one file), [`study`], [`inspect`] and [`demo`];
+//! [`matrix`] gives one observable's window matrix to library callers; [`thermal`] resolves a
+//! sector's thermal source (`--thermo`: the stored states, the kernel polynomial method, a
+//! stored spectrum). [`flags`] resolves options spelled as on the command line into these
 //! requests, for the command line and the Python module alike.
 
 pub mod class;
@@ -34,6 +36,7 @@ pub mod quench;
 pub mod scaling;
 pub mod sector;
 pub mod study;
+pub mod thermal;
 
 pub use crate::input::{Layout, LayoutSource, Overrides};
 

@@ -452,6 +452,14 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
                 Stage::Eigenvectors => e.at(path, format!("{group}/eigenvectors")),
                 Stage::Observable(k) => e.at(path, obs_path(&job.observables[k])),
             })?;
+        let cap = quenches.first().map_or(1.0, |q| q.report.norm / weight);
+        if cap < opts.min_window_weight && !opts.renormalise {
+            return Err(Error::other(format!(
+                "the stored eigenstates hold only {cap:.4} of the state '{}' in sector '{}' (below --min-window-weight {}): the diagonal ensemble of the normalised projection is not the state's; refused (--renormalise analyzes it anyway)",
+                job.state, s.name, opts.min_window_weight
+            ))
+            .at(path, format!("{group}/eigenvectors")));
+        }
         let mut captured = None;
         for (k, sq) in quenches.into_iter().enumerate() {
             let cap = *captured.get_or_insert(sq.report.norm / weight);

@@ -36,6 +36,8 @@ pub struct SectorSettings {
     pub budget: Budget,
     /// How the symmetry class is chosen.
     pub class: ClassChoice,
+    /// Where the thermal predictions come from (`--thermo`, [`super::thermal`]).
+    pub thermo: super::thermal::ThermoRequest,
 }
 
 /// Runs the whole pipeline on one sector for the observables `names` (all when empty).
@@ -67,7 +69,11 @@ pub fn analyze_sector(
     let n = spectrum.len();
     let range = settings.window.indices(&spectrum.energies);
     let label = settings.window.label();
-    let policy = project::auto_prediction_states(&refs, sector.dim.unwrap_or(n), n);
+    let th =
+        super::thermal::sector_thermo(file, sector, &refs, &settings.thermo, &settings.budget)?;
+    // predictions from another source need only the window's A_nn
+    let auto = project::auto_prediction_states(&refs, sector.dim.unwrap_or(n), n);
+    let policy = th.prediction_states(auto);
     let diag_range = match policy {
         PredictionStates::All => 0..n,
         PredictionStates::Window => range.clone(),
@@ -77,10 +83,15 @@ pub fn analyze_sector(
     let mut accs: Vec<Option<Accumulator>> = ops
         .iter()
         .zip(notes.iter_mut())
-        .map(|((name, _), note)| {
+        .enumerate()
+        .map(|(k, ((name, _), note))| {
             let a = Accumulator::new(name, &spectrum.energies, range.clone(), &label, &off_opts);
             a.map_err(|e| note.push(format!("off-diagonal analysis skipped: {e}")))
                 .ok()
+                .map(|a| match th.predictor(k) {
+                    Some(p) => a.with_entropy(&p, th.resolution()),
+                    None => a,
+                })
         })
         .collect();
     let mut window_diag: Vec<Vec<f64>> = vec![vec![f64::NAN; range.len()]; ops.len()];
@@ -130,18 +141,16 @@ pub fn analyze_sector(
     };
 
     let mut observables = Vec::with_capacity(ops.len());
-    for (((name, _), d), (acc, mut note)) in ops.iter().zip(&diags).zip(accs.into_iter().zip(notes))
+    for (k, (((name, _), d), (acc, mut note))) in ops
+        .iter()
+        .zip(&diags)
+        .zip(accs.into_iter().zip(notes))
+        .enumerate()
     {
         let e = &spectrum.energies;
-        let diagonal = match policy {
-            PredictionStates::All => {
-                diagonal::analyze(name, e, d, range.clone(), &label, sector.dim)
-            }
-            PredictionStates::Window => {
-                diagonal::analyze_window(name, e, d, range.clone(), &label, sector.dim)
-            }
-        }
-        .at(path, group)?;
+        let (start, r) = (diag_range.start, range.clone());
+        let diagonal = diagonal_result(&th, k, policy, name, e, d, start, r, &label, sector.dim)
+            .at(path, group)?;
         let offdiagonal = acc.and_then(|a| {
             a.finish()
                 .map_err(|e| note.push(format!("off-diagonal analysis skipped: {e}")))
@@ -182,4 +191,26 @@ pub fn analyze_sector(
         levels,
         observables,
     })
+}
+
+/// The diagonal analysis of observable `k` with the sector's thermal source (`d[i]` is
+/// `A_nn` of state `start + i`).
+#[allow(clippy::too_many_arguments)]
+fn diagonal_result(
+    th: &super::thermal::SectorThermo,
+    k: usize,
+    policy: PredictionStates,
+    name: &str,
+    e: &[f64],
+    d: &[f64],
+    start: usize,
+    range: Range<usize>,
+    label: &str,
+    dim: Option<usize>,
+) -> Result<crate::analysis::diagonal::DiagonalResult> {
+    match (th.predictor(k), policy) {
+        (Some(p), _) => diagonal::analyze_with(name, e, d, start, range, label, dim, &p),
+        (None, PredictionStates::All) => diagonal::analyze(name, e, d, range, label, dim),
+        (None, PredictionStates::Window) => diagonal::analyze_window(name, e, d, range, label, dim),
+    }
 }

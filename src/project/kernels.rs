@@ -39,6 +39,10 @@ pub(crate) trait Elem: Copy + Send + Sync + Default + std::fmt::Debug + 'static 
     fn re(self) -> f64;
     /// The value as a complex number.
     fn to_c64(self) -> c64;
+    /// `self · s` for a real `s`.
+    fn scale(self, s: f64) -> Self;
+    /// A complex number as this type (the real part for `f64`).
+    fn from_c64(c: c64) -> Self;
     /// `dst = a · b`, parallel, into a preallocated output.
     fn product_into(
         dst: faer::MatMut<'_, Self>,
@@ -105,6 +109,12 @@ impl Elem for f64 {
     }
     fn to_c64(self) -> c64 {
         c64::new(self, 0.0)
+    }
+    fn scale(self, s: f64) -> Self {
+        self * s
+    }
+    fn from_c64(c: c64) -> Self {
+        c.re
     }
     fn product_into(dst: faer::MatMut<'_, f64>, a: MatRef<'_, f64>, b: MatRef<'_, f64>, par: Par) {
         matmul(dst, Accum::Replace, a, b, 1.0, par);
@@ -178,6 +188,12 @@ impl Elem for c64 {
     }
     fn to_c64(self) -> c64 {
         self
+    }
+    fn scale(self, s: f64) -> Self {
+        self * s
+    }
+    fn from_c64(c: c64) -> Self {
+        c
     }
     fn product_into(dst: faer::MatMut<'_, c64>, a: MatRef<'_, c64>, b: MatRef<'_, c64>, par: Par) {
         matmul(dst, Accum::Replace, a, b, c64::new(1.0, 0.0), par);

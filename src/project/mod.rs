@@ -47,9 +47,11 @@
 //! through; [`pairs`]: block pairs and whole windows; [`diagonal`]: diagonal elements and
 //! the prediction policy; [`kept`]: the passes of a quench (a state's coefficients with the
 //! diagonal elements, and the operators over the kept states); [`vectors`]: the eigenvectors
-//! themselves in column blocks (entanglement).
+//! themselves in column blocks (entanglement); [`chebyshev`]: Chebyshev moments of a stored
+//! Hamiltonian for the kernel polynomial method (no eigenvectors read).
 
 pub mod budget;
+pub mod chebyshev;
 pub mod diagonal;
 pub mod kept;
 mod kernels;

@@ -105,7 +105,19 @@ pub struct QuenchOptions {
     /// `A_KK`, and it tightens the bound when `|K|` is too large for exact eigenvalues.
     #[serde(skip)]
     pub operator_range: Option<(f64, f64)>,
+    /// Smallest fraction of a sector component's weight on the stored eigenstates (a
+    /// partial eigenbasis) for which its normalised projection is analyzed; below it the
+    /// diagonal-ensemble prediction is refused unless `renormalise`
+    /// ([`DEFAULT_MIN_WINDOW_WEIGHT`], `--min-window-weight`).
+    pub min_window_weight: f64,
+    /// Analyze the normalised projection whatever its weight (`--renormalise`).
+    pub renormalise: bool,
 }
+
+/// Default of [`QuenchOptions::min_window_weight`]: at least half of the state on the
+/// stored eigenstates (common practice, no source: below it the projection is mostly
+/// another state).
+pub const DEFAULT_MIN_WINDOW_WEIGHT: f64 = 0.5;
 
 impl Default for QuenchOptions {
     fn default() -> Self {
@@ -115,6 +127,8 @@ impl Default for QuenchOptions {
             degeneracy_tol: None,
             drop_weight: DEFAULT_DROP_WEIGHT,
             operator_range: None,
+            min_window_weight: DEFAULT_MIN_WINDOW_WEIGHT,
+            renormalise: false,
         }
     }
 }

@@ -81,6 +81,14 @@ pub fn diagonal_text(r: &ElementsOutput<DiagonalResult>) -> String {
                 dev(&p.microcanonical)
             );
             let _ = writeln!(t, "    A(E) - canonical at beta(E): {}", dev(&p.canonical));
+            let _ = writeln!(
+                t,
+                "    thermal source: {}{}",
+                p.thermo_source,
+                p.thermo
+                    .as_ref()
+                    .map_or(" (the stored states)".to_string(), |d| format!(": {d}"))
+            );
             if let Some(note) = &p.note {
                 let _ = writeln!(t, "    note: {note}");
             }
@@ -140,8 +148,8 @@ pub fn offdiagonal_text(r: &ElementsOutput<OffdiagonalResult>) -> String {
             }
             let _ = writeln!(
                 t,
-                "    envelope (log bins; |f|^2 = e^S |A|^2, DOS width {:.4}):",
-                o.dos_width
+                "    envelope (log bins; |f|^2 = e^S |A|^2, DOS width {:.4}, S(E) from {}):",
+                o.dos_width, o.thermo_source
             );
             let _ = writeln!(
                 t,

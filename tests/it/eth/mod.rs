@@ -5,4 +5,5 @@
 
 mod commands;
 mod elements;
+mod kpm;
 mod references;

@@ -151,6 +151,7 @@ fn complex_storage_and_eigenvector_phases_change_no_verdict() {
                 offdiagonal: Default::default(),
                 budget: eigentherm::project::Budget::new(1 << 30),
                 class: Default::default(),
+                thermo: Default::default(),
             },
             combine_sectors: false,
         };

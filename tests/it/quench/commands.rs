@@ -281,6 +281,7 @@ fn study_with_several_observables_matches_single_observable_runs() {
                     offdiagonal: Default::default(),
                     budget,
                     class: Default::default(),
+                    thermo: Default::default(),
                 },
                 combine_sectors: false,
             },

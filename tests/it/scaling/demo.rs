@@ -143,6 +143,7 @@ fn an_unresolved_symmetry_is_not_evidence() {
             offdiagonal: Default::default(),
             budget: eigentherm::project::Budget::new(1 << 30),
             class: Default::default(),
+            thermo: Default::default(),
         },
         combine_sectors: false,
     };
