@@ -22,7 +22,7 @@ use crate::analysis::diagonal::{self, DiagonalResult};
 use crate::analysis::offdiagonal::{Accumulator, OffdiagonalOptions, OffdiagonalResult};
 use crate::analysis::sector::{ElementsOutput, SectorElements, Timing};
 use crate::analysis::thermo::ThermoSource;
-use crate::data::{ClassInfo, ColumnSource, Operator, Spectrum};
+use crate::data::{ClassInfo, ColumnSource, Matrix, Operator, Spectrum};
 use crate::error::{Context, Result};
 use crate::input::{EigenFile, Sector};
 use crate::project::{self, Budget, PredictionStates};
@@ -74,6 +74,28 @@ pub struct SectorWork<'a> {
 }
 
 impl SectorWork<'_> {
+    /// One pass over the block pairs `A_IJ` of the states `rows` for every operator at once
+    /// ([`project::for_each_block_timed`] under `budget`), each operator's block handed to
+    /// `add` with the operator's index; the projector's stage times go into `timing`.
+    pub fn block_pass(
+        &mut self,
+        rows: Range<usize>,
+        budget: &Budget,
+        mut add: impl FnMut(usize, &project::BlockPair, &Matrix) -> Result<()>,
+    ) -> Result<()> {
+        let mut st = project::StageTiming::default();
+        let refs = self.refs();
+        project::for_each_block_timed(self.src.as_ref(), &refs, rows, budget, &mut st, |blk| {
+            for (k, m) in blk.elements.iter().enumerate() {
+                add(k, blk, m)?;
+            }
+            Ok(())
+        })
+        .at(self.file.path(), self.group())?;
+        self.timing.add_projector(&st);
+        Ok(())
+    }
+
     /// The operators, in order.
     pub fn refs(&self) -> Vec<&Operator> {
         self.ops.iter().map(|(_, o)| o).collect()
@@ -255,22 +277,8 @@ pub fn offdiagonal(
             })
             .collect::<Result<Vec<_>>>()
             .at(&path, &group)?;
-        let mut st = project::StageTiming::default();
-        project::for_each_block_timed(
-            w.src.as_ref(),
-            &refs,
-            w.range.clone(),
-            &req.budget,
-            &mut st,
-            |blk| {
-                for (acc, m) in accs.iter_mut().zip(&blk.elements) {
-                    acc.add_block(blk, m)?;
-                }
-                Ok(())
-            },
-        )
-        .at(&path, &group)?;
-        w.timing.add_projector(&st);
+        let rows = w.range.clone();
+        w.block_pass(rows, &req.budget, |k, blk, m| accs[k].add_block(blk, m))?;
         let t_an = Instant::now();
         let observables = accs
             .into_iter()

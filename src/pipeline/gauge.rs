@@ -11,7 +11,6 @@ use super::elements::{each_sector, ElementsRequest};
 use crate::analysis::gauge::{GaugeAccumulator, GaugeOptions, GaugeResult};
 use crate::analysis::sector::ElementsOutput;
 use crate::error::{Context, Result};
-use crate::project;
 use std::time::Instant;
 
 /// `eigentherm gauge`: `χₙ(μ)` and `Fₙ` of the window states for every requested
@@ -40,23 +39,7 @@ pub fn gauge(req: &ElementsRequest, opts: &GaugeOptions) -> Result<ElementsOutpu
             Some(a) => a.partner_range(),
             None => return Ok(Vec::new()),
         };
-        let refs = w.refs();
-        let mut st = project::StageTiming::default();
-        project::for_each_block_timed(
-            w.src.as_ref(),
-            &refs,
-            partners,
-            &req.budget,
-            &mut st,
-            |blk| {
-                for (acc, m) in accs.iter_mut().zip(&blk.elements) {
-                    acc.add_block(blk, m)?;
-                }
-                Ok(())
-            },
-        )
-        .at(&path, &group)?;
-        w.timing.add_projector(&st);
+        w.block_pass(partners, &req.budget, |k, blk, m| accs[k].add_block(blk, m))?;
         let t_an = Instant::now();
         let out = accs
             .into_iter()
