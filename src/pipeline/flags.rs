@@ -1,7 +1,7 @@
 //! Options as the command line spells them — strings and numbers as typed, `None` for a
 //! flag not given — and their one resolution into the pipeline's requests
 //! ([`LevelsRequest`], [`ElementsRequest`], [`QuenchRequest`], [`ScalingRequest`],
-//! [`StudyRequest`]). The command line (clap, in `src/cli/`) and the Python module
+//! [`StudyRequest`]). The command line (`src/cli/`) and the Python module
 //! (`python/`) both fill these structs, so that every value is checked and defaulted in one
 //! place and a bad value gives the same one-line error from both (`--window 0.9:0.1: ...`).
 //! Messages name the command-line flag.

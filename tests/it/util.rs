@@ -1,4 +1,7 @@
 //! File writers shared by the modules of the suite.
+//!
+//! It checks no values (common practice, no source): the model parameters below are the
+//! demo's chosen couplings, not reference values; each check names its source where it is made.
 
 use eigentherm::model::{build_chain, write_file, Boundary, ChainModel, ChainSpec, Reflection};
 use std::path::{Path, PathBuf};

@@ -1,4 +1,7 @@
 //! The report layer: tables, figures, the HTML page.
+//!
+//! This file only declares test modules and checks no values (common practice, no source);
+//! each check names its source beside it in the module that makes it.
 
 mod html;
 mod plot;
