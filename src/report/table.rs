@@ -349,7 +349,17 @@ impl Table {
     }
 }
 
+/// One CSV field. Text that a spreadsheet would evaluate as a formula (leading `=`, `+`,
+/// `-`, `@`, tab or carriage return, for example a `model` attribute `=HYPERLINK(...)`) gets a
+/// leading apostrophe, so it is shown as text; numbers never pass through here.
 fn csv_field(s: &str) -> String {
+    if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        return csv_quoted(&format!("'{s}"));
+    }
+    csv_quoted(s)
+}
+
+fn csv_quoted(s: &str) -> String {
     if s.contains([',', '"', '\n', '\r']) {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {

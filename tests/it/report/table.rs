@@ -157,3 +157,22 @@ fn html_table_escapes() {
         .push_row(vec![Cell::Empty, Cell::Empty])
         .is_err());
 }
+
+#[test]
+fn csv_text_that_looks_like_a_formula_stays_text() {
+    // OWASP "CSV Injection" guidance (from memory): prefix cells starting with = + - @ (or
+    // tab, CR) with an apostrophe. Numbers, including negative ones, are written unchanged.
+    let mut t = Table::new(vec![
+        Column::new("model", "Model"),
+        Column::new("value", "Value"),
+    ]);
+    t.push_row(vec!["=HYPERLINK(\"x\",\"y\")".into(), (-0.5).into()])
+        .unwrap();
+    t.push_row(vec!["@sum".into(), (-2i64).into()]).unwrap();
+    t.push_row(vec!["plain-name".into(), 1.5.into()]).unwrap();
+    let csv = t.to_csv();
+    let lines: Vec<&str> = csv.lines().collect();
+    assert_eq!(lines[1], "\"'=HYPERLINK(\"\"x\"\",\"\"y\"\")\",-0.5");
+    assert_eq!(lines[2], "'@sum,-2");
+    assert_eq!(lines[3], "plain-name,1.5");
+}
