@@ -170,21 +170,92 @@ pub fn check_basis(
     tolerance: f64,
     limit: &Limit,
 ) -> Result<OrthoCheck> {
-    let mut c = orthonormality(src, sample, tolerance)?;
+    match cross_probe(src, sample, tolerance)? {
+        Probed::Done(c) => Ok(c),
+        Probed::Cross(p) => {
+            let cross = cross_overlap(src, &p.idx, limit)?;
+            Ok(p.finish_with(cross))
+        }
+    }
+}
+
+/// The first half of [`check_basis`]: [`orthonormality`] on `sample` states; when it
+/// passes and not every state was sampled, the [`CROSS_SAMPLE`] states still to be
+/// checked against every stored state, read.
+pub fn cross_probe(src: &dyn ColumnSource, sample: usize, tolerance: f64) -> Result<Probed> {
+    let c = orthonormality(src, sample, tolerance)?;
     let n = src.n_states();
     if !c.pass || c.sample >= n {
-        return Ok(c);
+        return Ok(Probed::Done(c));
     }
     let idx = sample_indices(n, CROSS_SAMPLE.min(c.sample));
-    let cross = cross_overlap(src, &idx, limit)?;
-    c.cross = idx.len();
-    c.max_error = if cross.is_nan() {
-        f64::INFINITY
-    } else {
-        c.max_error.max(cross)
-    };
-    c.pass = c.max_error <= tolerance;
-    Ok(c)
+    let columns = read_sample(src, &idx)?;
+    Ok(Probed::Cross(CrossProbe {
+        idx,
+        columns,
+        check: c,
+    }))
+}
+
+/// What [`cross_probe`] found.
+#[derive(Debug)]
+pub enum Probed {
+    /// The check is complete (failed on the sample, or every state was sampled).
+    Done(OrthoCheck),
+    /// The sample passed; these states are still to be checked against every state.
+    Cross(CrossProbe),
+}
+
+/// The sampled states of the second half of [`check_basis`], for a pass over the stored
+/// states that forms their overlaps `⟨v_j|v_a⟩` (`j` every stored state, `a` in `idx`)
+/// on the way, e.g. the coefficients of a quench's state pass.
+#[derive(Debug)]
+pub struct CrossProbe {
+    /// Indices of the probe states.
+    pub idx: Vec<usize>,
+    /// The probe states `v_a`, `[dim, idx.len()]`.
+    pub columns: Mat<c64>,
+    check: OrthoCheck,
+}
+
+impl CrossProbe {
+    /// The completed check from the overlaps `overlaps[(j, a)] = ⟨v_j|v_a⟩` of every stored
+    /// state `j` with the probe states (`[n, idx.len()]`).
+    pub fn finish(&self, overlaps: faer::MatRef<'_, c64>) -> OrthoCheck {
+        let cross = worst_overlap(overlaps, 0, &self.idx);
+        self.finish_with(cross)
+    }
+
+    fn finish_with(&self, cross: f64) -> OrthoCheck {
+        let mut c = self.check.clone();
+        c.cross = self.idx.len();
+        c.max_error = if cross.is_nan() {
+            f64::INFINITY
+        } else {
+            c.max_error.max(cross)
+        };
+        c.pass = c.max_error <= c.tolerance;
+        c
+    }
+}
+
+/// `max |g[(j − j0, a)]|` over the rows `j` (offset by `j0`) not in `idx` and all columns
+/// `a`; NaN when an entry is NaN.
+fn worst_overlap(g: faer::MatRef<'_, c64>, j0: usize, idx: &[usize]) -> f64 {
+    let mut worst = 0.0f64;
+    for r in 0..g.nrows() {
+        if idx.contains(&(j0 + r)) {
+            continue;
+        }
+        for a in 0..g.ncols() {
+            let x = g[(r, a)].norm();
+            if x.is_nan() {
+                return f64::NAN;
+            }
+            worst = worst.max(x);
+        }
+    }
+    worst
 }
 
 /// `max |⟨v_a|v_j⟩|` over the states `a` of `idx` and every stored state `j` not in
@@ -206,19 +277,12 @@ pub fn cross_overlap(src: &dyn ColumnSource, idx: &[usize], limit: &Limit) -> Re
     while j0 < n {
         let j1 = (j0 + width).min(n);
         let block = src.read(j0..j1)?.to_complex();
-        let g = sample.adjoint() * &block;
-        for j in j0..j1 {
-            if idx.contains(&j) {
-                continue;
-            }
-            for a in 0..idx.len() {
-                let x = g[(a, j - j0)].norm();
-                worst = if x.is_nan() { f64::NAN } else { worst.max(x) };
-            }
+        let g = block.adjoint() * &sample;
+        let w = worst_overlap(g.as_ref(), j0, idx);
+        if w.is_nan() {
+            return Ok(w);
         }
-        if worst.is_nan() {
-            return Ok(worst);
-        }
+        worst = worst.max(w);
         j0 = j1;
     }
     Ok(worst)
@@ -312,6 +376,36 @@ pub fn require_orthonormal(
 ) -> Result<OrthoCheck> {
     let k = sample_within(file.limit(), src.dim());
     let c = check_basis(src, k, ortho_tolerance(sector), file.limit())?;
+    refuse_failed(file, sector, c)
+}
+
+/// The first half of [`require_orthonormal`] ([`cross_probe`]): refuses a basis whose
+/// sample fails; the probe, when the cross check is still to be done by the caller's pass
+/// (then [`require_probe`]).
+pub fn require_sample(
+    file: &EigenFile,
+    sector: &Sector,
+    src: &dyn ColumnSource,
+) -> Result<Option<CrossProbe>> {
+    let k = sample_within(file.limit(), src.dim());
+    match cross_probe(src, k, ortho_tolerance(sector))? {
+        Probed::Done(c) => refuse_failed(file, sector, c).map(|_| None),
+        Probed::Cross(p) => Ok(Some(p)),
+    }
+}
+
+/// The second half of [`require_orthonormal`]: refuses the basis when the overlaps of
+/// every stored state with the probe states (`[n, probe.idx.len()]`) fail.
+pub fn require_probe(
+    file: &EigenFile,
+    sector: &Sector,
+    probe: &CrossProbe,
+    overlaps: faer::MatRef<'_, c64>,
+) -> Result<OrthoCheck> {
+    refuse_failed(file, sector, probe.finish(overlaps))
+}
+
+fn refuse_failed(file: &EigenFile, sector: &Sector, c: OrthoCheck) -> Result<OrthoCheck> {
     if !c.pass {
         return Err(Error::dataset(
             file.path(),

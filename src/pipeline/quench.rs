@@ -18,6 +18,7 @@ use crate::analysis::quench::{
 };
 use crate::data::{c64, ColumnSource, Csr, Operator};
 use crate::error::{escape, Error, Result};
+use crate::input::validate::{self, CrossProbe};
 use crate::input::{EigenFile, Overrides, Sector};
 use crate::project::{self, Budget, StageTiming};
 use std::path::Path;
@@ -310,6 +311,9 @@ pub struct SectorInput<'a> {
     pub ops: &'a [&'a Operator],
     /// The state in the sector's computational basis.
     pub psi: &'a [c64],
+    /// The second half of the input check of the eigenvectors (file, sector and the probe
+    /// states of [`crate::input::validate::require_sample`]), done on the state pass's way.
+    pub check: Option<(&'a EigenFile, &'a Sector, &'a CrossProbe)>,
 }
 
 /// What an error of [`quench_sector`] concerns.
@@ -319,6 +323,8 @@ pub enum Stage {
     Eigenvectors,
     /// The analysis of the operator with this index.
     Observable(usize),
+    /// An error that already names its file and dataset (the input check).
+    Located,
 }
 
 /// One sector's quench for every operator of `input`: the state pass
@@ -344,8 +350,13 @@ pub fn quench_sector(
         ))));
     }
     let mut timing = StageTiming::default();
-    let mut pass =
-        project::state_pass(src, input.ops, input.psi, budget, &mut timing).map_err(vec_err)?;
+    let probe = input.check.map(|(_, _, p)| p.columns.as_ref());
+    let mut pass = project::state_pass(src, input.ops, (input.psi, probe), budget, &mut timing)
+        .map_err(vec_err)?;
+    if let Some((file, sector, probe)) = input.check {
+        validate::require_probe(file, sector, probe, pass.probe_overlaps.as_ref())
+            .map_err(|e| (Stage::Located, e))?;
+    }
     let weights: Vec<f64> = pass.coefficients.iter().map(|c| c.norm_sqr()).collect();
     let kept = quench::kept_states(&weights, opts.drop_weight);
     let matrices = project::kept_matrices(
@@ -428,7 +439,8 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
         let group = s.group.trim_end_matches('/');
         let spectrum = file.spectrum(s)?;
         let vectors = file.vectors(s, &spectrum)?;
-        crate::input::validate::require_orthonormal(&file, s, &vectors)?;
+        // the sample now, the rest of the check on the state pass's way
+        let probe = validate::require_sample(&file, s, &vectors)?;
         let obs_path = |name: &str| format!("{group}/observables/{name}");
         let mut ops = Vec::with_capacity(nobs);
         for name in job.observables {
@@ -445,12 +457,14 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
             energies: &spectrum.energies,
             ops: &refs,
             psi: &c,
+            check: probe.as_ref().map(|p| (&file, s, p)),
         };
         // errors of the shared passes concern the eigenvectors (the operators are checked)
         let quenches =
             quench_sector(&input, &times, opts, &job.budget).map_err(|(st, e)| match st {
                 Stage::Eigenvectors => e.at(path, format!("{group}/eigenvectors")),
                 Stage::Observable(k) => e.at(path, obs_path(&job.observables[k])),
+                Stage::Located => e,
             })?;
         let cap = quenches.first().map_or(1.0, |q| q.report.norm / weight);
         if cap < opts.min_window_weight && !opts.renormalise {

@@ -6,7 +6,9 @@
 //! ([`super::diagonal`]) gives, block by block, the coefficients `c_B = V_Bᴴ ψ` (one dot
 //! product per eigenvector, parallel with the budget's parallelism) and the diagonal elements
 //! `Aₙₙ = Re vₙᴴ A vₙ` of every operator (the kernels of the diagonal pass; operators stored
-//! in the energy basis: their diagonal, read off).
+//! in the energy basis: their diagonal, read off). On the way it forms the overlaps
+//! `V_Bᴴ S` with a few probe columns `S` when the caller gives them (the states the input
+//! check compares with every stored state), so that check needs no pass of its own.
 //!
 //! **Kept-state matrices** ([`kept_matrices`]). For the kept states `K` (strictly ascending
 //! indices, chosen by the caller from `|cₙ|²`) and every operator,
@@ -50,12 +52,13 @@
 //! prefers the path that reads and multiplies least: resident reads nothing more, gathered
 //! reads the kept blocks once and multiplies `dim·K²`, pairs re-reads blocks and multiplies
 //! `dim·W² ≥ dim·K²`. The panels are about [`KEPT_PANEL_BYTES`] of eigenvector columns
-//! wide (`budget.block` when it is set): wider panels save no flops. Operators stored in the
+//! wide (`budget.block` when it is set): wider panels add `dim·K·w` flops but run the
+//! products at a higher rate (see the constant). Operators stored in the
 //! energy basis are sliced, `A_KK[a, b] = A[k_a, k_b]`, into panels of their own.
 
 use super::budget::{human_bytes, Budget};
 use super::diagonal::{diag_stream, DIAG_BLOCK_BYTES};
-use super::kernels::{adj_vec, apply_into, check_inputs, elem_size, prepare, Elem};
+use super::kernels::{adj_vec, apply_into, check_inputs, elem_size, prepare, Elem, Probe};
 use super::pairs::for_each_block_timed;
 use super::stream::{blocks, with_prefetch, StageTiming};
 use super::BlockPair;
@@ -66,9 +69,13 @@ use serde::Serialize;
 use std::borrow::Cow;
 use std::ops::Range;
 
-/// Bytes of eigenvector columns per panel of the kept-state matrices (4 MiB): the panel
-/// width is `KEPT_PANEL_BYTES / (dim·s)`, at least [`MIN_PANEL`] states.
-pub const KEPT_PANEL_BYTES: usize = 4 << 20;
+/// Bytes of eigenvector columns per panel of the kept-state matrices (16 MiB): the panel
+/// width is `KEPT_PANEL_BYTES / (dim·s)`, at least [`MIN_PANEL`] states. The panel width is
+/// the inner dimension of the time trace's products and the column count of the products
+/// here; faer's rate grows with it up to a few hundred columns (measured on this project's
+/// 2-core bench machine: `aᵀb` with 3432 rows at 82 GFLOP/s for 152 columns, 104 GFLOP/s for
+/// 512), so the panels of a 3432-state real sector are 611 states wide.
+pub const KEPT_PANEL_BYTES: usize = 16 << 20;
 
 /// Narrowest panel of the kept-state matrices (unless `budget.block` sets one).
 pub const MIN_PANEL: usize = 32;
@@ -96,6 +103,9 @@ pub struct StatePass {
     pub coefficients: Vec<c64>,
     /// `Aₙₙ` of all states, one vector per operator, in the order of the operators.
     pub diagonals: Vec<Vec<f64>>,
+    /// `Vᴴ S` (`[n, q]`) for the probe columns `S` given to [`state_pass`] (`q = 0`
+    /// without them).
+    pub probe_overlaps: Mat<c64>,
     resident: Vec<(Range<usize>, Matrix)>,
 }
 
@@ -154,18 +164,19 @@ fn matrix_bytes(k: usize, w: usize, field: Field) -> f64 {
 }
 
 /// The state pass of the module doc: coefficients `cₙ = vₙᴴ ψ` of the state `psi`
-/// (length `src.dim()`) and the diagonal elements of every operator of `ops`, for all
-/// states, in one pass through the stream under `budget`; the blocks are kept for
+/// (length `src.dim()`), the overlaps `Vᴴ S` with the probe columns `probe` (`[dim, q]`,
+/// `q` small; `None` for none) and the diagonal elements of every operator of `ops`, for
+/// all states, in one pass through the stream under `budget`; the blocks are kept for
 /// [`kept_matrices`] when the resident rule of the module doc allows.
 pub fn state_pass(
     src: &dyn ColumnSource,
     ops: &[&Operator],
-    psi: &[c64],
+    (psi, probe): (&[c64], Option<MatRef<'_, c64>>),
     budget: &Budget,
     timing: &mut StageTiming,
 ) -> Result<StatePass> {
     let (dim, n) = (src.dim(), src.n_states());
-    if psi.len() != dim {
+    if psi.len() != dim || probe.is_some_and(|p| p.nrows() != dim) {
         return Err(Error::other(format!(
             "the state has length {} but the eigenvectors have dimension {dim}",
             psi.len()
@@ -181,9 +192,10 @@ pub fn state_pass(
     let resident_bytes =
         (dim * n * s) as f64 + others * matrix_bytes(n, w, field) + ((dim + n) * w * s) as f64;
     let keep = !vector_ops.is_empty() && resident_bytes <= budget.bytes as f64;
-    let (coefficients, streamed, resident) = match field {
-        Field::Real => state_stream::<f64>(src, &vector_ops, psi, budget, timing, keep)?,
-        Field::Complex => state_stream::<c64>(src, &vector_ops, psi, budget, timing, keep)?,
+    let states = (psi, probe);
+    let (coefficients, probe_overlaps, streamed, resident) = match field {
+        Field::Real => state_stream::<f64>(src, &vector_ops, states, budget, timing, keep)?,
+        Field::Complex => state_stream::<c64>(src, &vector_ops, states, budget, timing, keep)?,
     };
     let mut streamed = streamed.into_iter();
     let mut diagonals = Vec::with_capacity(ops.len());
@@ -199,6 +211,7 @@ pub fn state_pass(
     Ok(StatePass {
         coefficients,
         diagonals,
+        probe_overlaps,
         resident,
     })
 }
@@ -206,22 +219,31 @@ pub fn state_pass(
 /// Eigenvector blocks of the pass's element type, with the states they hold.
 type Blocks = Vec<(Range<usize>, Matrix)>;
 
+/// What the state pass streams out: coefficients, probe overlaps, diagonals, kept blocks.
+type Streamed = (Vec<c64>, Mat<c64>, Vec<Vec<f64>>, Blocks);
+
 /// The state pass for one element type.
 fn state_stream<T: Elem>(
     src: &dyn ColumnSource,
     vector_ops: &[&Operator],
-    psi: &[c64],
+    (psi, probe): (&[c64], Option<MatRef<'_, c64>>),
     budget: &Budget,
     timing: &mut StageTiming,
     keep: bool,
-) -> Result<(Vec<c64>, Vec<Vec<f64>>, Blocks)> {
+) -> Result<Streamed> {
     let n = src.n_states();
     let prepared = prepare::<T>(vector_ops)?;
+    let probe = probe.map(Probe::<T>::new);
+    let mut overlaps = Mat::<c64>::zeros(n, probe.as_ref().map_or(0, |p| p.ncols()));
     let mut coefficients = Vec::with_capacity(n);
     let mut kept_blocks: Blocks = Vec::new();
     let par = budget.par;
     let mut consumer = |r: &Range<usize>, v: Mat<T>| -> Result<Option<Mat<T>>> {
         coefficients.extend(adj_vec(v.as_ref(), psi, par));
+        if let Some(p) = &probe {
+            let g = p.overlaps(v.as_ref(), par);
+            copy_into(overlaps.as_mut().subrows_mut(r.start, r.len()), g.as_ref());
+        }
         if keep {
             kept_blocks.push((r.clone(), T::wrap(v)));
             Ok(None)
@@ -236,7 +258,7 @@ fn state_stream<T: Elem>(
             coefficients.len()
         )));
     }
-    Ok((coefficients, diagonals, kept_blocks))
+    Ok((coefficients, overlaps, diagonals, kept_blocks))
 }
 
 /// The kept-state matrices `A_KK` of every operator of `ops` (those given to
@@ -740,7 +762,7 @@ mod tests {
     ) -> Result<(Vec<HermitianPanels>, KeptPath)> {
         let psi = vec![c64::new(1.0, 0.0); src.dim()];
         let mut t = StageTiming::default();
-        let mut pass = state_pass(src, ops, &psi, budget, &mut t)?;
+        let mut pass = state_pass(src, ops, (&psi, None), budget, &mut t)?;
         let kept = kept_matrices(src, ops, kept, &mut pass, budget, &mut t)?;
         Ok((kept.matrices, kept.path))
     }
@@ -783,7 +805,7 @@ mod tests {
             let pass = state_pass(
                 &src,
                 &[op],
-                &psi,
+                (&psi, None),
                 &Budget::default(),
                 &mut StageTiming::default(),
             )
@@ -840,7 +862,7 @@ mod tests {
         let pass = state_pass(
             &src,
             &[&dense],
-            &psi,
+            (&psi, None),
             &with(1 << 30, 6),
             &mut StageTiming::default(),
         )
@@ -933,7 +955,7 @@ mod tests {
         for budget in [Budget::new(1 << 30), Budget::new(12_000)] {
             src.columns.store(0, std::sync::atomic::Ordering::Relaxed);
             let mut t = StageTiming::default();
-            let mut pass = state_pass(&src, &refs, &psi, &budget, &mut t).unwrap();
+            let mut pass = state_pass(&src, &refs, (&psi, None), &budget, &mut t).unwrap();
             let all = kept_matrices(&src, &refs, &kept, &mut pass, &budget, &mut t).unwrap();
             let reads = src.columns.load(std::sync::atomic::Ordering::Relaxed);
             match all.path {
@@ -945,7 +967,7 @@ mod tests {
             }
             for (o, op) in refs.iter().enumerate() {
                 let mut t = StageTiming::default();
-                let mut one = state_pass(&src.m, &[op], &psi, &budget, &mut t).unwrap();
+                let mut one = state_pass(&src.m, &[op], (&psi, None), &budget, &mut t).unwrap();
                 let single =
                     kept_matrices(&src.m, &[op], &kept, &mut one, &budget, &mut t).unwrap();
                 for (a, b) in one.coefficients.iter().zip(&pass.coefficients) {
@@ -975,7 +997,7 @@ mod tests {
         assert!(state_pass(
             &src,
             &[&ok],
-            &[c64::new(1.0, 0.0); 3],
+            (&[c64::new(1.0, 0.0); 3], None),
             &Budget::default(),
             &mut t
         )

@@ -23,6 +23,7 @@ fn quench_sector(
         energies,
         ops: &ops,
         psi,
+        check: None,
     };
     eigentherm::pipeline::quench::quench_sector(&input, times, opts, &Budget::default())
         .map_err(|(_, e)| e)
