@@ -146,10 +146,10 @@ pub struct Page {
 const CSS: &str = "\
 body{font-family:sans-serif;max-width:1100px;margin:1.5em auto;padding:0 1em;color:#222;line-height:1.4}\
 h1{font-size:1.6em;margin-bottom:.2em}h2{border-bottom:1px solid #ccc;padding-bottom:.2em;margin-top:1.6em}\
-table{border-collapse:collapse;margin:.8em 0;font-size:.95em}\
+table{border-collapse:collapse;margin:.8em 0;font-size:.95em;display:block;overflow-x:auto;max-width:100%}\
 caption{text-align:left;font-weight:bold;padding-bottom:.3em}\
 th,td{padding:.25em .7em;border-bottom:1px solid #ddd;text-align:left}\
-th{border-bottom:2px solid #888}td.num,th.num{text-align:right;font-variant-numeric:tabular-nums}\
+th{border-bottom:2px solid #888}td.num,th.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}\
 figure{display:inline-block;margin:.6em 1em .6em 0;vertical-align:top;max-width:100%}\
 figure svg{max-width:100%;height:auto;border:1px solid #eee}\
 figcaption{font-size:.9em;color:#444;max-width:480px}\

@@ -452,15 +452,18 @@ impl Figure {
         let mut chart = builder
             .build_cartesian_2d(x_spec, y_spec)
             .map_err(|x| e(&x))?;
-        let fmt = |v: &f64| tick_label(*v);
+        let span = |r: std::ops::Range<f64>, log: bool| if log { 0.0 } else { r.end - r.start };
+        let (xs, ys) = (span(chart.x_range(), xlog), span(chart.y_range(), ylog));
+        let fmt_x = |v: &f64| tick_label(*v, xs);
+        let fmt_y = |v: &f64| tick_label(*v, ys);
         chart
             .configure_mesh()
             .x_desc(self.x_label.as_str())
             .y_desc(self.y_label.as_str())
             .x_labels(6)
             .y_labels(6)
-            .x_label_formatter(&fmt)
-            .y_label_formatter(&fmt)
+            .x_label_formatter(&fmt_x)
+            .y_label_formatter(&fmt_y)
             .label_style(("sans-serif", TICK_FONT))
             .axis_desc_style(("sans-serif", LABEL_FONT))
             .light_line_style(WHITE)
@@ -813,10 +816,18 @@ fn auto_range(v: &[f64], log: bool) -> Option<(f64, f64)> {
     }
 }
 
+/// Relative size, against the span of a linear axis, below which a tick value is zero.
+const TICK_ZERO: f64 = 1e-9;
+
 /// Tick label: [`crate::report::table::format_value`] (4 significant digits, trailing zeros
-/// removed, scientific outside `[10⁻³, 10⁵)`).
-fn tick_label(v: f64) -> String {
-    // Ticks at multiples of a step can carry rounding noise (0.30000000000000004).
+/// removed, scientific outside `[10⁻³, 10⁵)`) of `v`, or `0` when `|v|` is below
+/// [`TICK_ZERO`] times the span of a linear axis (`span`; 0 on a log axis). Ticks at
+/// multiples of a step carry rounding noise: `-0.3 + 3 · 0.1` is `5.55e-17`, not 0, and
+/// `0.30000000000000004` needs the rounding to 4 digits.
+fn tick_label(v: f64, span: f64) -> String {
+    if v.abs() < TICK_ZERO * span {
+        return "0".to_string();
+    }
     crate::report::table::format_value(v)
 }
 

@@ -280,6 +280,34 @@ fn fluctuation_figure(
         ))
 }
 
+/// The scale of a quench's values: the largest finite `|⟨A(t)⟩|` or reference value of the
+/// runs (for [`snap_zero`]).
+pub(crate) fn quench_scale(runs: &[&FileResult]) -> f64 {
+    runs.iter()
+        .flat_map(|r| {
+            let o = &r.overall;
+            o.trace
+                .iter()
+                .map(|p| p.value)
+                .chain([o.diagonal_ensemble])
+                .chain(o.microcanonical)
+                .chain(o.canonical)
+        })
+        .map(f64::abs)
+        .filter(|v| v.is_finite())
+        .fold(0.0f64, f64::max)
+}
+
+/// `v`, or 0 when `|v|` is below `1e-9 · scale` (round-off of a value that vanishes, e.g. a
+/// canonical value of an observable whose thermal mean is zero by symmetry).
+pub(crate) fn snap_zero(v: f64, scale: f64) -> f64 {
+    if v.abs() < 1e-9 * scale {
+        0.0
+    } else {
+        v
+    }
+}
+
 /// `D^−0.93` for the exponent `−0.93`, `D^+0.20` for `0.20` (one sign, never `D^−-x`).
 pub fn power_of_d(exponent: f64) -> String {
     if exponent < 0.0 {
@@ -333,7 +361,10 @@ pub fn quench_figures(quench: &[QuenchStudy]) -> Vec<Named> {
             let o = &big.overall;
             // the values in the labels tell close lines apart (their labels are stacked in
             // the order of the values)
-            let value = crate::report::table::format_value;
+            // a value below 1e-9 of the figure's scale (the largest |⟨A(t)⟩| or reference)
+            // is round-off of zero and reads 0
+            let scale = quench_scale(&runs);
+            let value = |v: f64| crate::report::table::format_value(snap_zero(v, scale));
             let mut fig = Figure::new("t (ħ / energy unit)", format!("⟨{}(t)⟩", q.observable))
                 .legend(Legend::UpperRight)
                 .reference(
@@ -440,5 +471,11 @@ mod tests {
         // a fit exponent of −1.61 is D^−1.61, never D^−-1.61 (common practice, no source)
         assert_eq!(power_of_d(-1.61), "D^−1.61");
         assert_eq!(power_of_d(0.2), "D^+0.20");
+        // a reference value at round-off of zero against a trace of size 0.3 reads 0, a
+        // small but real one keeps its digits (common practice, no source)
+        assert_eq!(snap_zero(5.321e-17, 0.3), 0.0);
+        assert_eq!(snap_zero(-2.0e-10, 0.3), 0.0);
+        assert_eq!(snap_zero(4.0e-10, 0.3), 4.0e-10);
+        assert_eq!(snap_zero(1e-17, 0.0), 1e-17);
     }
 }

@@ -6,7 +6,7 @@ use crate::analysis::scaling::ScalingReport;
 use crate::analysis::sector::SectorAnalysis;
 use crate::analysis::study::QuenchStudy;
 use crate::error::Result;
-use crate::report::study::figures::{quench_families, slug};
+use crate::report::study::figures::{quench_families, quench_scale, slug, snap_zero};
 use crate::report::table::{Cell, Column, Table};
 
 /// The scaling table as a [`crate::report::table::Table`].
@@ -160,10 +160,12 @@ pub fn quench_tables(quench: &[QuenchStudy]) -> Result<Vec<(String, Table)>> {
             Column::new("time_variance", "time variance"),
         ])
         .with_caption(format!(
-            "Quench from {state}: energy, inverse temperature, effective dimension, long-time predictions and fluctuations per observable and size (time variance over the second half of the time grid)."
+            "Quench from {state}: energy, inverse temperature, effective dimension, long-time predictions and fluctuations per observable and size (time variance over the second half of the time grid; a prediction below 1e-9 of the largest |⟨A(t)⟩| of its family is round-off of zero and printed as 0)."
         ));
         for q in quench.iter().filter(|q| q.state == state) {
             for (fam, runs) in quench_families(q) {
+                let scale = quench_scale(&runs);
+                let zero = |v: f64| snap_zero(v, scale);
                 for r in runs {
                     let o = &r.overall;
                     t.push_row(vec![
@@ -174,9 +176,9 @@ pub fn quench_tables(quench: &[QuenchStudy]) -> Result<Vec<(String, Table)>> {
                         Cell::from(o.energy),
                         Cell::from(o.beta),
                         Cell::from(o.d_eff),
-                        Cell::from(o.diagonal_ensemble),
-                        Cell::from(o.canonical),
-                        Cell::from(o.microcanonical),
+                        Cell::from(zero(o.diagonal_ensemble)),
+                        Cell::from(o.canonical.map(zero)),
+                        Cell::from(o.microcanonical.map(zero)),
                         Cell::from(o.sigma2),
                         Cell::from(o.sigma2_eth),
                         Cell::from(o.bound),

@@ -269,3 +269,28 @@ fn label_spreading_keeps_order_separation_and_bounds() {
     assert!(s.windows(2).all(|w| w[1] - w[0] >= 17.0 - 1e-12), "{p:?}");
     assert!(p[0] < p[1] && p[1] < p[2]);
 }
+
+#[test]
+fn tick_labels_near_zero_read_zero() {
+    // common practice, no source: a tick at a multiple of the step that should be 0 but
+    // carries rounding noise (e.g. -5.551e-17 from -0.3 + 3 · 0.1) is printed as 0; scan
+    // ranges straddling zero so that some of them hit the noise without the snapping
+    let mut with_zero = 0;
+    for k in 1..40 {
+        let lo = -0.1 * k as f64 - 0.013 * k as f64;
+        let hi = 0.07 * k as f64 + 0.011;
+        let fig = Figure::new("x", "y")
+            .series(Series::points("a", vec![(0.0, lo), (1.0, hi)]))
+            .y_range(lo, hi);
+        let svg = fig.to_svg().unwrap();
+        for t in texts(&svg) {
+            let bad = t.contains("e-1") || t.contains("e-2") || t.contains("e-3");
+            assert!(!bad, "range [{lo}, {hi}]: tick label {t:?}");
+            with_zero += usize::from(t == "0");
+        }
+    }
+    assert!(
+        with_zero > 20,
+        "a tick at zero in most ranges ({with_zero})"
+    );
+}
