@@ -654,6 +654,16 @@ impl ColumnSource for Matrix {
     }
 }
 
+/// Serialises a dimension held as `f64` (a fit's abscissa, or a mean over merged sectors) as
+/// the nearest non-negative integer, so that every JSON `dimension` is an integer
+/// (`#[serde(serialize_with = "crate::data::dimension_as_integer")]`).
+pub fn dimension_as_integer<S: serde::Serializer>(
+    d: &f64,
+    s: S,
+) -> std::result::Result<S::Ok, S::Error> {
+    s.serialize_u64(d.round().max(0.0) as u64)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

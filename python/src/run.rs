@@ -33,9 +33,10 @@ pub fn or_raise<T>(r: eigentherm::Result<T>) -> PyResult<T> {
     r.map_err(|e| Python::attach(|py| to_py_err(py, &e)))
 }
 
-/// `value` serialised as `--json` prints it (compact: the same numbers, fewer spaces).
+/// `value` serialised as `--json` prints it, `schema_version` included (compact: the same
+/// numbers, fewer spaces).
 pub fn json<T: Serialize>(value: &T) -> eigentherm::Result<String> {
-    serde_json::to_string(value)
+    serde_json::to_string(&eigentherm::report::json::versioned(value))
         .map_err(|e| eigentherm::Error::other(format!("cannot serialise JSON: {e}")))
 }
 

@@ -336,6 +336,9 @@ pub struct EntanglementSector {
     pub file: String,
     /// Sector name.
     pub name: String,
+    /// Sector name, the key every command uses (`name` holds the same, kept for the
+    /// contract's `levels`/`diagonal` keys).
+    pub sector: String,
     /// Hilbert-space dimension of the sector.
     pub dim: usize,
     /// Number of stored states.

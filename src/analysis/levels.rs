@@ -644,6 +644,9 @@ pub struct SectorLevels {
     pub file: String,
     /// Sector name.
     pub name: String,
+    /// Sector name, the key every command uses (`name` holds the same, kept for the
+    /// contract's `levels`/`diagonal` keys).
+    pub sector: String,
     /// Symmetry class and how it was decided (`symmetry_class`, `class_source`).
     #[serde(flatten)]
     pub class: crate::data::ClassInfo,

@@ -207,6 +207,9 @@ pub struct SectorElements<T> {
     pub file: String,
     /// Sector name.
     pub name: String,
+    /// Sector name, the key every command uses (`name` holds the same, kept for the
+    /// contract's `levels`/`diagonal` keys).
+    pub sector: String,
     /// Number of stored states.
     pub n_states: usize,
     /// Hilbert-space dimension, when eigenvectors are stored.

@@ -14,9 +14,10 @@ pub fn print(text: &str) -> Result<()> {
         .map_err(|e| Error::io("stdout", e))
 }
 
-/// Writes `value` as pretty JSON (and a newline) to stdout.
+/// Writes `value` (an object) as pretty JSON (and a newline) to stdout, with the top-level
+/// `schema_version` ([`crate::report::json::versioned`]).
 pub fn print_json<T: Serialize>(value: &T) -> Result<()> {
-    let mut s = serde_json::to_string_pretty(value)
+    let mut s = serde_json::to_string_pretty(&crate::report::json::versioned(value))
         .map_err(|e| Error::other(format!("cannot serialise JSON: {e}")))?;
     s.push('\n');
     print(&s)

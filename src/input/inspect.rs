@@ -23,6 +23,9 @@ pub struct FileSummary {
 /// Summary of one sector.
 #[derive(Debug, Clone, Serialize)]
 pub struct SectorSummary {
+    /// Sector name (JSON `sector`, the key every command uses; `name` holds the same).
+    #[serde(rename = "sector")]
+    pub sector_name: String,
     /// What discovery found (names, shapes, types, paths).
     #[serde(flatten)]
     pub sector: Sector,
@@ -103,6 +106,7 @@ pub fn inspect(file: &EigenFile, sector: Option<&str>, verify: bool) -> Result<F
         let mut sector = s.clone();
         (sector.layout, sector.layout_source) = file.layout(s)?;
         sectors.push(SectorSummary {
+            sector_name: sector.name.clone(),
             sector,
             energy_min: spec.energies.first().copied().unwrap_or(f64::NAN),
             energy_max: spec.energies.last().copied().unwrap_or(f64::NAN),

@@ -146,6 +146,7 @@ pub fn each_sector<T: crate::analysis::ensemble::figures::Figures>(
             work.timing.total_seconds = t0.elapsed().as_secs_f64();
             sectors.push(SectorElements {
                 file: f.path().display().to_string(),
+                sector: s.name.clone(),
                 name: s.name.clone(),
                 n_states: work.spectrum.len(),
                 dim: s.dim,

@@ -95,6 +95,7 @@ pub fn entanglement(req: &EntanglementRequest) -> Result<EntanglementOutput> {
             );
             sectors.push(EntanglementSector {
                 file: f.path().display().to_string(),
+                sector: s.name.clone(),
                 name: s.name.clone(),
                 dim: src.dim(),
                 n_states: spectrum.len(),

@@ -84,6 +84,7 @@ pub fn levels(
             }
             sectors.push(SectorLevels {
                 file: file.path().display().to_string(),
+                sector: s.name.clone(),
                 name: s.name.clone(),
                 class,
                 realization: s.realization,

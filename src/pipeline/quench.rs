@@ -479,6 +479,7 @@ pub fn quench_file(path: &Path, overrides: &Overrides, job: &Job<'_>) -> Result<
             let cap = *captured.get_or_insert(sq.report.norm / weight);
             diags[k].push(sq.diag_all);
             results[k].push(SectorResult {
+                sector: s.name.clone(),
                 name: s.name.clone(),
                 weight,
                 captured: cap,

@@ -23,7 +23,8 @@
 //!
 //! CSV is for machines: every number is written with Rust's shortest round-trip
 //! representation, and a column holding uncertainties gets a companion column
-//! `<key>_err`, so the CSV and the human formats hold the same numbers.
+//! `<key>_stderr` (the JSON's name for a standard error), so the CSV and the human formats
+//! hold the same numbers.
 
 use crate::error::{Error, Result};
 use serde::Serialize;
@@ -207,7 +208,7 @@ impl Table {
         (0..self.rows.len()).any(|r| matches!(self.cell(r, c), Cell::Uncertain { .. }))
     }
 
-    /// CSV (RFC 4180 quoting): header of column keys, a `<key>_err` column after every column
+    /// CSV (RFC 4180 quoting): header of column keys, a `<key>_stderr` column after every column
     /// holding uncertainties, numbers in shortest round-trip form.
     pub fn to_csv(&self) -> String {
         let errs: Vec<bool> = (0..self.columns.len())
@@ -218,7 +219,7 @@ impl Table {
         for (c, col) in self.columns.iter().enumerate() {
             head.push(csv_field(&col.key));
             if errs[c] {
-                head.push(csv_field(&format!("{}_err", col.key)));
+                head.push(csv_field(&format!("{}_stderr", col.key)));
             }
         }
         out.push_str(&head.join(","));
@@ -390,18 +391,37 @@ pub fn escape_html(s: &str) -> String {
 }
 
 /// Escapes text for LaTeX (pdflatex, text mode): the ten special characters
-/// `# $ % & ~ _ ^ \ { }`, also `< > |` (misprinted by the default font encoding), and the symbols we use in labels (Greek letters, `⟨ ⟩`, `²`,
-/// `±`, `≤`, `≥`, `≈`, `−`, `×`, `ω`, a combining tilde as `\~{x}`), so that the result
-/// compiles without Unicode support.
+/// `# $ % & ~ _ ^ \ { }`, also `< >` (misprinted by the default font encoding), and the
+/// symbols we use in labels (`|`, Greek letters, `⟨ ⟩`, `²`, `±`, `≤`, `≥`, `≈`, `−`, `×`, a
+/// combining tilde as `\tilde{x}`) as plain math, so that the result compiles without
+/// Unicode support or extra packages. Neighbouring math pieces are merged into one
+/// (`⟨r̃⟩` → `$\langle\tilde{r}\rangle$`).
 pub fn escape_latex(s: &str) -> String {
     let chars: Vec<char> = s.chars().collect();
     let mut out = String::with_capacity(s.len() + 8);
+    // Byte length of `out` right after the last math piece (to merge the next one into it).
+    let mut math_end = usize::MAX;
+    let mut math = |out: &mut String, body: &str| {
+        if math_end == out.len() {
+            out.pop();
+        } else {
+            out.push('$');
+        }
+        out.push_str(body);
+        out.push('$');
+        math_end = out.len();
+    };
     let mut i = 0;
     while i < chars.len() {
         let ch = chars[i];
         // A character followed by a combining tilde (U+0303), e.g. r̃.
         if chars.get(i + 1) == Some(&'\u{303}') {
-            let _ = write!(out, "\\~{{{}}}", escape_latex(&ch.to_string()));
+            let inner = match greek(ch) {
+                Some(cmd) => format!("\\{cmd}"),
+                None if ch.is_ascii_alphanumeric() => ch.to_string(),
+                None => format!("\\mbox{{{}}}", escape_latex(&ch.to_string())),
+            };
+            math(&mut out, &format!("\\tilde{{{inner}}}"));
             i += 2;
             continue;
         }
@@ -415,29 +435,37 @@ pub fn escape_latex(s: &str) -> String {
             '\\' => out.push_str("\\textbackslash{}"),
             '<' => out.push_str("\\textless{}"),
             '>' => out.push_str("\\textgreater{}"),
-            '|' => out.push_str("\\textbar{}"),
-            '⟨' => out.push_str("$\\langle$"),
-            '⟩' => out.push_str("$\\rangle$"),
             '²' => out.push_str("\\textsuperscript{2}"),
-            '±' => out.push_str("$\\pm$"),
-            '≤' => out.push_str("$\\le$"),
-            '≥' => out.push_str("$\\ge$"),
-            '≈' => out.push_str("$\\approx$"),
-            '−' => out.push_str("$-$"),
-            '×' => out.push_str("$\\times$"),
-            '·' => out.push_str("$\\cdot$"),
-            '→' => out.push_str("$\\to$"),
-            '√' => out.push_str("$\\surd$"),
-            c => match greek(c) {
-                Some(cmd) => {
-                    let _ = write!(out, "$\\{cmd}$");
-                }
-                None => out.push(c),
+            c => match symbol(c) {
+                Some(cmd) => math(&mut out, cmd),
+                None => match greek(c) {
+                    Some(cmd) => math(&mut out, &format!("\\{cmd}")),
+                    None => out.push(c),
+                },
             },
         }
         i += 1;
     }
     out
+}
+
+/// The math-mode form of the non-Greek symbols [`escape_latex`] knows.
+fn symbol(c: char) -> Option<&'static str> {
+    Some(match c {
+        '|' => "|",
+        '⟨' => "\\langle",
+        '⟩' => "\\rangle",
+        '±' => "\\pm",
+        '≤' => "\\le",
+        '≥' => "\\ge",
+        '≈' => "\\approx",
+        '−' => "-",
+        '×' => "\\times",
+        '·' => "\\cdot",
+        '→' => "\\to",
+        '√' => "\\surd",
+        _ => return None,
+    })
 }
 
 fn greek(c: char) -> Option<&'static str> {
@@ -647,10 +675,12 @@ mod tests {
     fn latex_escapes_specials() {
         // Common practice, no source: LaTeX special characters must be escaped.
         assert_eq!(escape_latex("a_b & 50%"), "a\\_b \\& 50\\%");
-        assert_eq!(escape_latex("⟨r̃⟩"), "$\\langle$\\~{r}$\\rangle$");
+        assert_eq!(escape_latex("⟨r̃⟩"), "$\\langle\\tilde{r}\\rangle$");
+        assert_eq!(escape_latex("α, β"), "$\\alpha$, $\\beta$");
+        assert_eq!(escape_latex("−ω̃"), "$-\\tilde{\\omega}$");
         assert_eq!(
             escape_latex("|f(ω)|²"),
-            "\\textbar{}f($\\omega$)\\textbar{}\\textsuperscript{2}"
+            "$|$f($\\omega$)$|$\\textsuperscript{2}"
         );
     }
 }

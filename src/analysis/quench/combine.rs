@@ -135,8 +135,9 @@ pub struct Overall {
     pub d_eff: f64,
     /// Diagonal-ensemble value.
     pub diagonal_ensemble: f64,
-    /// Microcanonical value at `E`.
-    pub microcanonical: Option<f64>,
+    /// Microcanonical value at `E`, with its shell (the same object as in the sector and
+    /// combined results).
+    pub microcanonical: Option<Microcanonical>,
     /// Canonical value at `β(E)`.
     pub canonical: Option<f64>,
     /// Infinite-time variance `σ²`.
@@ -178,7 +179,7 @@ pub fn overall(parts: &[(f64, &QuenchReport)], combined: Option<&Combined>) -> R
             c.energy,
             c.beta,
             c.diagonal_ensemble,
-            c.microcanonical.map(|m| m.value),
+            c.microcanonical,
             c.canonical,
             c.trace.clone(),
         ),
@@ -186,7 +187,7 @@ pub fn overall(parts: &[(f64, &QuenchReport)], combined: Option<&Combined>) -> R
             r.energy,
             r.beta,
             r.diagonal_ensemble,
-            r.microcanonical.map(|m| m.value),
+            r.microcanonical,
             r.canonical,
             r.trace.clone(),
         ),

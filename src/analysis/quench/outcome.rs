@@ -9,6 +9,9 @@ use serde::Serialize;
 pub struct SectorResult {
     /// Sector name.
     pub name: String,
+    /// Sector name, the key every command uses (`name` holds the same, kept for the
+    /// contract's `levels`/`diagonal` keys).
+    pub sector: String,
     /// Weight of the state in the sector, `‖c_s‖²` (before normalisation).
     pub weight: f64,
     /// Fraction of that weight on the stored eigenstates (< 1 for a partial eigenbasis).

@@ -28,13 +28,20 @@ use serde::Serialize;
 pub struct Row {
     /// Family key (model, sector, observable) the row is fitted in.
     pub family: String,
+    /// Attribute `model` of the sector (`None` when the file has none).
+    pub model: Option<String>,
     /// File (or files, joined by `+`, for combined rows).
     pub file: String,
     /// Sector name (or names joined by `+`).
     pub sector: String,
     /// Observable.
     pub observable: String,
-    /// Hilbert-space dimension D.
+    /// Support of the observable: the attribute `observable_support`, or without it the
+    /// parity of the number of sites (`even L`, `odd L`); `None` when neither is known.
+    pub support: Option<String>,
+    /// Hilbert-space dimension D (for rows combined over sectors the mean dimension of the
+    /// merged sectors; written to JSON as the nearest integer, the fits use the mean).
+    #[serde(serialize_with = "crate::data::dimension_as_integer")]
     pub dimension: f64,
     /// Number of sites L, when known.
     pub size: Option<usize>,
@@ -117,6 +124,17 @@ pub struct Row {
 pub struct FigureFit {
     /// Family key.
     pub family: String,
+    /// The family's `model` attribute (`None` without one).
+    pub model: Option<String>,
+    /// The family's sector name (`*` when sectors are combined or for top-level
+    /// realization sectors).
+    pub sector: String,
+    /// The family's observable.
+    pub observable: String,
+    /// The family's observable support ([`Row::support`]).
+    pub support: Option<String>,
+    /// The family's disorder strength, when the rows carry one.
+    pub disorder: Option<f64>,
     /// Figure name (`residual_variance`, `fluct_variance`, `diff_mean_abs`,
     /// `low_omega_variance`).
     pub figure: String,
@@ -126,6 +144,12 @@ pub struct FigureFit {
     pub alpha_stderr: f64,
     /// Degrees of freedom of the power-law fit (points − 2).
     pub dof: usize,
+    /// The α ETH predicts for this figure: 1 for the variances (`residual_variance`,
+    /// `fluct_variance`, `low_omega_variance`: |Aₙₘ|² and the diagonal fluctuations scale
+    /// as the inverse density of states, ∝ 1/D), ½ for `diff_mean_abs` (its square root);
+    /// Srednicki, J. Phys. A 32, 1163 (1999); Beugeling, Moessner, Haque, PRE 89, 042112
+    /// (2014) (from memory).
+    pub eth_alpha: f64,
     /// Full power-law fit.
     pub power_law: ScalingFit,
     /// Exponents between consecutive sizes.
@@ -201,7 +225,7 @@ pub fn build(analyses: &[SectorAnalysis], combine_sectors: bool) -> Result<Scali
             "diff_mean_abs",
             "low_omega_variance",
         ] {
-            if let Some(fit) = fit_figure(fam, figure, &fr) {
+            if let Some(fit) = fit_figure(fam, figure, &fr, combine_sectors) {
                 if figure == "residual_variance" {
                     fluct_fit = Some(fit.clone());
                 }
@@ -271,17 +295,22 @@ fn row(a: &SectorAnalysis, o: &ObservableAnalysis, combine_sectors: bool) -> Row
     };
     let disorder = a.disorder.map_or(String::new(), |w| format!(" | W = {w}"));
     let model = a.model.clone().unwrap_or_else(|| "-".into());
-    let support = match (&o.support, a.size) {
-        (Some(s), _) => format!(" | {s}"),
-        (None, Some(l)) if l % 2 == 0 => " | even L".to_string(),
-        (None, Some(_)) => " | odd L".to_string(),
-        (None, None) => String::new(),
+    let support_name = match (&o.support, a.size) {
+        (Some(s), _) => Some(s.clone()),
+        (None, Some(l)) if l % 2 == 0 => Some("even L".to_string()),
+        (None, Some(_)) => Some("odd L".to_string()),
+        (None, None) => None,
     };
+    let support = support_name
+        .as_ref()
+        .map_or(String::new(), |s| format!(" | {s}"));
     Row {
         family: format!("{model} | {sector_key} | {}{support}{disorder}", o.name),
+        model: a.model.clone(),
         file: a.file.clone(),
         sector: a.sector.clone(),
         observable: o.name.clone(),
+        support: support_name,
         dimension: a.dimension as f64,
         size: a.size,
         mean_r: a.levels.mean_r,
@@ -435,7 +464,7 @@ fn family_verdict(fam: &str, fr: &[&Row], fluct_fit: Option<FigureFit>) -> Resul
 
 /// Fits `figure ∝ D^(−α)` (and `∝ e^(−κL)`) over the rows of a family; `None` with fewer
 /// than two usable (positive, finite) points.
-fn fit_figure(family: &str, figure: &str, rows: &[&Row]) -> Option<FigureFit> {
+fn fit_figure(family: &str, figure: &str, rows: &[&Row], combined: bool) -> Option<FigureFit> {
     let pick = |r: &Row| match figure {
         "residual_variance" => (r.residual_variance, r.residual_variance_stderr),
         "fluct_variance" => (r.fluct_variance, r.fluct_variance_stderr),
@@ -484,9 +513,20 @@ fn fit_figure(family: &str, figure: &str, rows: &[&Row]) -> Option<FigureFit> {
             }
         })
         .collect();
+    let first = usable[0];
     Some(FigureFit {
         family: family.to_string(),
+        model: first.model.clone(),
+        sector: if combined {
+            "*".to_string()
+        } else {
+            first.sector_key.clone()
+        },
+        observable: first.observable.clone(),
+        support: first.support.clone(),
+        disorder: first.disorder,
         figure: figure.to_string(),
+        eth_alpha: if figure == "diff_mean_abs" { 0.5 } else { 1.0 },
         alpha: power_law.exponent,
         alpha_stderr: power_law.exponent_stderr,
         dof: power_law.dof,

@@ -43,7 +43,8 @@ impl std::fmt::Display for Verdict {
 /// One size's mean level-spacing ratio.
 #[derive(Debug, Clone, Copy, Serialize)]
 pub struct RatioAtSize {
-    /// Hilbert-space dimension of the sector.
+    /// Hilbert-space dimension of the sector (an integer in JSON).
+    #[serde(serialize_with = "crate::data::dimension_as_integer")]
     pub dimension: f64,
     /// Mean ⟨r̃⟩ in the window.
     pub mean_r: f64,
@@ -121,7 +122,8 @@ pub struct RatioEvidence {
 /// The low-frequency Gaussianity ratio `Γ = ⟨|Aₙₘ|²⟩/⟨|Aₙₘ|⟩²` at one size.
 #[derive(Debug, Clone, Copy, Serialize)]
 pub struct GammaAtSize {
-    /// Hilbert-space dimension.
+    /// Hilbert-space dimension (an integer in JSON).
+    #[serde(serialize_with = "crate::data::dimension_as_integer")]
     pub dimension: f64,
     /// Measured Γ.
     pub gamma: f64,
@@ -162,8 +164,8 @@ pub struct VerdictThresholds {
     pub level_drift: f64,
     /// Number of standard errors used in the comparisons.
     pub sigmas: f64,
-    /// Fluctuation exponent too uncertain when `σ_α > exponent_max_rel_err · α₀`.
-    pub exponent_max_rel_err: f64,
+    /// Fluctuation exponent too uncertain when `σ_α > exponent_max_rel_stderr · α₀`.
+    pub exponent_max_rel_stderr: f64,
     /// Fluctuation criterion passes only when `α − sigmas·σ_α ≥ exponent_floor · α₀`
     /// (and `|α − α₀| ≤ sigmas·σ_α`).
     pub exponent_floor: f64,
@@ -191,7 +193,7 @@ impl Default for VerdictThresholds {
             level_poisson: 0.25,
             level_drift: 0.1,
             sigmas: 2.0,
-            exponent_max_rel_err: 0.25,
+            exponent_max_rel_stderr: 0.25,
             exponent_floor: 0.5,
             exponent_fail: 0.5,
             gauss_sigmas: 3.0,
@@ -493,14 +495,14 @@ fn fluctuation_criterion(inputs: &VerdictInputs, t: &VerdictThresholds) -> Crite
         f.alpha, f.stderr, f.expected, f.dof
     );
     if !(f.alpha.is_finite() && f.stderr.is_finite())
-        || f.stderr > t.exponent_max_rel_err * f.expected
+        || f.stderr > t.exponent_max_rel_stderr * f.expected
     {
         return crit(
             name,
             Outcome::Unclear,
             format!(
                 "{head}: error larger than {} x {}",
-                t.exponent_max_rel_err, f.expected
+                t.exponent_max_rel_stderr, f.expected
             ),
         );
     }
@@ -711,7 +713,7 @@ mod tests {
             t.level_chaotic,
             t.level_poisson,
             t.level_drift,
-            t.exponent_max_rel_err,
+            t.exponent_max_rel_stderr,
             t.exponent_floor,
             t.exponent_fail,
             t.gauss_tolerance,

@@ -290,7 +290,7 @@ pub(crate) fn quench_scale(runs: &[&FileResult]) -> f64 {
                 .iter()
                 .map(|p| p.value)
                 .chain([o.diagonal_ensemble])
-                .chain(o.microcanonical)
+                .chain(o.microcanonical.map(|m| m.value))
                 .chain(o.canonical)
         })
         .map(f64::abs)
@@ -371,7 +371,7 @@ pub fn quench_figures(quench: &[QuenchStudy]) -> Vec<Named> {
                     o.diagonal_ensemble,
                     format!("diagonal ensemble {}", value(o.diagonal_ensemble)),
                 );
-            if let Some(m) = o.microcanonical {
+            if let Some(m) = o.microcanonical.map(|m| m.value) {
                 fig = fig.reference(m, format!("microcanonical {}", value(m)));
             }
             if let Some(c) = o.canonical {

@@ -1,5 +1,5 @@
-//! The study's output folder: `results.json` (everything), the scaling table as CSV,
-//! Markdown and LaTeX, SVG figures, quench tables, and one self-contained `report.html`
+//! The study's output folder: `results.json` (everything), the scaling table and the
+//! exponent table (α per figure and family) as CSV, Markdown and LaTeX, SVG figures, quench tables, and one self-contained `report.html`
 //! (verdicts first, then the evidence, with provenance). Every file is written atomically
 //! (temporary name, then rename).
 
@@ -36,6 +36,10 @@ pub fn write_folder(results: &StudyResults, out: &Path) -> Result<StudyFiles> {
     put("scaling.csv", table.to_csv().as_bytes())?;
     put("scaling.md", table.to_markdown().as_bytes())?;
     put("scaling.tex", table.to_latex().as_bytes())?;
+    let exponents = tables::exponent_table(&results.scaling)?;
+    put("exponents.csv", exponents.to_csv().as_bytes())?;
+    put("exponents.md", exponents.to_markdown().as_bytes())?;
+    put("exponents.tex", exponents.to_latex().as_bytes())?;
 
     if !results.scaling.ensembles.is_empty() {
         let t = tables::ensemble_table(&results.scaling.ensembles)?;
@@ -56,7 +60,7 @@ pub fn write_folder(results: &StudyResults, out: &Path) -> Result<StudyFiles> {
             put(&format!("{name}.svg"), svg.as_bytes())?;
         }
     }
-    let json = serde_json::to_string_pretty(results)
+    let json = serde_json::to_string_pretty(&crate::report::json::versioned(results))
         .map_err(|e| Error::other(format!("cannot serialise results: {e}")))?;
     put("results.json", json.as_bytes())?;
 

@@ -9,29 +9,34 @@ use crate::error::Result;
 use crate::report::study::figures::{quench_families, quench_scale, slug, snap_zero};
 use crate::report::table::{Cell, Column, Table};
 
-/// The scaling table as a [`crate::report::table::Table`].
+/// The scaling table as a [`crate::report::table::Table`]: one row per scaling row, with
+/// the model, sector, observable and support in columns of their own (the CSV keys are the
+/// JSON keys of [`crate::analysis::scaling::Row`]).
 pub fn scaling_table(report: &ScalingReport) -> Result<Table> {
     let ensembles = report
         .rows
         .iter()
         .any(|r| r.disorder.is_some() || r.realizations > 1);
     let mut cols = vec![
-        Column::new("family", "family"),
+        Column::new("model", "model"),
         Column::new("sector", "sector"),
-        Column::new("size", "L"),
-        Column::new("dimension", "D"),
-        Column::new("mean_r", "⟨r̃⟩"),
+        Column::new("observable", "observable"),
+        Column::new("support", "support"),
+        Column::new("size", "L").latex("$L$"),
+        Column::new("dimension", "D").latex("$D$"),
+        Column::new("mean_r", "⟨r̃⟩").latex("$\\langle\\tilde r\\rangle$"),
         Column::new("fluct_variance", "fluct. variance"),
-        Column::new("diff_mean_abs", "⟨|ΔA|⟩"),
-        Column::new("low_omega_variance", "low-ω ⟨|A_nm|²⟩"),
-        Column::new("gaussian_ratio", "Γ"),
+        Column::new("diff_mean_abs", "⟨|ΔA|⟩").latex("$\\langle|\\Delta A|\\rangle$"),
+        Column::new("low_omega_variance", "low-ω ⟨|A_nm|²⟩")
+            .latex("low-$\\omega$ $\\langle|A_{nm}|^2\\rangle$"),
+        Column::new("gaussian_ratio", "Γ").latex("$\\Gamma$"),
         Column::new("diag_offdiag_ratio", "diag/offdiag"),
-        Column::new("thouless_tau", "τ_Th / t_H"),
-        Column::new("thouless_g", "g"),
+        Column::new("thouless_tau", "τ_Th / t_H").latex("$\\tau_{\\mathrm{Th}}/t_H$"),
+        Column::new("thouless_g", "g").latex("$g$"),
     ];
     if ensembles {
-        cols.insert(2, Column::new("disorder", "W"));
-        cols.insert(3, Column::new("realizations", "n"));
+        cols.insert(4, Column::new("disorder", "W").latex("$W$"));
+        cols.insert(5, Column::new("realizations", "n").latex("$n$"));
     }
     let mut t = Table::new(cols);
     for r in &report.rows {
@@ -43,8 +48,10 @@ pub fn scaling_table(report: &ScalingReport) -> Result<Table> {
             }
         };
         let mut cells = vec![
-            Cell::from(r.family.as_str()),
+            Cell::from(r.model.clone()),
             Cell::from(r.sector.as_str()),
+            Cell::from(r.observable.as_str()),
+            Cell::from(r.support.clone()),
             r.size.map(|s| Cell::Int(s as i64)).unwrap_or(Cell::Empty),
             Cell::Int(r.dimension.round() as i64),
             u(r.mean_r, r.mean_r_stderr),
@@ -57,8 +64,47 @@ pub fn scaling_table(report: &ScalingReport) -> Result<Table> {
             Cell::from(r.thouless_g),
         ];
         if ensembles {
-            cells.insert(2, Cell::from(r.disorder));
-            cells.insert(3, Cell::from(r.realizations));
+            cells.insert(4, Cell::from(r.disorder));
+            cells.insert(5, Cell::from(r.realizations));
+        }
+        t.push_row(cells)?;
+    }
+    Ok(t)
+}
+
+/// The exponent table: one row per fitted figure of a family (`figure ∝ D^(−α)`), with
+/// α and its standard error, the fit's degrees of freedom and the α ETH predicts
+/// ([`crate::analysis::scaling::FigureFit::eth_alpha`]); the CSV keys are the JSON keys of
+/// `fits[]`.
+pub fn exponent_table(report: &ScalingReport) -> Result<Table> {
+    let disorder = report.fits.iter().any(|f| f.disorder.is_some());
+    let mut cols = vec![
+        Column::new("model", "model"),
+        Column::new("sector", "sector"),
+        Column::new("observable", "observable"),
+        Column::new("support", "support"),
+        Column::new("figure", "figure"),
+        Column::new("alpha", "α").latex("$\\alpha$"),
+        Column::new("dof", "dof"),
+        Column::new("eth_alpha", "α (ETH)").latex("$\\alpha_{\\mathrm{ETH}}$"),
+    ];
+    if disorder {
+        cols.insert(4, Column::new("disorder", "W").latex("$W$"));
+    }
+    let mut t = Table::new(cols);
+    for f in &report.fits {
+        let mut cells = vec![
+            Cell::from(f.model.clone()),
+            Cell::from(f.sector.as_str()),
+            Cell::from(f.observable.as_str()),
+            Cell::from(f.support.clone()),
+            Cell::from(f.figure.as_str()),
+            Cell::from((f.alpha, f.alpha_stderr)),
+            Cell::from(f.dof),
+            Cell::Value(f.eth_alpha),
+        ];
+        if disorder {
+            cells.insert(4, Cell::from(f.disorder));
         }
         t.push_row(cells)?;
     }
@@ -178,7 +224,7 @@ pub fn quench_tables(quench: &[QuenchStudy]) -> Result<Vec<(String, Table)>> {
                         Cell::from(o.d_eff),
                         Cell::from(zero(o.diagonal_ensemble)),
                         Cell::from(o.canonical.map(zero)),
-                        Cell::from(o.microcanonical.map(zero)),
+                        Cell::from(o.microcanonical.map(|m| zero(m.value))),
                         Cell::from(o.sigma2),
                         Cell::from(o.sigma2_eth),
                         Cell::from(o.bound),

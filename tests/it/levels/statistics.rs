@@ -475,6 +475,7 @@ fn json_has_the_stable_keys_and_text_states_references() {
         sectors: vec![SectorLevels {
             file: "a.h5".into(),
             name: "even".into(),
+            sector: "even".into(),
             class: eigentherm::data::ClassInfo::of_field(eigentherm::data::Field::Real),
             realization: None,
             disorder: None,

@@ -5,4 +5,6 @@
 
 mod html;
 mod plot;
+mod schema;
+mod study_tables;
 mod table;

@@ -71,6 +71,14 @@ fn demo_verdicts_and_tables() {
         assert_eq!(d, row.dimension);
         assert!(md.contains(&format!("| {} |", row.dimension)));
     }
+    // scaling.tex and the exponent table parse as LaTeX (and compile where pdflatex is
+    // installed; common practice, no source)
+    for name in ["scaling.tex", "exponents.tex"] {
+        let tex = std::fs::read_to_string(out.join(name)).unwrap();
+        let problems = crate::util::latex_table_problems(&tex);
+        assert!(problems.is_empty(), "{name}: {problems:?}");
+        crate::util::compile_latex_table(&tex);
+    }
     let json: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("results.json")).unwrap()).unwrap();
     assert_eq!(
