@@ -26,6 +26,10 @@ pub struct Cli {
     /// Worker threads of the matrix products and parallel loops (default: every core).
     #[arg(long, global = true, value_name = "N")]
     pub threads: Option<usize>,
+    /// Progress on stderr: auto (bars on a terminal), always (bars, or one plain log line per
+    /// stage when stderr is a file or pipe), never (default: $EIGENTHERM_PROGRESS, else auto).
+    #[arg(long, global = true, value_name = "WHEN", value_parser = ["auto", "always", "never"])]
+    pub progress: Option<String>,
     /// The subcommand.
     #[command(subcommand)]
     pub command: Command,
@@ -68,6 +72,7 @@ pub fn parse() -> Cli {
 /// Runs one parsed command line.
 pub fn run(cli: Cli) -> Result<()> {
     crate::pipeline::flags::set_threads(cli.threads)?;
+    crate::pipeline::flags::set_progress(cli.progress.as_deref())?;
     match cli.command {
         Command::Demo(a) => demo::run(&a),
         Command::Generate(a) => generate::run(&a),

@@ -44,7 +44,9 @@ impl Args {
 /// Runs `eigentherm study`.
 pub fn run(args: &Args) -> Result<()> {
     let results = study(&args.resolve()?)?;
+    let stage = crate::progress::stage("writing the report folder");
     let written = crate::report::study::write_folder(&results, &args.out)?;
+    stage.finish_and_clear();
     if args.json.json {
         output::print_json(&results)
     } else {

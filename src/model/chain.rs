@@ -593,7 +593,6 @@ fn build_sector(
     }
     let h = basis.project_csr(&full.h);
     let pb = crate::progress::spinner(&format!("diagonalising {label} (dim {})", basis.dim()));
-    pb.enable_steady_tick(std::time::Duration::from_millis(200));
     let dense = densify(&h);
     let eig = crate::linalg::eigh_real(dense.as_ref());
     pb.finish_and_clear();

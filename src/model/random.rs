@@ -69,7 +69,6 @@ pub fn build_random(spec: &RandomSpec) -> Result<SectorData> {
     let mut rng = rmt::rng(spec.seed);
     let label = format!("{} N={n}", spec.ensemble.name().to_uppercase());
     let pb = crate::progress::spinner(&format!("diagonalising {label}"));
-    pb.enable_steady_tick(std::time::Duration::from_millis(200));
     let (energies, eigenvectors, hamiltonian) = match spec.ensemble {
         RandomEnsemble::Goe => {
             let h = rmt::goe(n, &mut rng) * faer::Scale(scale);

@@ -133,6 +133,34 @@ pub fn set_threads(threads: Option<usize>) -> Result<()> {
         .map_err(|e| Error::usage(format!("--threads {n}: {e}")))
 }
 
+/// `--progress auto|always|never`; without the flag the environment variable
+/// [`crate::progress::PROGRESS_ENV`], else `auto`. Sets the mode of this process.
+pub fn set_progress(flag: Option<&str>) -> Result<()> {
+    use crate::progress::{Mode, PROGRESS_ENV};
+    let env = std::env::var(PROGRESS_ENV).ok();
+    let (given, source) = match (flag, env.as_deref()) {
+        (Some(f), _) => (f.to_string(), "--progress".to_string()),
+        (None, Some(e)) if !e.trim().is_empty() => (e.trim().to_string(), PROGRESS_ENV.to_string()),
+        _ => {
+            crate::progress::set_mode(Mode::Auto);
+            return Ok(());
+        }
+    };
+    let mode = match given.to_ascii_lowercase().as_str() {
+        "auto" => Mode::Auto,
+        "always" => Mode::Always,
+        "never" => Mode::Never,
+        _ => {
+            return Err(Error::usage(format!(
+                "{source} {}: expected auto, always or never",
+                crate::error::escape(&given)
+            )))
+        }
+    };
+    crate::progress::set_mode(mode);
+    Ok(())
+}
+
 /// The observables, at least one (`--observable NAME`).
 pub fn required_observables(observables: &[String]) -> Result<Vec<String>> {
     if observables.is_empty() {

@@ -67,6 +67,10 @@ pub struct QuenchRequest {
 /// observable.
 pub fn quench_all(req: &QuenchRequest) -> Result<Vec<FileResult>> {
     let mut out = Vec::new();
+    let pb = crate::progress::bar(
+        (req.states.len() * req.inputs.files.len()) as u64,
+        "quenches",
+    );
     for (state, spec) in &req.states {
         let job = Job {
             observables: &req.observables,
@@ -79,9 +83,12 @@ pub fn quench_all(req: &QuenchRequest) -> Result<Vec<FileResult>> {
         };
         for f in &req.inputs.files {
             crate::progress::check_interrupt()?;
+            pb.set_message(format!("{state} in {}", f.display()));
             out.extend(quench_file(f, &req.inputs.overrides, &job)?);
+            pb.inc(1);
         }
     }
+    pb.finish_and_clear();
     Ok(out)
 }
 

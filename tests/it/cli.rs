@@ -316,3 +316,91 @@ fn exit_status_separates_usage_input_and_analysis_errors() {
     );
     assert_eq!(code, Some(1), "{err}");
 }
+
+/// Runs `eigentherm ARGS` with stderr redirected to a file and `env` set; returns the exit
+/// code and the file's text.
+fn stderr_to_file(args: &[&str], env: &[(&str, &str)]) -> (Option<i32>, String) {
+    let dir = tempfile::tempdir().unwrap();
+    let log = dir.path().join("stderr.log");
+    let mut cmd = std::process::Command::new(env!("CARGO_BIN_EXE_eigentherm"));
+    cmd.args(args)
+        .env_remove("EIGENTHERM_PROGRESS")
+        .stdout(std::process::Stdio::null())
+        .stderr(std::fs::File::create(&log).unwrap());
+    for (k, v) in env {
+        cmd.env(k, v);
+    }
+    let code = cmd.status().unwrap().code();
+    (code, std::fs::read_to_string(&log).unwrap())
+}
+
+#[test]
+fn progress_always_logs_a_line_per_stage_to_a_file() {
+    // The contract for batch logs (common practice, no source): with stderr in a
+    // file, `--progress always` (or the environment variable) writes plain lines with the
+    // elapsed time and rate; `auto` and `never` write none.
+    let dir = tempfile::tempdir().unwrap();
+    let files = crate::util::mixed_field_chains(dir.path(), &[6, 8]);
+    let out = dir.path().join("study");
+    let mut args = vec!["study"];
+    args.extend(files.iter().map(|p| p.to_str().unwrap()));
+    args.extend(["--observable", "sz_site", "--out", out.to_str().unwrap()]);
+    let progress_lines = |log: &str| -> Vec<String> {
+        log.lines()
+            .filter(|l| l.starts_with("progress: "))
+            .map(String::from)
+            .collect()
+    };
+
+    let mut always = args.clone();
+    always.extend(["--progress", "always"]);
+    let (code, log) = stderr_to_file(&always, &[]);
+    assert_eq!(code, Some(0), "{log}");
+    let lines = progress_lines(&log);
+    // the sector loop: a start line and a done line with 4 of 4 steps (two chains of two
+    // reflection sectors each), time and rate; the per-sector passes inside it are quiet
+    assert!(
+        lines
+            .iter()
+            .any(|l| l == "progress: sectors: started, 4 steps"),
+        "{log}"
+    );
+    assert!(!lines.iter().any(|l| l.contains("projecting")), "{log}");
+    let done = lines
+        .iter()
+        .find(|l| l.starts_with("progress: sectors: done, 4/4 steps in "))
+        .unwrap_or_else(|| panic!("{log}"));
+    assert!(done.ends_with(" steps/s"), "{done}");
+    // the writing of the folder is a stage of its own
+    assert!(
+        lines
+            .iter()
+            .any(|l| l.starts_with("progress: writing the report folder: done in ")),
+        "{log}"
+    );
+    // every line of a stage that started also ends
+    let started = lines.iter().filter(|l| l.contains(": started")).count();
+    let ended = lines.iter().filter(|l| l.contains(": done")).count();
+    assert_eq!(started, ended, "{log}");
+
+    // the environment variable does the same; the flag overrides it
+    let (code, log) = stderr_to_file(&args, &[("EIGENTHERM_PROGRESS", "always")]);
+    assert_eq!(code, Some(0), "{log}");
+    assert!(!progress_lines(&log).is_empty(), "{log}");
+    let mut never = args.clone();
+    never.extend(["--progress", "never"]);
+    let (code, log) = stderr_to_file(&never, &[("EIGENTHERM_PROGRESS", "always")]);
+    assert_eq!(code, Some(0), "{log}");
+    assert!(progress_lines(&log).is_empty(), "{log}");
+    // auto with stderr in a file: nothing
+    let (code, log) = stderr_to_file(&args, &[]);
+    assert_eq!(code, Some(0), "{log}");
+    assert!(progress_lines(&log).is_empty(), "{log}");
+    // a bad value of the variable is a one-line usage error naming it
+    let (code, log) = stderr_to_file(&args, &[("EIGENTHERM_PROGRESS", "loud")]);
+    assert_eq!(code, Some(2), "{log}");
+    assert_eq!(
+        log.trim_end(),
+        "error: EIGENTHERM_PROGRESS loud: expected auto, always or never"
+    );
+}
