@@ -2,14 +2,18 @@
 //! attribute reading, whole and partial (hyperslab) reads with promotion of
 //! float32 to float64 and finiteness checks.
 //!
-//! Complex numbers are the compound `{r, i}` of two floats; HDF5 converts
-//! `{r: float32, i: float32}` to `{r: float64, i: float64}` member by member
-//! on reading, so every read lands in `f64` or [`c64`].
+//! Complex numbers are a compound of two floats whose field names are one of the pairs of
+//! [`COMPLEX_NAMES`] (`{r, i}` of h5py, `{real, imag}` of MATLAB v7.3, `{re, im}`, ...);
+//! HDF5 converts compound members by name and float32 to float64 member by member on
+//! reading, so every read lands in `f64` or [`c64`] ([`Stored`]). A compound with other
+//! names is refused: HDF5 would leave the members it cannot match as zeros.
 
 use crate::data::{c64, Field};
 use crate::error::{Error, Result};
 use hdf5::types::{FloatSize, TypeDescriptor};
+use ndarray::Array2;
 use serde::Serialize;
+use std::ops::Range;
 use std::path::Path;
 
 /// Element type of a numerical dataset as stored in the file.
@@ -20,9 +24,9 @@ pub enum Element {
     Float32,
     /// IEEE double precision.
     Float64,
-    /// Compound `{r, i}` of two float32.
+    /// Compound of two float32 (field names: one pair of [`COMPLEX_NAMES`]).
     Complex64,
-    /// Compound `{r, i}` of two float64.
+    /// Compound of two float64 (field names: one pair of [`COMPLEX_NAMES`]).
     Complex128,
 }
 
@@ -49,8 +53,8 @@ impl std::fmt::Display for Element {
         f.write_str(match self {
             Element::Float32 => "float32",
             Element::Float64 => "float64",
-            Element::Complex64 => "complex {r, i} of float32",
-            Element::Complex128 => "complex {r, i} of float64",
+            Element::Complex64 => "complex (compound of two float32)",
+            Element::Complex128 => "complex (compound of two float64)",
         })
     }
 }
@@ -143,8 +147,9 @@ pub fn element(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<Element> {
             file,
             path,
             format!(
-                "found {}; floating-point numbers (float32/float64) or complex {{r, i}} compounds of them are needed",
-                describe(&desc)
+                "found {}; floating-point numbers (float32/float64) or complex compounds of two of them with fields {} are needed",
+                describe(&desc),
+                complex_names_list()
             ),
         )
     })
@@ -154,10 +159,9 @@ fn classify(desc: &TypeDescriptor) -> Option<Element> {
     match desc {
         TypeDescriptor::Float(FloatSize::U4) => Some(Element::Float32),
         TypeDescriptor::Float(FloatSize::U8) => Some(Element::Float64),
-        TypeDescriptor::Compound(c) if c.fields.len() == 2 => {
-            let r = c.fields.iter().find(|f| f.name == "r")?;
-            let i = c.fields.iter().find(|f| f.name == "i")?;
-            match (&r.ty, &i.ty) {
+        TypeDescriptor::Compound(_) => {
+            let (_, [re, im]) = complex_pair(desc)?;
+            match (re, im) {
                 (TypeDescriptor::Float(FloatSize::U4), TypeDescriptor::Float(FloatSize::U4)) => {
                     Some(Element::Complex64)
                 }
@@ -166,6 +170,157 @@ fn classify(desc: &TypeDescriptor) -> Option<Element> {
             }
         }
         _ => None,
+    }
+}
+
+/// The field-name pairs `(real part, imaginary part)` of the complex compounds read (exact
+/// spelling: HDF5 matches compound members by name): h5py and this tool's writer
+/// `{r, i}`, MATLAB v7.3 `{real, imag}`, and the spellings of other writers.
+pub const COMPLEX_NAMES: [(&str, &str); 6] = [
+    ("r", "i"),
+    ("real", "imag"),
+    ("re", "im"),
+    ("Re", "Im"),
+    ("Real", "Imaginary"),
+    ("real", "imaginary"),
+];
+
+/// `{r, i}, {real, imag}, ...` for messages.
+fn complex_names_list() -> String {
+    COMPLEX_NAMES
+        .iter()
+        .map(|(r, i)| format!("{{{r}, {i}}}"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// The index in [`COMPLEX_NAMES`] of a two-field compound's names and the types of its
+/// real and imaginary members; `None` for anything else.
+fn complex_pair(desc: &TypeDescriptor) -> Option<(usize, [&TypeDescriptor; 2])> {
+    let TypeDescriptor::Compound(c) = desc else {
+        return None;
+    };
+    if c.fields.len() != 2 {
+        return None;
+    }
+    let field = |n: &str| c.fields.iter().find(|f| f.name == n).map(|f| &f.ty);
+    COMPLEX_NAMES
+        .iter()
+        .enumerate()
+        .find_map(|(k, (r, i))| Some((k, [field(r)?, field(i)?])))
+}
+
+/// Declares a `#[repr(C)]` pair of `f64` with HDF5 member names `$re`, `$im`: the memory
+/// type a compound with those names is read into before it is reinterpreted as [`c64`].
+macro_rules! complex_layout {
+    ($name:ident, $re:literal, $im:literal) => {
+        #[derive(hdf5::H5Type, Clone, Copy, Default)]
+        #[repr(C)]
+        struct $name {
+            #[hdf5(rename = $re)]
+            re: f64,
+            #[hdf5(rename = $im)]
+            im: f64,
+        }
+    };
+}
+complex_layout!(RealImag, "real", "imag");
+complex_layout!(ReIm, "re", "im");
+complex_layout!(ReImCapital, "Re", "Im");
+complex_layout!(RealImaginaryCapital, "Real", "Imaginary");
+complex_layout!(RealImaginary, "real", "imaginary");
+
+/// Reinterprets values of `P` (a [`complex_layout!`] pair: `#[repr(C)]` `{f64, f64}`) as
+/// [`c64`] (`num_complex::Complex<f64>`, `#[repr(C)]` `{re, im}`) without a copy.
+fn into_c64_vec<P: Copy>(v: Vec<P>) -> Vec<c64> {
+    assert!(
+        std::mem::size_of::<P>() == std::mem::size_of::<c64>()
+            && std::mem::align_of::<P>() == std::mem::align_of::<c64>()
+    );
+    let mut v = std::mem::ManuallyDrop::new(v);
+    // SAFETY: P and c64 have the same size and alignment (asserted) and are both two f64
+    // in declaration order (`#[repr(C)]`), so the buffer holds valid c64 values; length
+    // and capacity are those of the original allocation, which is not dropped.
+    unsafe { Vec::from_raw_parts(v.as_mut_ptr().cast::<c64>(), v.len(), v.capacity()) }
+}
+
+/// [`into_c64_vec`] of a 2-D array (C order kept).
+fn into_c64<P: Copy>(a: Array2<P>) -> Array2<c64> {
+    let (r, c) = a.dim();
+    let a = if a.is_standard_layout() {
+        a
+    } else {
+        a.as_standard_layout().into_owned()
+    };
+    let (v, offset) = a.into_raw_vec_and_offset();
+    debug_assert!(offset.unwrap_or(0) == 0);
+    Array2::from_shape_vec((r, c), into_c64_vec(v)).expect("the shape of the array read")
+}
+
+/// The value types the readers land data in (`f64`, [`c64`]): a 2-D selection and a whole
+/// dataset, read as stored (C order). A complex dataset is read through the memory type of
+/// its field names ([`COMPLEX_NAMES`]).
+pub trait Stored: hdf5::H5Type + Copy + Default + Send + Sync + std::fmt::Display {
+    /// `ds[rows, cols]` of a 2-D dataset.
+    fn read_2d(
+        ds: &hdf5::Dataset,
+        rows: Range<usize>,
+        cols: Range<usize>,
+    ) -> hdf5::Result<Array2<Self>>;
+    /// Every value of `ds`, in C order.
+    fn read_all(ds: &hdf5::Dataset) -> hdf5::Result<Vec<Self>>;
+}
+
+impl Stored for f64 {
+    fn read_2d(
+        ds: &hdf5::Dataset,
+        rows: Range<usize>,
+        cols: Range<usize>,
+    ) -> hdf5::Result<Array2<f64>> {
+        ds.read_slice_2d(ndarray::s![rows, cols])
+    }
+    fn read_all(ds: &hdf5::Dataset) -> hdf5::Result<Vec<f64>> {
+        ds.read_raw()
+    }
+}
+
+/// The index in [`COMPLEX_NAMES`] of the field names of `ds` (0, `{r, i}`, when it is no
+/// complex compound: the read then fails with HDF5's own conversion error).
+fn names_of(ds: &hdf5::Dataset) -> usize {
+    ds.dtype()
+        .and_then(|t| t.to_descriptor())
+        .ok()
+        .and_then(|d| complex_pair(&d).map(|(k, _)| k))
+        .unwrap_or(0)
+}
+
+impl Stored for c64 {
+    fn read_2d(
+        ds: &hdf5::Dataset,
+        rows: Range<usize>,
+        cols: Range<usize>,
+    ) -> hdf5::Result<Array2<c64>> {
+        let sel = ndarray::s![rows, cols];
+        match names_of(ds) {
+            1 => ds.read_slice_2d::<RealImag, _>(sel).map(into_c64),
+            2 => ds.read_slice_2d::<ReIm, _>(sel).map(into_c64),
+            3 => ds.read_slice_2d::<ReImCapital, _>(sel).map(into_c64),
+            4 => ds
+                .read_slice_2d::<RealImaginaryCapital, _>(sel)
+                .map(into_c64),
+            5 => ds.read_slice_2d::<RealImaginary, _>(sel).map(into_c64),
+            _ => ds.read_slice_2d::<c64, _>(sel),
+        }
+    }
+    fn read_all(ds: &hdf5::Dataset) -> hdf5::Result<Vec<c64>> {
+        match names_of(ds) {
+            1 => ds.read_raw::<RealImag>().map(into_c64_vec),
+            2 => ds.read_raw::<ReIm>().map(into_c64_vec),
+            3 => ds.read_raw::<ReImCapital>().map(into_c64_vec),
+            4 => ds.read_raw::<RealImaginaryCapital>().map(into_c64_vec),
+            5 => ds.read_raw::<RealImaginary>().map(into_c64_vec),
+            _ => ds.read_raw::<c64>(),
+        }
     }
 }
 
@@ -446,9 +601,7 @@ pub fn read_real(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<Vec<f64>
 
 /// Reads a whole dataset as complex numbers (C order), rejecting NaN and Inf.
 pub fn read_complex(file: &Path, path: &str, ds: &hdf5::Dataset) -> Result<Vec<c64>> {
-    let v = ds
-        .read_raw::<c64>()
-        .map_err(|e| h5err(file, path, "cannot read", e))?;
+    let v = c64::read_all(ds).map_err(|e| h5err(file, path, "cannot read", e))?;
     if let Some((i, x)) = first_nonfinite_complex(&v) {
         return Err(nonfinite(file, path, &ds.shape(), i, &x.to_string()));
     }
@@ -534,7 +687,7 @@ pub fn read_transposed<T>(
     finite: impl Fn(&T) -> bool,
 ) -> Result<faer::Mat<T>>
 where
-    T: hdf5::H5Type + Copy + Default + Send + Sync + std::fmt::Display,
+    T: Stored,
 {
     let shape = ds.shape();
     let (r, c) = match shape.as_slice() {
@@ -582,18 +735,17 @@ where
     };
     let read = |sel: (std::ops::Range<usize>, std::ops::Range<usize>)| {
         let (a, b) = sel;
-        ds.read_slice_2d::<T, _>(ndarray::s![a.clone(), b.clone()])
-            .map_err(|e| {
-                h5err(
-                    file,
-                    path,
-                    &format!(
-                        "cannot read [{}..{}, {}..{}]",
-                        a.start, a.end, b.start, b.end
-                    ),
-                    e,
-                )
-            })
+        T::read_2d(ds, a.clone(), b.clone()).map_err(|e| {
+            h5err(
+                file,
+                path,
+                &format!(
+                    "cannot read [{}..{}, {}..{}]",
+                    a.start, a.end, b.start, b.end
+                ),
+                e,
+            )
+        })
     };
     if r == 0 || c == 0 {
         return Ok(m);

@@ -100,21 +100,26 @@ fn read_line(
     layout: Layout,
     j: usize,
 ) -> Result<Vec<c64>> {
-    use ndarray::s;
+    use h5::Stored;
     let err = |e| h5::h5err(file, path, &format!("cannot read state {j}"), e);
-    let v: Vec<c64> = match (el.field(), layout) {
-        (Field::Real, Layout::Columns) => ds.read_slice_1d::<f64, _>(s![.., j]).map_err(err)?,
-        (Field::Real, Layout::Rows) => ds.read_slice_1d::<f64, _>(s![j, ..]).map_err(err)?,
-        (Field::Complex, Layout::Columns) => {
-            return Ok(ds.read_slice_1d::<c64, _>(s![.., j]).map_err(err)?.to_vec())
-        }
-        (Field::Complex, Layout::Rows) => {
-            return Ok(ds.read_slice_1d::<c64, _>(s![j, ..]).map_err(err)?.to_vec())
-        }
-    }
-    .iter()
-    .map(|&x| c64::new(x, 0.0))
-    .collect();
+    let dim = ds.shape().first().copied().unwrap_or(0);
+    let width = ds.shape().get(1).copied().unwrap_or(0);
+    let (rows, cols) = match layout {
+        Layout::Columns => (0..dim, j..j + 1),
+        Layout::Rows => (j..j + 1, 0..width),
+    };
+    let v: Vec<c64> = match el.field() {
+        Field::Real => f64::read_2d(ds, rows, cols)
+            .map_err(err)?
+            .iter()
+            .map(|&x| c64::new(x, 0.0))
+            .collect(),
+        Field::Complex => c64::read_2d(ds, rows, cols)
+            .map_err(err)?
+            .iter()
+            .copied()
+            .collect(),
+    };
     Ok(v)
 }
 

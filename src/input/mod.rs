@@ -27,8 +27,9 @@
 //! | attribute `label` | string | legend label |
 //!
 //! Real data are float32 or float64 (float32 is promoted to float64 on reading).
-//! Complex data are the HDF5 compound `{r, i}` of two float32 or two float64 (the
-//! convention of h5py). Integers, strings and other types are rejected with an
+//! Complex data are an HDF5 compound of two float32 or two float64 with the field names
+//! `{r, i}` (the convention of h5py) or another pair of `h5::COMPLEX_NAMES`
+//! (`{real, imag}` of MATLAB v7.3, `{re, im}`, ...). Integers, strings and other types are rejected with an
 //! error saying what was found. NaN and Inf are rejected everywhere. Dense, CSR
 //! and energy-basis operators must be Hermitian:
 //! `max |A_ij − conj(A_ji)| ≤ 10⁻¹⁰ · max |A_ij|`.

@@ -179,7 +179,7 @@ fn check_operator_fits(
     }
 }
 
-fn read_typed<T: Scalar>(
+fn read_typed<T: Scalar + h5::Stored>(
     file: &Path,
     f: &hdf5::File,
     info: &ObservableInfo,

@@ -17,7 +17,7 @@ use super::{Layout, Sector};
 use crate::data::{c64, ColumnSource, Field, Matrix, Spectrum};
 use crate::error::{Error, Result};
 use faer::{Mat, MatMut};
-use ndarray::{s, Array2};
+use ndarray::Array2;
 use std::ops::Range;
 use std::path::{Path, PathBuf};
 
@@ -137,7 +137,7 @@ impl VectorReader {
         }
     }
 
-    fn read_span_t<T: hdf5::H5Type + Copy + Default + Send + Sync + std::fmt::Display>(
+    fn read_span_t<T: h5::Stored>(
         &self,
         a: usize,
         b: usize,
@@ -149,7 +149,7 @@ impl VectorReader {
     }
 
     /// Reads the file's states `a..b` into `dst` (`dim × (b − a)`).
-    fn read_span_into<T: hdf5::H5Type + Copy + Send + Sync + std::fmt::Display>(
+    fn read_span_into<T: h5::Stored>(
         &self,
         a: usize,
         b: usize,
@@ -200,7 +200,7 @@ impl VectorReader {
 
     /// Reads the components `comps` of the file's states `a..b` (`a < b`) as stored
     /// (`[comps, w]` or `[w, comps]`) and checks that every value is finite.
-    fn read_checked<T: hdf5::H5Type + Copy + std::fmt::Display>(
+    fn read_checked<T: h5::Stored>(
         &self,
         comps: Range<usize>,
         a: usize,
@@ -209,8 +209,8 @@ impl VectorReader {
     ) -> Result<Array2<T>> {
         let c0 = comps.start;
         let arr: Array2<T> = match self.layout {
-            Layout::Columns => self.ds.read_slice_2d(s![comps, a..b]),
-            Layout::Rows => self.ds.read_slice_2d(s![a..b, comps]),
+            Layout::Columns => T::read_2d(&self.ds, comps, a..b),
+            Layout::Rows => T::read_2d(&self.ds, a..b, comps),
         }
         .map_err(|e| {
             h5::h5err(

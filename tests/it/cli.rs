@@ -116,7 +116,7 @@ fn inf_in_eigenvectors() {
 fn integer_energies_are_the_wrong_type() {
     fails_with(
         &["inspect", "fixtures/bad/int_energies.h5"],
-        "fixtures/bad/int_energies.h5: /energies: found integer elements (int64); floating-point numbers (float32/float64) or complex {r, i} compounds of them are needed",
+        "fixtures/bad/int_energies.h5: /energies: found integer elements (int64); floating-point numbers (float32/float64) or complex compounds of two of them with fields {r, i}, {real, imag}, {re, im}, {Re, Im}, {Real, Imaginary}, {real, imaginary} are needed",
     );
 }
 
@@ -124,7 +124,7 @@ fn integer_energies_are_the_wrong_type() {
 fn string_observable_is_the_wrong_type() {
     fails_with(
         &["inspect", "fixtures/bad/string_observable.h5"],
-        "fixtures/bad/string_observable.h5: /observables/name: found string elements (string (len 4)); floating-point numbers (float32/float64) or complex {r, i} compounds of them are needed",
+        "fixtures/bad/string_observable.h5: /observables/name: found string elements (string (len 4)); floating-point numbers (float32/float64) or complex compounds of two of them with fields {r, i}, {real, imag}, {re, im}, {Re, Im}, {Real, Imaginary}, {real, imaginary} are needed",
     );
 }
 
