@@ -41,6 +41,7 @@ fn input_flags(
         eigenvectors_path,
         layout,
         observable_paths: observable_path,
+        state_paths: Vec::new(),
         hamiltonian_path,
         memory,
         ensemble_by: None,

@@ -33,6 +33,7 @@ impl InputArgs {
             eigenvectors_path: p.eigenvectors_path.clone(),
             layout: p.layout.clone(),
             observable_paths: p.observable_paths.clone(),
+            state_paths: p.state_paths.clone(),
             hamiltonian_path: p.hamiltonian_path.clone(),
             memory: memory.memory.clone(),
             ensemble_by: Some(p.ensemble_by.clone()),
@@ -68,6 +69,10 @@ pub struct PathArgs {
     /// Extra observable at a custom path, as NAME=PATH (repeatable).
     #[arg(long = "observable-path", value_name = "NAME=PATH")]
     pub observable_paths: Vec<String>,
+    /// Extra stored state at a custom path, as NAME=PATH (repeatable; `--state stored:NAME`
+    /// uses it); a relative PATH is taken inside each sector.
+    #[arg(long = "state-path", value_name = "NAME=PATH")]
+    pub state_paths: Vec<String>,
     /// Path of the Hamiltonian dataset or CSR group.
     #[arg(long, value_name = "PATH")]
     pub hamiltonian_path: Option<String>,
@@ -78,8 +83,8 @@ pub struct PathArgs {
 }
 
 impl PathArgs {
-    /// The overrides (`--observable-path` values are split at the first `=` into NAME and
-    /// PATH).
+    /// The overrides (`--observable-path` and `--state-path` values are split at the first
+    /// `=` into NAME and PATH).
     pub fn resolve(&self) -> Result<Overrides> {
         InputArgs {
             files: Vec::new(),

@@ -268,7 +268,7 @@ fn describe(
     let v = describe_vectors(file, f, group, n, ov)?;
     let observables = describe_observables(file, f, group, v.dim, n, ov)?;
     let hamiltonian = describe_hamiltonian(file, f, group, v.dim, n, ov)?;
-    let state_info = describe_states(file, f, group, v.dim)?;
+    let state_info = describe_states(file, f, group, v.dim, ov)?;
     let Vectors {
         path: vpath,
         dim,
@@ -592,11 +592,16 @@ fn describe_hamiltonian(
 }
 
 /// The stored initial states of a sector (under `states/`, sorted by name), each `[dim]`.
+/// The stored states of a sector: the members of `states/`, then the `--state-path`
+/// overrides (which replace a member of the same name). A relative override path missing
+/// in a sector is skipped there (the state is then unknown in that sector); an absolute
+/// one must exist.
 fn describe_states(
     file: &Path,
     f: &hdf5::File,
     group: &str,
     dim: Option<usize>,
+    ov: &Overrides,
 ) -> Result<Vec<StateInfo>> {
     let mut state_info = Vec::new();
     let spath = join(group, "states");
@@ -610,32 +615,58 @@ fn describe_states(
         names.sort();
         for name in names {
             let p = join(&spath, &name);
-            let ds = open_ds(file, f, &p)?;
-            let el = h5::element(file, &p, &ds)?;
-            let shape = ds.shape();
-            let len = h5::vector_len(&shape);
-            let ok = len.is_some_and(|l| dim.is_none_or(|d| l == d));
-            if !ok {
+            state_info.push(describe_state(file, f, name, p, dim)?);
+        }
+    }
+    for (name, given) in &ov.states {
+        let p = resolve(group, given);
+        if kind(file, f, &p)?.is_none() {
+            if given.starts_with('/') {
                 return Err(Error::dataset(
                     file,
                     &p,
-                    format!(
-                        "shape {} is not [dim]{}",
-                        format_shape(&shape),
-                        dim.map(|d| format!(" = [{d}]")).unwrap_or_default()
-                    ),
+                    format!("missing dataset (state '{name}', --state-path)"),
                 ));
             }
-            state_info.push(StateInfo {
-                name,
-                field: el.field(),
-                element: el,
-                path: p,
-            });
+            continue;
         }
+        state_info.retain(|s: &StateInfo| &s.name != name);
+        state_info.push(describe_state(file, f, name.clone(), p, dim)?);
     }
-
     Ok(state_info)
+}
+
+/// One stored state at `p`: a `[dim]` vector (or `[1, dim]`, `[dim, 1]`) of floats or
+/// complex numbers.
+fn describe_state(
+    file: &Path,
+    f: &hdf5::File,
+    name: String,
+    p: String,
+    dim: Option<usize>,
+) -> Result<StateInfo> {
+    let ds = open_ds(file, f, &p)?;
+    let el = h5::element(file, &p, &ds)?;
+    let shape = ds.shape();
+    let len = h5::vector_len(&shape);
+    let ok = len.is_some_and(|l| dim.is_none_or(|d| l == d));
+    if !ok {
+        return Err(Error::dataset(
+            file,
+            &p,
+            format!(
+                "shape {} is not [dim]{}",
+                format_shape(&shape),
+                dim.map(|d| format!(" = [{d}]")).unwrap_or_default()
+            ),
+        ));
+    }
+    Ok(StateInfo {
+        name,
+        field: el.field(),
+        element: el,
+        path: p,
+    })
 }
 
 fn filter_name(f: &hdf5::filters::Filter) -> String {

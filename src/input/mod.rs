@@ -228,6 +228,8 @@ pub struct Overrides {
     pub layout: Option<Layout>,
     /// Extra observables as (name, path).
     pub observables: Vec<(String, String)>,
+    /// Extra stored states as (name, path); a relative path is taken inside each sector.
+    pub states: Vec<(String, String)>,
     /// Path of the Hamiltonian.
     pub hamiltonian: Option<String>,
     /// Memory budget in bytes (`--memory`): no read sized by a file header may hold more

@@ -37,6 +37,8 @@ pub struct InputFlags {
     pub layout: Option<String>,
     /// `--observable-path NAME=PATH` (repeatable).
     pub observable_paths: Vec<String>,
+    /// `--state-path NAME=PATH` (repeatable).
+    pub state_paths: Vec<String>,
     /// `--hamiltonian-path`.
     pub hamiltonian_path: Option<String>,
     /// `--memory SIZE` (default: half the machine's memory).
@@ -45,28 +47,34 @@ pub struct InputFlags {
     pub ensemble_by: Option<String>,
 }
 
+/// `NAME=PATH` values of `flag`, split at the first `=` (neither part empty; a state or
+/// observable name has no `/`).
+fn named_paths(flag: &str, values: &[String]) -> Result<Vec<(String, String)>> {
+    values
+        .iter()
+        .map(|s| match s.split_once('=') {
+            Some((n, p)) if !n.is_empty() && !p.is_empty() && !n.contains('/') => {
+                Ok((n.to_string(), p.to_string()))
+            }
+            _ => Err(Error::usage(format!(
+                "{flag} '{}' is not NAME=PATH",
+                crate::error::escape(s)
+            ))),
+        })
+        .collect()
+}
+
 impl InputFlags {
-    /// The dataset path overrides (`--observable-path` values are split at the first `=`
-    /// into NAME and PATH); reads are limited by the default budget.
+    /// The dataset path overrides (`--observable-path` and `--state-path` values are split
+    /// at the first `=` into NAME and PATH); reads are limited by the default budget.
     pub fn overrides(&self) -> Result<Overrides> {
         let layout = self.layout.as_deref().map(Layout::parse).transpose()?;
-        let observables = self
-            .observable_paths
-            .iter()
-            .map(|s| match s.split_once('=') {
-                Some((n, p)) if !n.is_empty() && !p.is_empty() => {
-                    Ok((n.to_string(), p.to_string()))
-                }
-                _ => Err(Error::usage(format!(
-                    "--observable-path '{s}' is not NAME=PATH"
-                ))),
-            })
-            .collect::<Result<Vec<_>>>()?;
         Ok(Overrides {
+            observables: named_paths("--observable-path", &self.observable_paths)?,
+            states: named_paths("--state-path", &self.state_paths)?,
             energies: self.energies_path.clone(),
             eigenvectors: self.eigenvectors_path.clone(),
             layout,
-            observables,
             hamiltonian: self.hamiltonian_path.clone(),
             memory: None,
             ensemble_by: match &self.ensemble_by {

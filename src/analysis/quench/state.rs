@@ -93,7 +93,7 @@ impl StateSpec {
             let name = name.trim();
             if name.is_empty() || name.contains('/') {
                 return Err(Error::usage(format!(
-                    "state '{}': a stored state is named by its dataset under states/ of each sector (stored:NAME or states/NAME)",
+                    "state '{}': a stored state is named by its dataset under states/ of each sector (stored:NAME or states/NAME), or by --state-path NAME=PATH for a dataset elsewhere",
                     crate::error::escape(s)
                 )));
             }

@@ -360,6 +360,7 @@ fn overrides_define_a_single_sector_from_custom_paths() {
         eigenvectors: Some("eigenvectors".into()),
         layout: None,
         observables: vec![("hop".into(), "/chain/observables/sz".into())],
+        states: vec![],
         hamiltonian: None,
         memory: None,
         ensemble_by: Default::default(),

@@ -416,3 +416,67 @@ fn a_small_memory_budget_gives_the_same_figures_or_one_line() {
         "{err}"
     );
 }
+
+#[test]
+fn a_state_at_a_custom_path_gives_the_figures_of_the_same_state_under_states() {
+    // The same vector read from states/psi and from /initial/psi through --state-path must
+    // give the same figures (exact identity, common practice, no source); data from
+    // scripts/make_compound_fixtures.py (numpy 2.4.6, h5py 3.16.0).
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("custom_state.h5");
+    std::fs::copy("fixtures/compounds/r_i.h5", &path).unwrap();
+    {
+        let f = hdf5::File::open_rw(&path).unwrap();
+        let psi: Vec<eigentherm::data::c64> = f.dataset("states/psi").unwrap().read_raw().unwrap();
+        f.create_group("initial")
+            .unwrap()
+            .new_dataset_builder()
+            .with_data(&psi)
+            .create("psi")
+            .unwrap();
+    }
+    let p = path.to_str().unwrap();
+    let quench = |extra: &[&str]| {
+        let mut args = vec!["quench", p, "--observable", "hop", "--json"];
+        args.extend(extra);
+        let (ok, out, err) = run(&args);
+        assert!(ok, "{err}");
+        let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+        v["files"][0]["overall"].clone()
+    };
+    let reference = quench(&["--state", "stored:psi"]);
+    for spec in ["alt=/initial/psi", "alt=initial/psi"] {
+        let got = quench(&["--state", "stored:alt", "--state-path", spec]);
+        assert_eq!(max_rel_diff(&reference, &got), 0.0, "{spec}");
+    }
+    // an absolute path that does not exist is an input error naming it
+    let (ok, _, err) = run(&[
+        "quench",
+        p,
+        "--observable",
+        "hop",
+        "--state",
+        "stored:alt",
+        "--state-path",
+        "alt=/nowhere/psi",
+    ]);
+    assert!(!ok);
+    assert!(
+        err.trim_end()
+            .ends_with("/nowhere/psi: missing dataset (state 'alt', --state-path)"),
+        "{err}"
+    );
+    // NAME=PATH is required
+    let (ok, _, err) = run(&[
+        "quench",
+        p,
+        "--observable",
+        "hop",
+        "--state",
+        "stored:alt",
+        "--state-path",
+        "alt",
+    ]);
+    assert!(!ok);
+    assert_eq!(err.trim_end(), "error: --state-path 'alt' is not NAME=PATH");
+}
