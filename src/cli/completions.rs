@@ -34,7 +34,7 @@ pub struct CompletionsArgs {
 #[derive(Debug, clap::Args)]
 pub struct ManpageArgs {
     /// Write eigentherm.1 and one page per subcommand (eigentherm-levels.1, ...) into this folder instead of printing eigentherm.1 to stdout.
-    #[arg(long, value_name = "DIR")]
+    #[arg(long, value_name = "DIR", value_hint = clap::ValueHint::DirPath)]
     pub dir: Option<PathBuf>,
 }
 
