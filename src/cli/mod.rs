@@ -4,6 +4,7 @@
 //! ([`args`]) and resolved once.
 
 pub mod args;
+pub mod completions;
 pub mod demo;
 pub mod elements;
 pub mod entanglement;
@@ -61,12 +62,22 @@ pub enum Command {
     Scaling(scaling::Args),
     /// Every analysis on every file, sector and observable, written to a report folder.
     Study(study::Args),
+    /// Write the completion script of a shell (bash, zsh or fish) to stdout.
+    Completions(completions::CompletionsArgs),
+    /// Write the manual page (roff) to stdout, or every page into a folder with --dir.
+    Manpage(completions::ManpageArgs),
 }
 
 /// The command line of this process, parsed (help, version and usage errors end the
 /// process here, with clap's own exit statuses 0 and 2).
 pub fn parse() -> Cli {
     Cli::parse()
+}
+
+/// Names of the subcommands, in the order of `eigentherm --help` (for tests and
+/// packaging checks; no clap type leaves this module).
+pub fn subcommand_names() -> Vec<String> {
+    completions::subcommand_names()
 }
 
 /// Runs one parsed command line.
@@ -85,5 +96,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Entanglement(a) => entanglement::run(&a),
         Command::Scaling(a) => scaling::run(&a),
         Command::Study(a) => study::run(&a),
+        Command::Completions(a) => completions::run_completions(&a),
+        Command::Manpage(a) => completions::run_manpage(&a),
     }
 }

@@ -266,13 +266,13 @@ impl Page {
         }
         h.push_str("</tbody>\n</table>\n");
         if !p.inputs.is_empty() {
-            h.push_str("<table>\n<caption>Input files</caption>\n<thead><tr><th>file</th><th class=\"num\">bytes</th><th>SHA-256</th></tr></thead>\n<tbody>\n");
+            h.push_str("<table>\n<caption>Input files</caption>\n<thead><tr><th>file</th><th class=\"num\">size</th><th>SHA-256</th></tr></thead>\n<tbody>\n");
             for f in &p.inputs {
                 let _ = writeln!(
                     h,
                     "<tr><td><code>{}</code></td><td class=\"num\">{}</td><td><code>{}</code></td></tr>",
                     escape_html(&f.path),
-                    f.bytes,
+                    crate::memory::human_bytes(f.bytes as f64),
                     escape_html(&f.sha256)
                 );
             }

@@ -3,6 +3,11 @@
 //!
 //! The bad files are written by `scripts/make_fixtures.py` (numpy 2.4.6, h5py 3.16.0)
 //! into `fixtures/bad/`. Expected messages: our own wording (common practice, no source).
+//! Submodules: shell completions and manual pages ([`completions`]), sizes in binary
+//! units ([`units`]).
+
+mod completions;
+mod units;
 
 use std::path::Path;
 use std::process::Command;
