@@ -5,6 +5,7 @@
 //! surface when the file is opened, not in the middle of an analysis.
 
 use super::h5::{self, attr_count, attr_counts, attr_string, format_shape, Element};
+use super::matlab;
 use super::{Layout, LayoutSource, ObservableInfo, Overrides, Sector, StateInfo};
 use crate::data::{Field, OperatorForm};
 use crate::error::{Error, Result};
@@ -266,8 +267,14 @@ fn describe(
 ) -> Result<Sector> {
     let (n, eel) = describe_energies(file, f, epath)?;
     let v = describe_vectors(file, f, group, n, ov)?;
-    let observables = describe_observables(file, f, group, v.dim, n, ov)?;
-    let hamiltonian = describe_hamiltonian(file, f, group, v.dim, n, ov)?;
+    let mut observables = describe_observables(file, f, group, v.dim, n, ov)?;
+    let mut hamiltonian = describe_hamiltonian(file, f, group, v.dim, n, ov)?;
+    if matlab::is_mat73(file) {
+        // MATLAB writes column-major: every 2-D dataset holds the transpose
+        for o in observables.iter_mut().chain(hamiltonian.as_mut()) {
+            o.column_major |= matches!(o.form, OperatorForm::Dense | OperatorForm::EnergyBasis);
+        }
+    }
     let state_info = describe_states(file, f, group, v.dim, ov)?;
     let Vectors {
         path: vpath,
@@ -408,16 +415,18 @@ fn describe_vectors(
             kind(file, f, &p)?.map(|_| p)
         }
     };
+    let mat = matlab::is_mat73(file);
+    let (layout, layout_source) = match ov.layout {
+        Some(l) => (l, LayoutSource::Option),
+        None if mat => (Layout::Rows, LayoutSource::MatFile),
+        None => (Layout::Columns, LayoutSource::Assumed),
+    };
     let mut v = Vectors {
         path: vpath.clone(),
         dim: None,
         element: None,
-        layout: ov.layout.unwrap_or(Layout::Columns),
-        layout_source: if ov.layout.is_some() {
-            LayoutSource::Option
-        } else {
-            LayoutSource::Assumed
-        },
+        layout,
+        layout_source,
         chunk: None,
         filters: Vec::new(),
     };
@@ -819,7 +828,39 @@ fn probe_dataset_operator(
         element: el,
         shape,
         support: attr_string(file, path, &ds, "observable_support")?,
+        column_major: false,
     })
+}
+
+/// Member names of a sparse group: SciPy's CSR `{data, indices, indptr}` (attribute
+/// `shape`), or MATLAB's compressed columns `{data, ir, jc}` (attribute `MATLAB_sparse`),
+/// see [`matlab`].
+struct CsrNames {
+    indices: &'static str,
+    indptr: &'static str,
+    column_major: bool,
+}
+
+impl CsrNames {
+    fn of(g: &hdf5::Group) -> CsrNames {
+        let matlab = !g.link_exists("indices")
+            && g.link_exists("ir")
+            && g.attr_names()
+                .is_ok_and(|a| a.iter().any(|n| n == matlab::SPARSE_ATTRIBUTE));
+        if matlab {
+            CsrNames {
+                indices: "ir",
+                indptr: "jc",
+                column_major: true,
+            }
+        } else {
+            CsrNames {
+                indices: "indices",
+                indptr: "indptr",
+                column_major: false,
+            }
+        }
+    }
 }
 
 /// [`probe_operator`] for a CSR group `{data, indices, indptr}` with attribute `shape`.
@@ -833,22 +874,36 @@ fn probe_csr_operator(
     let g = f
         .group(path)
         .map_err(|e| h5::h5err(file, path, "cannot open group", e))?;
-    for part in ["data", "indices", "indptr"] {
+    let names = CsrNames::of(&g);
+    for part in ["data", names.indices, names.indptr] {
         if kind(file, f, &join(path, part))? != Some(LocationType::Dataset) {
             return Err(Error::dataset(
                 file,
                 join(path, part),
-                "missing dataset (a CSR group needs data, indices, indptr and attribute shape)",
+                if names.column_major {
+                    "missing dataset (a MATLAB sparse group needs data, ir, jc; an all-zero sparse matrix stores none: store it dense)"
+                } else {
+                    "missing dataset (a CSR group needs data, indices, indptr and attribute shape)"
+                },
             ));
         }
     }
-    let shape = attr_counts(file, path, &g, "shape")?.ok_or_else(|| {
-        Error::dataset(
-            file,
-            path,
-            "CSR group without attribute shape = [rows, cols]",
-        )
-    })?;
+    let shape = if names.column_major {
+        // compressed columns of A read as compressed rows of Aᵀ: as many "rows" as jc has
+        // entries minus one; square operators only, so shape is [c, c]
+        let rows = attr_count(file, path, &g, matlab::SPARSE_ATTRIBUTE)?.unwrap_or(0);
+        let jc = open_ds(file, f, &join(path, "jc"))?;
+        let cols = jc.size().saturating_sub(1);
+        vec![cols, rows]
+    } else {
+        attr_counts(file, path, &g, "shape")?.ok_or_else(|| {
+            Error::dataset(
+                file,
+                path,
+                "CSR group without attribute shape = [rows, cols]",
+            )
+        })?
+    };
     if shape.len() != 2 {
         return Err(Error::dataset(
             file,
@@ -871,7 +926,7 @@ fn probe_csr_operator(
         ));
     }
     let nnz = data.size();
-    let ipath = join(path, "indices");
+    let ipath = join(path, names.indices);
     let idx = open_ds(file, f, &ipath)?;
     h5::require_integer(file, &ipath, &idx)?;
     if idx.size() != nnz || idx.ndim() != 1 {
@@ -884,7 +939,7 @@ fn probe_csr_operator(
             ),
         ));
     }
-    let ppath = join(path, "indptr");
+    let ppath = join(path, names.indptr);
     let ptr = open_ds(file, f, &ppath)?;
     h5::require_integer(file, &ppath, &ptr)?;
     // shape[0] + 1 computed without overflow: a shape attribute of 2⁶⁴ − 1 rows cannot match
@@ -909,6 +964,7 @@ fn probe_csr_operator(
         element: el,
         shape,
         support: attr_string(file, path, &g, "observable_support")?,
+        column_major: names.column_major,
     })
 }
 

@@ -32,6 +32,9 @@ pub enum LayoutSource {
     /// A square set without attribute or a deciding Hamiltonian: assumed columns (the
     /// NumPy/h5py convention).
     Assumed,
+    /// A MATLAB v7.3 MAT-file without attribute or option: rows (MATLAB stores column-major,
+    /// so its `dim × n` matrix of eigenvectors reads as `[n, dim]`; see `input::matlab`).
+    MatFile,
 }
 
 /// States tried in each reading.

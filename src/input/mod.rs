@@ -67,6 +67,7 @@ mod h5;
 pub mod inspect;
 mod layout;
 pub mod limit;
+pub mod matlab;
 mod operators;
 pub mod validate;
 mod vectors;
@@ -135,6 +136,10 @@ pub struct ObservableInfo {
     /// fitted together.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub support: Option<String>,
+    /// Stored column-major (a MATLAB v7.3 file: the dataset holds `Aᵀ`; a CSR group is a
+    /// MATLAB sparse group `{data, ir, jc}` in compressed columns), see [`matlab`].
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub column_major: bool,
 }
 
 /// What the file says about one initial state, without reading it.

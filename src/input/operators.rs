@@ -207,7 +207,9 @@ fn read_typed<T: Scalar + h5::Stored>(
                 Some(o) if info.form == OperatorForm::EnergyBasis => {
                     let v = read(&open(file, f, path)?)?;
                     let c = info.shape[1];
-                    let m = Mat::from_fn(info.shape[0], c, |a, b| v[o[a] * c + o[b]]);
+                    // a column-major file holds Aᵀ = conj(A): conjugate back
+                    let at = |k: usize| if info.column_major { v[k].conj() } else { v[k] };
+                    let m = Mat::from_fn(info.shape[0], c, |a, b| at(o[a] * c + o[b]));
                     check_hermitian_dense(file, path, &m)?;
                     m
                 }
@@ -222,7 +224,8 @@ fn read_typed<T: Scalar + h5::Stored>(
                         T::finite,
                     )?;
                     check_hermitian_dense(file, path, &m)?;
-                    if T::IS_COMPLEX {
+                    // a column-major file (MATLAB) holds Aᵀ, whose transpose is A itself
+                    if T::IS_COMPLEX && !info.column_major {
                         use rayon::prelude::*;
                         m.as_mut().par_col_chunks_mut(64).for_each(|mut cols| {
                             for j in 0..cols.ncols() {
@@ -243,10 +246,17 @@ fn read_typed<T: Scalar + h5::Stored>(
         }
         OperatorForm::Csr => {
             let dpath = join(path, "data");
-            let data = read(&open(file, f, &dpath)?)?;
-            let ipath = join(path, "indices");
+            let mut data = read(&open(file, f, &dpath)?)?;
+            // MATLAB's compressed columns of A are the compressed rows of Aᵀ = conj(A)
+            let (indices_name, indptr_name) = if info.column_major {
+                data.iter_mut().for_each(|x| *x = x.conj());
+                ("ir", "jc")
+            } else {
+                ("indices", "indptr")
+            };
+            let ipath = join(path, indices_name);
             let indices = h5::read_indices(file, &ipath, &open(file, f, &ipath)?)?;
-            let ppath = join(path, "indptr");
+            let ppath = join(path, indptr_name);
             let indptr = h5::read_indices(file, &ppath, &open(file, f, &ppath)?)?;
             let csr = Csr {
                 nrows: info.shape[0],

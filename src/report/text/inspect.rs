@@ -61,6 +61,7 @@ fn format_sector(o: &mut String, r: &SectorSummary) {
             let how = match s.layout_source {
                 LayoutSource::Assumed => " (assumed)",
                 LayoutSource::Residual => " (by the residuals ||Hv - Ev||)",
+                LayoutSource::MatFile => " (MATLAB v7.3 file, column-major)",
                 _ => "",
             };
             let _ = writeln!(
