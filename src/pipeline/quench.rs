@@ -207,6 +207,9 @@ fn components<'a>(
             Ok(vec![(s, c)])
         }
         StateSpec::Product { .. } | StateSpec::Uniform { .. } => {
+            if let Some(out) = by_configurations(file, sectors, spec)? {
+                return Ok(out);
+            }
             if let Some(out) = full_space(None)? {
                 return Ok(out);
             }
@@ -238,6 +241,65 @@ fn components<'a>(
             Ok(vec![(s, psi)])
         }
     }
+}
+
+/// A product state's components in sectors whose basis vectors are single configurations
+/// (a `basis` dataset, no embedding): `c_k = ψ(b_k) = Π_i φ_i(bit_i(b_k))` for the
+/// configuration `b_k` of row `k` ([`quench::state::product_amplitudes`]). `None` unless
+/// every selected sector has a `basis` and no embedding. The number of sites is the
+/// sector's `size` attribute, or the letters of the product state; a state with weight
+/// outside the stored sectors is analyzed as its normalised projection, with a warning.
+fn by_configurations<'a>(
+    file: &EigenFile,
+    sectors: &[&'a Sector],
+    spec: &StateSpec,
+) -> Result<Option<Components<'a>>> {
+    let path = file.path();
+    let mut out = Vec::with_capacity(sectors.len());
+    for &s in sectors {
+        if file.embedding(s)?.is_some() {
+            return Ok(None);
+        }
+        let Some(configs) = file.basis(s)? else {
+            return Ok(None);
+        };
+        let bpath = format!("{}/basis", s.group.trim_end_matches('/'));
+        let sites = match (spec, s.size) {
+            (StateSpec::Product { sites }, size) => {
+                if size.is_some_and(|l| l != sites.len()) {
+                    return Err(Error::usage(format!(
+                        "the product state gives {} sites but sector '{}' has size {}",
+                        sites.len(),
+                        escape(&s.name),
+                        size.unwrap_or(0)
+                    )));
+                }
+                sites.clone()
+            }
+            (StateSpec::Uniform { site }, Some(l)) => vec![*site; l],
+            _ => {
+                return Err(Error::dataset(
+                    path,
+                    &s.group,
+                    "a uniform product state over stored basis configurations needs the sector attribute size (the number of sites)",
+                ))
+            }
+        };
+        let c =
+            quench::state::product_amplitudes(&sites, &configs).map_err(|e| e.at(path, &bpath))?;
+        out.push((s, c));
+    }
+    let total: f64 = out
+        .iter()
+        .map(|(_, c)| c.iter().map(|x| x.norm_sqr()).sum::<f64>())
+        .sum();
+    if total < 1.0 - 1e-9 {
+        crate::progress::warn(&format!(
+            "{}: the product state has weight {total:.6} on the stored basis configurations of the selected sectors; the analysis uses its normalised projection",
+            path.display()
+        ));
+    }
+    Ok(Some(out))
 }
 
 fn single<'a>(sectors: &[&'a Sector], path: &Path, what: &str) -> Result<&'a Sector> {

@@ -480,3 +480,89 @@ fn a_state_at_a_custom_path_gives_the_figures_of_the_same_state_under_states() {
     assert!(!ok);
     assert_eq!(err.trim_end(), "error: --state-path 'alt' is not NAME=PATH");
 }
+
+#[test]
+fn a_product_state_in_a_sector_with_basis_configurations_needs_no_embedding() {
+    // An S^z = 0 sector (dimension 70 of L = 8, not 2^L) written once with its embedding and
+    // once with only its `basis` configurations: the Néel state's component is the same
+    // vector both ways, so the figures must agree to the bit (exact identity, common
+    // practice, no source).
+    let dir = tempfile::tempdir().unwrap();
+    let spec = ChainSpec {
+        model: ChainModel::Xxz {
+            j: 1.0,
+            delta: 0.55,
+            j2: 0.4,
+        },
+        sites: 8,
+        boundary: Boundary::Open,
+        reflection: Reflection::Break { field: 0.1 },
+        site: None,
+        sz: Some(0.0),
+        disorder: None,
+    };
+    let sectors = build_chain(&spec).unwrap();
+    assert!(sectors
+        .iter()
+        .all(|s| s.basis.is_some() && s.embedding.is_some()));
+    let with = dir.path().join("with_embedding.h5");
+    write_file(&with, &sectors).unwrap();
+    let mut bare = sectors.clone();
+    for s in &mut bare {
+        s.embedding = None;
+    }
+    let without = dir.path().join("basis_only.h5");
+    write_file(&without, &bare).unwrap();
+    let overall = |p: &std::path::Path, state: &str| {
+        let (ok, out, err) = run(&[
+            "quench",
+            p.to_str().unwrap(),
+            "--observable",
+            "sz_site",
+            "--state",
+            state,
+            "--times",
+            "lin:0:10:11",
+            "--json",
+        ]);
+        assert!(ok, "{state}: {err}");
+        let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+        v["files"][0]["overall"].clone()
+    };
+    let neel = "product:udududud";
+    assert_eq!(
+        max_rel_diff(&overall(&with, neel), &overall(&without, neel)),
+        0.0
+    );
+    // a state with weight outside the sector: analysed as its normalised projection, with
+    // a warning naming the weight 70/256 = 0.273438 (binomial count, common practice)
+    let (ok, _, err) = run(&[
+        "quench",
+        without.to_str().unwrap(),
+        "--observable",
+        "sz_site",
+        "--state",
+        "product:x+",
+        "--times",
+        "lin:0:10:11",
+    ]);
+    assert!(ok, "{err}");
+    assert!(
+        err.contains("weight 0.273438 on the stored basis configurations"),
+        "{err}"
+    );
+    // the wrong number of sites is a usage error
+    let (ok, _, err) = run(&[
+        "quench",
+        without.to_str().unwrap(),
+        "--observable",
+        "sz_site",
+        "--state",
+        "product:udud",
+    ]);
+    assert!(!ok);
+    assert!(
+        err.contains("the product state gives 4 sites but sector"),
+        "{err}"
+    );
+}
