@@ -42,6 +42,7 @@ fn input_flags(
         layout,
         observable_paths: observable_path,
         state_paths: Vec::new(),
+        attributes: Vec::new(),
         hamiltonian_path,
         memory,
         ensemble_by: None,

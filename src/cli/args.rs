@@ -34,6 +34,7 @@ impl InputArgs {
             layout: p.layout.clone(),
             observable_paths: p.observable_paths.clone(),
             state_paths: p.state_paths.clone(),
+            attributes: p.attributes.clone(),
             hamiltonian_path: p.hamiltonian_path.clone(),
             memory: memory.memory.clone(),
             ensemble_by: Some(p.ensemble_by.clone()),
@@ -73,6 +74,11 @@ pub struct PathArgs {
     /// uses it); a relative PATH is taken inside each sector.
     #[arg(long = "state-path", value_name = "NAME=PATH")]
     pub state_paths: Vec<String>,
+    /// Sector attribute for files that lack it (or to replace it), as [FILE:]NAME=VALUE
+    /// (repeatable): size, model, label, symmetry_class, disorder, realization; without
+    /// FILE: every file.
+    #[arg(long = "attribute", value_name = "[FILE:]NAME=VALUE")]
+    pub attributes: Vec<String>,
     /// Path of the Hamiltonian dataset or CSR group.
     #[arg(long, value_name = "PATH")]
     pub hamiltonian_path: Option<String>,

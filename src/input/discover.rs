@@ -288,17 +288,44 @@ fn describe(
     let gobj = f
         .group(group)
         .map_err(|e| h5::h5err(file, group, "cannot open group", e))?;
-    let size = attr_count(file, group, &gobj, "size")?;
-    let label = attr_string(file, group, &gobj, "label")?;
-    let model = attr_string(file, group, &gobj, "model")?;
-    let symmetry_class = attr_string(file, group, &gobj, "symmetry_class")?;
-    let (realization, disorder) = match &ov.ensemble_by {
+    let mut size = attr_count(file, group, &gobj, "size")?;
+    let mut label = attr_string(file, group, &gobj, "label")?;
+    let mut model = attr_string(file, group, &gobj, "model")?;
+    let mut symmetry_class = attr_string(file, group, &gobj, "symmetry_class")?;
+    let (mut realization, mut disorder) = match &ov.ensemble_by {
         crate::input::EnsembleBy::Off => (None, None),
         crate::input::EnsembleBy::Attribute(name) => (
             attr_count(file, group, &gobj, "realization")?,
             h5::attr_number(file, group, &gobj, name)?,
         ),
     };
+    for a in ov.attributes.iter().filter(|a| a.applies_to(file)) {
+        let v = a.value.clone();
+        let before = match a.name.as_str() {
+            "size" => std::mem::replace(&mut size, v.parse().ok()).map(|x| x.to_string()),
+            "model" => std::mem::replace(&mut model, Some(v.clone())),
+            "label" => std::mem::replace(&mut label, Some(v.clone())),
+            "symmetry_class" => std::mem::replace(&mut symmetry_class, Some(v.clone())),
+            "realization" if ov.ensemble_by != crate::input::EnsembleBy::Off => {
+                std::mem::replace(&mut realization, v.parse().ok()).map(|x| x.to_string())
+            }
+            "disorder" if ov.ensemble_by == crate::input::EnsembleBy::default() => {
+                std::mem::replace(&mut disorder, v.parse().ok()).map(|x| x.to_string())
+            }
+            _ => None,
+        };
+        if let Some(b) = before.filter(|b| b != &v) {
+            crate::progress::note(&format!(
+                "{}: sector '{}': attribute {} = {} replaced by --attribute {}={}",
+                file.display(),
+                sector_name(group),
+                a.name,
+                crate::error::escape(&b),
+                a.name,
+                crate::error::escape(&v)
+            ));
+        }
+    }
     let basis = describe_basis(&gobj);
 
     let mut sector = Sector {

@@ -235,6 +235,10 @@ pub struct Overrides {
     pub observables: Vec<(String, String)>,
     /// Extra stored states as (name, path); a relative path is taken inside each sector.
     pub states: Vec<(String, String)>,
+    /// Sector attributes given on the command line (`--attribute [FILE:]NAME=VALUE`): they
+    /// replace the file's value in every sector of the files they name (every file when
+    /// `file` is `None`).
+    pub attributes: Vec<AttributeOverride>,
     /// Path of the Hamiltonian.
     pub hamiltonian: Option<String>,
     /// Memory budget in bytes (`--memory`): no read sized by a file header may hold more
@@ -242,6 +246,69 @@ pub struct Overrides {
     pub memory: Option<usize>,
     /// Which sector attribute holds the ensemble parameter (`--ensemble-by`).
     pub ensemble_by: EnsembleBy,
+}
+
+/// One `--attribute [FILE:]NAME=VALUE`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct AttributeOverride {
+    /// The file it applies to (as given on the command line), or every file.
+    pub file: Option<PathBuf>,
+    /// The attribute: one of [`AttributeOverride::NAMES`].
+    pub name: String,
+    /// The value as typed (checked when parsed).
+    pub value: String,
+}
+
+impl AttributeOverride {
+    /// The sector attributes that can be given on the command line.
+    pub const NAMES: [&'static str; 6] = [
+        "size",
+        "model",
+        "label",
+        "symmetry_class",
+        "disorder",
+        "realization",
+    ];
+
+    /// Parses `[FILE:]NAME=VALUE`, checking the name and the value's type (size and
+    /// realization: non-negative integers; disorder: a finite number; symmetry_class:
+    /// orthogonal or unitary).
+    pub fn parse(s: &str) -> Result<AttributeOverride> {
+        let bad = |why: String| Error::usage(format!("--attribute '{}': {why}", escape(s)));
+        let (lhs, value) = s
+            .split_once('=')
+            .ok_or_else(|| bad("expected [FILE:]NAME=VALUE".into()))?;
+        let (file, name) = match lhs.rsplit_once(':') {
+            Some((f, n)) if !f.is_empty() => (Some(PathBuf::from(f)), n),
+            _ => (None, lhs),
+        };
+        if !Self::NAMES.contains(&name) {
+            return Err(bad(format!(
+                "unknown attribute '{}' (known: {})",
+                escape(name),
+                Self::NAMES.join(", ")
+            )));
+        }
+        let ok = match name {
+            "size" | "realization" => value.parse::<usize>().is_ok(),
+            "disorder" => value.parse::<f64>().is_ok_and(f64::is_finite),
+            "symmetry_class" => matches!(value, "orthogonal" | "unitary"),
+            _ => !value.is_empty(),
+        };
+        if !ok {
+            return Err(bad(format!("'{}' is not a valid {name}", escape(value))));
+        }
+        Ok(AttributeOverride {
+            file,
+            name: name.to_string(),
+            value: value.to_string(),
+        })
+    }
+
+    /// Whether it applies to `path`.
+    pub fn applies_to(&self, path: &Path) -> bool {
+        self.file.as_deref().is_none_or(|f| f == path)
+    }
 }
 
 /// How realizations are grouped into ensembles (`--ensemble-by`).

@@ -39,6 +39,8 @@ pub struct InputFlags {
     pub observable_paths: Vec<String>,
     /// `--state-path NAME=PATH` (repeatable).
     pub state_paths: Vec<String>,
+    /// `--attribute [FILE:]NAME=VALUE` (repeatable).
+    pub attributes: Vec<String>,
     /// `--hamiltonian-path`.
     pub hamiltonian_path: Option<String>,
     /// `--memory SIZE` (default: half the machine's memory).
@@ -72,6 +74,11 @@ impl InputFlags {
         Ok(Overrides {
             observables: named_paths("--observable-path", &self.observable_paths)?,
             states: named_paths("--state-path", &self.state_paths)?,
+            attributes: self
+                .attributes
+                .iter()
+                .map(|a| crate::input::AttributeOverride::parse(a))
+                .collect::<Result<_>>()?,
             energies: self.energies_path.clone(),
             eigenvectors: self.eigenvectors_path.clone(),
             layout,

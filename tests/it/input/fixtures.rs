@@ -361,6 +361,7 @@ fn overrides_define_a_single_sector_from_custom_paths() {
         layout: None,
         observables: vec![("hop".into(), "/chain/observables/sz".into())],
         states: vec![],
+        attributes: vec![],
         hamiltonian: None,
         memory: None,
         ensemble_by: Default::default(),
