@@ -303,9 +303,9 @@ fn describe(
         let v = a.value.clone();
         let before = match a.name.as_str() {
             "size" => std::mem::replace(&mut size, v.parse().ok()).map(|x| x.to_string()),
-            "model" => std::mem::replace(&mut model, Some(v.clone())),
-            "label" => std::mem::replace(&mut label, Some(v.clone())),
-            "symmetry_class" => std::mem::replace(&mut symmetry_class, Some(v.clone())),
+            "model" => model.replace(v.clone()),
+            "label" => label.replace(v.clone()),
+            "symmetry_class" => symmetry_class.replace(v.clone()),
             "realization" if ov.ensemble_by != crate::input::EnsembleBy::Off => {
                 std::mem::replace(&mut realization, v.parse().ok()).map(|x| x.to_string())
             }
