@@ -187,6 +187,52 @@ pub fn escape_path(p: &Path) -> String {
 /// Result alias of the library.
 pub type Result<T, E = Error> = std::result::Result<T, E>;
 
+/// What kind of file system object `m` describes, in words (`FIFO`, `character device`, ...).
+pub fn file_kind(m: &std::fs::Metadata) -> &'static str {
+    let t = m.file_type();
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if t.is_fifo() {
+            return "FIFO (named pipe)";
+        }
+        if t.is_char_device() {
+            return "character device";
+        }
+        if t.is_block_device() {
+            return "block device";
+        }
+        if t.is_socket() {
+            return "socket";
+        }
+    }
+    if t.is_dir() {
+        "directory"
+    } else if t.is_symlink() {
+        "symbolic link"
+    } else if t.is_file() {
+        "regular file"
+    } else {
+        "special file"
+    }
+}
+
+/// An error unless `path` is absent or a regular file (the target of a write by temporary
+/// name and rename, which would replace a device, pipe or directory entry otherwise). A
+/// symbolic link is followed: its target must be a regular file.
+pub fn require_replaceable(path: &std::path::Path) -> Result<()> {
+    match std::fs::metadata(path) {
+        Ok(m) if !m.is_file() => Err(Error::file(
+            path,
+            format!(
+                "exists and is a {}, not a regular file: refusing to replace it",
+                file_kind(&m)
+            ),
+        )),
+        _ => Ok(()),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

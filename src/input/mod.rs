@@ -368,6 +368,15 @@ fn open_h5(path: &Path) -> Result<hdf5::File> {
         }
         Err(e) => return Err(Error::file(path, format!("cannot read: {e}"))),
         Ok(m) if m.is_dir() => return Err(Error::file(path, "is a directory, not an HDF5 file")),
+        Ok(m) if !m.is_file() => {
+            return Err(Error::file(
+                path,
+                format!(
+                    "is a {}, not a regular file: HDF5 files are read by seeking, so pipes and devices are refused",
+                    crate::error::file_kind(&m)
+                ),
+            ))
+        }
         Ok(_) => {}
     }
     if let Err(e) = std::fs::File::open(path) {

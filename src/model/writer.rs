@@ -37,6 +37,7 @@ const CHUNK_BYTES: usize = 1 << 20;
 /// rename). An existing file at `path` is replaced only once the new one is complete.
 pub fn write_file(path: &Path, sectors: &[SectorData]) -> Result<()> {
     check_groups(path, sectors)?;
+    crate::error::require_replaceable(path)?;
     if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
         if !parent.is_dir() {
             return Err(Error::file(

@@ -33,6 +33,7 @@ pub fn versioned<T: Serialize>(body: &T) -> Versioned<'_, T> {
 /// so that a crash never leaves a half-written file.
 pub fn write_atomic(path: &std::path::Path, bytes: &[u8]) -> Result<()> {
     use std::io::Write;
+    crate::error::require_replaceable(path)?;
     let dir = path
         .parent()
         .filter(|p| !p.as_os_str().is_empty())

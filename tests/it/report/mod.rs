@@ -4,6 +4,7 @@
 //! each check names its source beside it in the module that makes it.
 
 mod html;
+mod outputs;
 mod plot;
 mod schema;
 mod study_tables;
