@@ -40,6 +40,8 @@ __all__ = [
     "quench",
     "scaling",
     "study",
+    "gauge",
+    "entanglement",
     "project",
     "set_threads",
     "to_json",
@@ -170,7 +172,7 @@ def _listed(value):
 
 
 def _options(options):
-    for key in ("observable", "state"):
+    for key in ("observable", "state", "perturbation"):
         if key in options:
             options[key] = _listed(options[key])
     paths = options.get("observable_path")
@@ -250,6 +252,26 @@ study = _wrap(
     With ``out=DIR`` the report folder is written as by the binary's ``--out DIR``; without,
     nothing is written. Options as for :func:`scaling`, plus out, state, times, drop_weight.
     ``provenance.command_line`` is this Python process's command line.
+    """,
+)
+
+gauge = _wrap(
+    _native.gauge,
+    """Adiabatic gauge potential norm and fidelity susceptibility of each eigenstate:
+    ``eigentherm gauge FILE... --perturbation NAME... --json``.
+
+    Options: perturbation (name or list, at least one), sector, window (default "0.4:0.6"),
+    energy_window, memory, cutoff (an energy, or "K*spacing"), partners ("all", "window"),
+    and the dataset paths.
+    """,
+)
+entanglement = _wrap(
+    _native.entanglement,
+    """Entanglement entropy of each eigenstate for a cut of the chain:
+    ``eigentherm entanglement FILE... --json``.
+
+    Options: sector, window (default "0.4:0.6"), energy_window, memory, cut (sites of
+    subsystem A; default L/2), and the dataset paths.
     """,
 )
 

@@ -14,8 +14,8 @@
 mod run;
 
 use eigentherm::pipeline::flags::{
-    self, DynamicsFlags, ElementsFlags, InputFlags, LevelsFlags, QuenchFlags, ScalingFlags,
-    StudyFlags,
+    self, DynamicsFlags, ElementsFlags, EntanglementFlags, GaugeFlags, InputFlags, LevelsFlags,
+    QuenchFlags, ScalingFlags, StudyFlags,
 };
 use eigentherm::pipeline::matrix::{window_matrix, MatrixRequest};
 use eigentherm::window::Window;
@@ -494,6 +494,97 @@ fn project<'py>(
     ))
 }
 
+/// Adiabatic gauge potential norm and fidelity susceptibility of each eigenstate
+/// (`eigentherm gauge FILE... --perturbation NAME... --json`).
+#[pyfunction]
+#[pyo3(signature = (files, *, perturbation=Vec::new(), sector=None, window=None,
+    energy_window=None, memory=None, cutoff=None, partners=None, energies_path=None,
+    eigenvectors_path=None, layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn gauge(
+    py: Python<'_>,
+    files: Vec<PathBuf>,
+    perturbation: Vec<String>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    memory: Option<String>,
+    cutoff: Option<String>,
+    partners: Option<String>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<String> {
+    let input = input_flags(
+        files,
+        energies_path,
+        eigenvectors_path,
+        layout,
+        observable_path,
+        hamiltonian_path,
+        memory,
+    );
+    let f = GaugeFlags {
+        input,
+        sector,
+        window,
+        energy_window,
+        perturbations: perturbation,
+        cutoff,
+        partners,
+    };
+    run_detached(py, move || {
+        let (req, opts) = f.request()?;
+        json(&eigentherm::pipeline::gauge::gauge(&req, &opts)?)
+    })
+}
+
+/// Entanglement entropy of each eigenstate for a cut of the chain
+/// (`eigentherm entanglement FILE... --json`).
+#[pyfunction]
+#[pyo3(signature = (files, *, sector=None, window=None, energy_window=None, memory=None,
+    cut=None, energies_path=None, eigenvectors_path=None, layout=None,
+    observable_path=Vec::new(), hamiltonian_path=None))]
+#[allow(clippy::too_many_arguments)]
+fn entanglement(
+    py: Python<'_>,
+    files: Vec<PathBuf>,
+    sector: Option<String>,
+    window: Option<String>,
+    energy_window: Option<String>,
+    memory: Option<String>,
+    cut: Option<usize>,
+    energies_path: Option<String>,
+    eigenvectors_path: Option<String>,
+    layout: Option<String>,
+    observable_path: Vec<String>,
+    hamiltonian_path: Option<String>,
+) -> PyResult<String> {
+    let input = input_flags(
+        files,
+        energies_path,
+        eigenvectors_path,
+        layout,
+        observable_path,
+        hamiltonian_path,
+        memory,
+    );
+    let f = EntanglementFlags {
+        input,
+        sector,
+        window,
+        energy_window,
+        cut,
+    };
+    run_detached(py, move || {
+        json(&eigentherm::pipeline::entanglement::entanglement(
+            &f.request()?,
+        )?)
+    })
+}
+
 /// Sets the number of worker threads of the matrix products and parallel loops (the
 /// binary's `--threads`); only before the first analysis of the process.
 #[pyfunction]
@@ -514,6 +605,8 @@ fn native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(scaling, m)?)?;
     m.add_function(wrap_pyfunction!(study, m)?)?;
     m.add_function(wrap_pyfunction!(project, m)?)?;
+    m.add_function(wrap_pyfunction!(gauge, m)?)?;
+    m.add_function(wrap_pyfunction!(entanglement, m)?)?;
     m.add_function(wrap_pyfunction!(set_threads, m)?)?;
     Ok(())
 }

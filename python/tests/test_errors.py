@@ -45,6 +45,10 @@ def test_bad_options_give_the_flag_messages(cli, good):
         (["levels", good, "--memory", "lots"], lambda: eigentherm.levels(good, memory="lots")),
         (["quench", good, "--observable", "sz"], lambda: eigentherm.quench(good, observable="sz")),
         (["levels", FIXTURES / "missing.h5"], lambda: eigentherm.levels(FIXTURES / "missing.h5")),
+        (["gauge", good, "--perturbation", "sz", "--partners", "some"],
+         lambda: eigentherm.gauge(good, perturbation="sz", partners="some")),
+        (["entanglement", good, "--window", "0.7:0.2"],
+         lambda: eigentherm.entanglement(good, window="0.7:0.2")),
     ]
     for args, call in cases:
         r = cli(args + ["--json"])

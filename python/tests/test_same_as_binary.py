@@ -106,3 +106,24 @@ def test_null_becomes_nan_and_back():
     arr = eigentherm._tabulate([1.5, None, 2])
     assert arr.dtype == np.float64 and math.isnan(arr[1])
     assert eigentherm.to_json(arr) == [1.5, None, 2.0]
+
+
+def test_gauge_equals_the_binary(cli, chains):
+    f = chains[0]
+    r = eigentherm.gauge(f, perturbation="sz_site", sector="even", cutoff="12*spacing",
+                         partners="window")
+    check(cli, ["gauge", f, "--perturbation", "sz_site", "--sector", "even", "--cutoff",
+                "12*spacing", "--partners", "window"], r)
+    r = eigentherm.gauge(chains, perturbation=["sz_site", "sx_site"])
+    check(cli, ["gauge", *chains, "--perturbation", "sz_site", "--perturbation", "sx_site"], r)
+
+
+def test_entanglement_equals_the_binary(cli, tmp_path):
+    # an S^z = 0 sector with its basis configurations (entanglement needs them)
+    f = tmp_path / "xxz8.h5"
+    r = cli(["generate", "--model", "xxz", "--sites", 8, "--sz", 0, "--reflection", "break",
+             "--out", f])
+    assert r.code == 0, r.stderr
+    check(cli, ["entanglement", f], eigentherm.entanglement(f))
+    check(cli, ["entanglement", f, "--cut", 3, "--window", "0.2:0.8"],
+          eigentherm.entanglement(f, cut=3, window="0.2:0.8"))

@@ -5,11 +5,8 @@
 use crate::analysis::offdiagonal::OffdiagonalOptions;
 use crate::analysis::quench;
 use crate::error::Result;
-use crate::pipeline::class::ClassChoice;
 use crate::pipeline::flags::{self, DynamicsFlags, InputFlags};
-use crate::pipeline::{Inputs, Overrides};
-use crate::project::Budget;
-use crate::window::{Window, WindowSpec};
+use crate::pipeline::Inputs;
 use std::path::PathBuf;
 
 /// Input files and dataset path overrides.
@@ -39,14 +36,6 @@ impl InputArgs {
             memory: memory.memory.clone(),
             ensemble_by: Some(p.ensemble_by.clone()),
         }
-    }
-
-    /// The files and their overrides; reads are limited by the default budget.
-    pub fn resolve(&self) -> Result<Inputs> {
-        Ok(Inputs {
-            files: self.files.clone(),
-            overrides: self.paths.resolve()?,
-        })
     }
 
     /// The files and their overrides, every read limited by the `--memory` budget.
@@ -88,19 +77,6 @@ pub struct PathArgs {
     pub ensemble_by: String,
 }
 
-impl PathArgs {
-    /// The overrides (`--observable-path` and `--state-path` values are split at the first
-    /// `=` into NAME and PATH).
-    pub fn resolve(&self) -> Result<Overrides> {
-        InputArgs {
-            files: Vec::new(),
-            paths: self.clone(),
-        }
-        .flags(&MemoryArg::default())
-        .overrides()
-    }
-}
-
 /// Sector selection.
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct SectorArg {
@@ -128,17 +104,6 @@ pub struct WindowArgs {
     pub energy_window: Option<String>,
 }
 
-impl WindowArgs {
-    /// The window to use, with `default` when none was given.
-    pub fn resolve(&self, default: Window) -> Result<WindowSpec> {
-        flags::window(
-            self.window.as_deref(),
-            self.energy_window.as_deref(),
-            default,
-        )
-    }
-}
-
 /// Observables to analyze.
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct ObservableArgs {
@@ -161,13 +126,6 @@ pub struct MemoryArg {
     /// Working-memory budget of the passes over the eigenvectors and of any one read from a file, e.g. 6G or 512M (default: half the machine's memory).
     #[arg(long, value_name = "SIZE")]
     pub memory: Option<String>,
-}
-
-impl MemoryArg {
-    /// The budget (products use every thread of the pool `--threads` set).
-    pub fn resolve(&self) -> Result<Budget> {
-        Budget::from_arg(self.memory.as_deref())
-    }
 }
 
 /// Source of the thermal predictions (pipeline::thermal).
@@ -261,11 +219,4 @@ pub struct ClassArg {
         default_value = "auto"
     )]
     pub class: String,
-}
-
-impl ClassArg {
-    /// The choice of class.
-    pub fn resolve(&self) -> Result<ClassChoice> {
-        flags::class(Some(&self.class))
-    }
 }

@@ -1,10 +1,11 @@
-//! `eigentherm entanglement`: the flags, resolved into an [`EntanglementRequest`].
+//! `eigentherm entanglement`: the flags, copied as typed into [`EntanglementFlags`]
+//! (resolved there, as for Python).
 
 use super::args::{InputArgs, JsonArg, MemoryArg, SectorArg, WindowArgs};
 use super::output;
 use crate::error::Result;
-use crate::pipeline::entanglement::{self, EntanglementRequest};
-use crate::window::Window;
+use crate::pipeline::entanglement;
+use crate::pipeline::flags::EntanglementFlags;
 
 /// Options of `eigentherm entanglement`.
 #[derive(Debug, clap::Args)]
@@ -31,13 +32,14 @@ pub struct Args {
 
 /// Runs `eigentherm entanglement`.
 pub fn run(args: &Args) -> Result<()> {
-    let req = EntanglementRequest {
-        inputs: args.input.resolve_within(&args.memory)?,
+    let req = EntanglementFlags {
+        input: args.input.flags(&args.memory),
         sector: args.sector.sector.clone(),
-        window: args.window.resolve(Window::MATRIX_ELEMENTS)?,
+        window: args.window.window.clone(),
+        energy_window: args.window.energy_window.clone(),
         cut: args.cut,
-        budget: args.memory.resolve()?,
-    };
+    }
+    .request()?;
     let out = entanglement::entanglement(&req)?;
     if args.json.json {
         output::print_json(&out)

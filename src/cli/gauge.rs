@@ -1,13 +1,10 @@
-//! `eigentherm gauge`: the flags of the adiabatic-gauge-potential command, resolved into an
-//! [`ElementsRequest`] and [`GaugeOptions`].
+//! `eigentherm gauge`: the flags of the adiabatic-gauge-potential command, copied as typed
+//! into [`GaugeFlags`] (resolved there, as for Python).
 
 use super::args::{InputArgs, JsonArg, MemoryArg, SectorArg, WindowArgs};
 use super::output;
-use crate::analysis::gauge::{Cutoff, GaugeOptions, Partners};
-use crate::error::{Error, Result};
-use crate::pipeline::class::ClassChoice;
-use crate::pipeline::elements::ElementsRequest;
-use crate::window::Window;
+use crate::error::Result;
+use crate::pipeline::flags::GaugeFlags;
 
 /// Options of `eigentherm gauge`.
 #[derive(Debug, clap::Args)]
@@ -40,35 +37,23 @@ pub struct Args {
 }
 
 impl Args {
-    /// The pipeline's request and the analysis options.
-    pub fn resolve(&self) -> Result<(ElementsRequest, GaugeOptions)> {
-        let partners = match self.partners.to_ascii_lowercase().as_str() {
-            "all" => Partners::All,
-            "window" => Partners::Window,
-            _ => {
-                return Err(Error::usage(format!(
-                    "--partners '{}': expected all or window",
-                    self.partners
-                )))
-            }
-        };
-        let cutoff = self.cutoff.as_deref().map(Cutoff::parse).transpose()?;
-        let req = ElementsRequest {
-            inputs: self.input.resolve_within(&self.memory)?,
+    /// The flags as typed.
+    pub fn flags(&self) -> GaugeFlags {
+        GaugeFlags {
+            input: self.input.flags(&self.memory),
             sector: self.sector.sector.clone(),
-            window: self.window.resolve(Window::MATRIX_ELEMENTS)?,
-            observables: self.perturbations.clone(),
-            budget: self.memory.resolve()?,
-            class: ClassChoice::Auto,
-            thermo: Default::default(),
-        };
-        Ok((req, GaugeOptions { cutoff, partners }))
+            window: self.window.window.clone(),
+            energy_window: self.window.energy_window.clone(),
+            perturbations: self.perturbations.clone(),
+            cutoff: self.cutoff.clone(),
+            partners: Some(self.partners.clone()),
+        }
     }
 }
 
 /// Runs `eigentherm gauge`.
 pub fn run(args: &Args) -> Result<()> {
-    let (req, opts) = args.resolve()?;
+    let (req, opts) = args.flags().request()?;
     let out = crate::pipeline::gauge::gauge(&req, &opts)?;
     if args.json.json {
         output::print_json(&out)

@@ -8,6 +8,7 @@
 
 use super::class::ClassChoice;
 use super::elements::ElementsRequest;
+use super::entanglement::EntanglementRequest;
 use super::levels::LevelsRequest;
 use super::quench::QuenchRequest;
 use super::scaling::ScalingRequest;
@@ -15,6 +16,7 @@ use super::sector::SectorSettings;
 use super::study::StudyRequest;
 use super::thermal::{ThermoChoice, ThermoRequest};
 use super::{Inputs, Layout, Overrides};
+use crate::analysis::gauge::{Cutoff, GaugeOptions, Partners};
 use crate::analysis::levels::{LevelOptions, UnfoldMethod};
 use crate::analysis::offdiagonal::OffdiagonalOptions;
 use crate::analysis::quench::{self, state::StateSpec, QuenchOptions, TimeGrid};
@@ -362,6 +364,96 @@ impl ElementsFlags {
             budget: self.input.budget()?,
             class: class(self.class.as_deref())?,
             thermo: self.thermo.request()?,
+        })
+    }
+}
+
+/// Flags of `gauge`.
+#[derive(Debug, Clone, Default)]
+pub struct GaugeFlags {
+    /// Files, path overrides, memory.
+    pub input: InputFlags,
+    /// `--sector`.
+    pub sector: Option<String>,
+    /// `--window` (default 0.4:0.6).
+    pub window: Option<String>,
+    /// `--energy-window`.
+    pub energy_window: Option<String>,
+    /// `--perturbation NAME` (repeatable, at least one).
+    pub perturbations: Vec<String>,
+    /// `--cutoff MU|K*spacing` (default: L mean level spacings).
+    pub cutoff: Option<String>,
+    /// `--partners all|window` (default all).
+    pub partners: Option<String>,
+}
+
+impl GaugeFlags {
+    /// The request of [`super::gauge`] and the analysis options.
+    pub fn request(&self) -> Result<(ElementsRequest, GaugeOptions)> {
+        if self.perturbations.is_empty() {
+            return Err(Error::usage("give at least one --perturbation NAME"));
+        }
+        let partners = match self
+            .partners
+            .as_deref()
+            .map(str::to_ascii_lowercase)
+            .as_deref()
+        {
+            None | Some("all") => Partners::All,
+            Some("window") => Partners::Window,
+            Some(_) => {
+                return Err(Error::usage(format!(
+                    "--partners '{}': expected all or window",
+                    crate::error::escape(self.partners.as_deref().unwrap_or_default())
+                )))
+            }
+        };
+        let cutoff = self.cutoff.as_deref().map(Cutoff::parse).transpose()?;
+        let req = ElementsRequest {
+            inputs: self.input.inputs()?,
+            sector: self.sector.clone(),
+            window: window(
+                self.window.as_deref(),
+                self.energy_window.as_deref(),
+                Window::MATRIX_ELEMENTS,
+            )?,
+            observables: self.perturbations.clone(),
+            budget: self.input.budget()?,
+            class: ClassChoice::Auto,
+            thermo: Default::default(),
+        };
+        Ok((req, GaugeOptions { cutoff, partners }))
+    }
+}
+
+/// Flags of `entanglement`.
+#[derive(Debug, Clone, Default)]
+pub struct EntanglementFlags {
+    /// Files, path overrides, memory.
+    pub input: InputFlags,
+    /// `--sector`.
+    pub sector: Option<String>,
+    /// `--window` (default 0.4:0.6).
+    pub window: Option<String>,
+    /// `--energy-window`.
+    pub energy_window: Option<String>,
+    /// `--cut L_A` (default L/2).
+    pub cut: Option<usize>,
+}
+
+impl EntanglementFlags {
+    /// The request of [`super::entanglement`].
+    pub fn request(&self) -> Result<EntanglementRequest> {
+        Ok(EntanglementRequest {
+            inputs: self.input.inputs()?,
+            sector: self.sector.clone(),
+            window: window(
+                self.window.as_deref(),
+                self.energy_window.as_deref(),
+                Window::MATRIX_ELEMENTS,
+            )?,
+            cut: self.cut,
+            budget: self.input.budget()?,
         })
     }
 }
