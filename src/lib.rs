@@ -31,6 +31,7 @@ pub mod progress;
 pub mod project;
 pub mod provenance;
 pub mod report;
+pub mod supervisor;
 pub mod window;
 
 pub use error::{Error, Result};

@@ -423,8 +423,11 @@ fn has_hdf5_signature(path: &Path) -> bool {
 impl EigenFile {
     /// Opens `path` read-only and discovers its sectors.
     pub fn open(path: &Path, overrides: &Overrides) -> Result<EigenFile> {
+        crate::supervisor::note_reading(path);
+        let watchdog = crate::supervisor::open_watchdog(path);
         let h5 = open_h5(path)?;
         let sectors = discover::discover(path, &h5, overrides)?;
+        drop(watchdog);
         Ok(EigenFile {
             path: path.to_path_buf(),
             sectors,

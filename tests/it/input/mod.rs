@@ -8,6 +8,7 @@ mod compounds;
 mod custom;
 mod embedding;
 mod fixtures;
+mod fuzz;
 mod layout;
 mod limits;
 mod links;
