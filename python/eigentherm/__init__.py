@@ -171,30 +171,51 @@ def _listed(value):
     return [_os.fsdecode(v) if isinstance(v, _os.PathLike) else v for v in value]
 
 
+# The options every function shares, passed to the native module as one dict `shared`
+# (python/src/lib.rs: INPUT_KEYS, THERMO_KEYS).
+_INPUT_KEYS = ("memory", "energies_path", "eigenvectors_path", "layout", "observable_path",
+               "state_path", "attribute", "hamiltonian_path", "ensemble_by")
+_THERMO_KEYS = ("thermo", "kpm_moments", "kpm_vectors", "kpm_seed")
+
+
+def _pairs(value):
+    """A dict {NAME: PATH} or a list of "NAME=PATH" strings, as the list."""
+    if isinstance(value, dict):
+        return [f"{k}={_os.fsdecode(v) if isinstance(v, _os.PathLike) else v}"
+                for k, v in value.items()]
+    return _listed(value)
+
+
 def _options(options):
     for key in ("observable", "state", "perturbation"):
         if key in options:
             options[key] = _listed(options[key])
-    paths = options.get("observable_path")
-    if isinstance(paths, dict):
-        options["observable_path"] = [f"{k}={v}" for k, v in paths.items()]
-    elif paths is not None:
-        options["observable_path"] = _listed(paths)
+    for key in ("observable_path", "state_path", "attribute"):
+        if options.get(key) is not None:
+            options[key] = _pairs(options[key])
     if options.get("out") is not None:
         options["out"] = _os.fsdecode(options["out"])
     return options
 
 
-def _wrap(native, doc):
+def _wrap(native, doc, thermo=False):
+    keys = _INPUT_KEYS + (_THERMO_KEYS if thermo else ())
+
     def call(files, **options):
-        out = native(_files(files), **_options(options))
+        options = _options(options)
+        shared = {k: options.pop(k) for k in keys if k in options}
+        out = native(_files(files), shared=shared, **options)
         return _tabulate(_json.loads(out))
 
     call.__name__ = native.__name__
     call.__qualname__ = native.__name__
     call.__doc__ = doc
     try:
-        call.__signature__ = _inspect.signature(native)
+        sig = _inspect.signature(native)
+        params = [p for p in sig.parameters.values() if p.name != "shared"]
+        params += [_inspect.Parameter(k, _inspect.Parameter.KEYWORD_ONLY, default=None)
+                   for k in keys]
+        call.__signature__ = sig.replace(parameters=params)
     except (ValueError, TypeError):  # pragma: no cover - older interpreters
         pass
     return call
@@ -207,8 +228,10 @@ levels = _wrap(
     Options: sector, window (default "0.25:0.75"), energy_window, symmetry_class
     ("orthogonal", "unitary", "auto"), memory ("6G"), unfold ("poly:5", "kernel:32",
     "kernel-energy:SIGMA"), unfold_degree, bins, sff_eta, thouless_tolerance, degeneracy_tol,
-    min_levels, and the
-    dataset paths energies_path, eigenvectors_path, layout, observable_path, hamiltonian_path.
+    min_levels, and the shared options: memory, the dataset paths energies_path,
+    eigenvectors_path, layout, observable_path, state_path, hamiltonian_path (a path or, for
+    observable_path/state_path, a dict {NAME: PATH}), attribute ({NAME: VALUE} or a list of
+    "[FILE:]NAME=VALUE") and ensemble_by. Every function takes them.
     """,
 )
 diagonal = _wrap(
@@ -216,17 +239,20 @@ diagonal = _wrap(
     """Diagonal matrix elements: ``eigentherm diagonal FILE... --json``.
 
     Options: observable (name or list; default every observable), sector, window (default
-    "0.4:0.6"), energy_window, symmetry_class, memory, predictions ("all", "window", "auto"),
-    and the dataset paths.
+    "0.4:0.6"), energy_window, symmetry_class, predictions ("all", "window", "auto"), the
+    thermal source thermo ("auto", "full", "kpm", "stored") with kpm_moments, kpm_vectors,
+    kpm_seed, and the shared options.
     """,
+    thermo=True,
 )
 offdiagonal = _wrap(
     _native.offdiagonal,
     """Off-diagonal matrix elements: ``eigentherm offdiagonal FILE... --json``.
 
-    Options: observable, sector, window, energy_window, symmetry_class, memory, omega_max,
-    and the dataset paths.
+    Options: observable, sector, window, energy_window, symmetry_class, omega_max, thermo,
+    kpm_moments, kpm_vectors, kpm_seed, and the shared options.
     """,
+    thermo=True,
 )
 quench = _wrap(
     _native.quench,
@@ -234,7 +260,7 @@ quench = _wrap(
 
     Options: observable (at least one), state (SPEC or list, at least one: "stored:NAME",
     "index:K", "product:LETTERS", "product:x+"), times ("lin:T0:T1:N" or "log:T0:T1:N"),
-    drop_weight, shell_width, sector, memory, and the dataset paths.
+    drop_weight, shell_width, min_window_weight, renormalise, sector, and the shared options.
     """,
 )
 scaling = _wrap(
@@ -242,8 +268,10 @@ scaling = _wrap(
     """Finite-size scaling across files and sectors: ``eigentherm scaling FILE... --json``.
 
     Options: observable (at least one), sector, window, energy_window, levels_window,
-    omega_max, symmetry_class, combine_sectors (bool), memory, and the dataset paths.
+    omega_max, symmetry_class, combine_sectors (bool), thermo, kpm_moments, kpm_vectors,
+    kpm_seed, and the shared options.
     """,
+    thermo=True,
 )
 study = _wrap(
     _native.study,
@@ -253,6 +281,7 @@ study = _wrap(
     nothing is written. Options as for :func:`scaling`, plus out, state, times, drop_weight.
     ``provenance.command_line`` is this Python process's command line.
     """,
+    thermo=True,
 )
 
 gauge = _wrap(
@@ -261,8 +290,8 @@ gauge = _wrap(
     ``eigentherm gauge FILE... --perturbation NAME... --json``.
 
     Options: perturbation (name or list, at least one), sector, window (default "0.4:0.6"),
-    energy_window, memory, cutoff (an energy, or "K*spacing"), partners ("all", "window"),
-    and the dataset paths.
+    energy_window, cutoff (an energy, or "K*spacing"), partners ("all", "window"), and the
+    shared options.
     """,
 )
 entanglement = _wrap(
@@ -270,8 +299,8 @@ entanglement = _wrap(
     """Entanglement entropy of each eigenstate for a cut of the chain:
     ``eigentherm entanglement FILE... --json``.
 
-    Options: sector, window (default "0.4:0.6"), energy_window, memory, cut (sites of
-    subsystem A; default L/2), and the dataset paths.
+    Options: sector, window (default "0.4:0.6"), energy_window, cut (sites of subsystem A;
+    default L/2), and the shared options.
     """,
 )
 
@@ -287,8 +316,10 @@ def project(file, observable, *, return_window=False, **options):
     the window is states ``lo .. hi-1``. Peak memory is about twice the matrix (the
     library's and the array's copy).
     """
+    options = _options(options)
+    shared = {k: options.pop(k) for k in _INPUT_KEYS if k in options}
     matrix, window, energies = _native.project(
-        _os.fsdecode(file), observable, **_options(options)
+        _os.fsdecode(file), observable, shared=shared, **options
     )
     if return_window:
         return matrix, window, energies

@@ -15,46 +15,95 @@ mod run;
 
 use eigentherm::pipeline::flags::{
     self, DynamicsFlags, ElementsFlags, EntanglementFlags, GaugeFlags, InputFlags, LevelsFlags,
-    QuenchFlags, ScalingFlags, StudyFlags,
+    QuenchFlags, ScalingFlags, StudyFlags, ThermoFlags,
 };
 use eigentherm::pipeline::matrix::{window_matrix, MatrixRequest};
 use eigentherm::window::Window;
 use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
+use pyo3::types::PyDict;
 use run::{json, or_raise, run_detached, Error};
 use std::path::PathBuf;
 
-/// The input flags of every function.
-#[allow(clippy::too_many_arguments)]
-fn input_flags(
+/// The options every function shares, passed by the Python layer as one dict `shared`
+/// (`eigentherm/__init__.py` moves them there from the keyword arguments): the input flags
+/// ([`INPUT_KEYS`]) and, for the functions that take them, the thermal source
+/// ([`THERMO_KEYS`]). One list, read once, instead of the same keywords in every signature.
+struct Shared {
+    input: InputFlags,
+    thermo: ThermoFlags,
+}
+
+/// Keywords of [`InputFlags`] (the binary's dataset-path flags, `--memory`, `--ensemble-by`).
+const INPUT_KEYS: [&str; 9] = [
+    "memory",
+    "energies_path",
+    "eigenvectors_path",
+    "layout",
+    "observable_path",
+    "state_path",
+    "attribute",
+    "hamiltonian_path",
+    "ensemble_by",
+];
+
+/// Keywords of [`ThermoFlags`] (`--thermo`, `--kpm-*`).
+const THERMO_KEYS: [&str; 4] = ["thermo", "kpm_moments", "kpm_vectors", "kpm_seed"];
+
+/// The shared options of `files` from the dict `shared`; a key that is not one of
+/// [`INPUT_KEYS`] or [`THERMO_KEYS`] is a `TypeError`, a value of the wrong type too.
+fn shared_flags(
     files: Vec<PathBuf>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
-    memory: Option<String>,
-) -> InputFlags {
-    InputFlags {
+    shared: Option<&Bound<'_, PyDict>>,
+    takes_thermo: bool,
+) -> PyResult<Shared> {
+    let mut input = InputFlags {
         files,
-        energies_path,
-        eigenvectors_path,
-        layout,
-        observable_paths: observable_path,
-        state_paths: Vec::new(),
-        attributes: Vec::new(),
-        hamiltonian_path,
-        memory,
-        ensemble_by: None,
+        ..Default::default()
+    };
+    let mut thermo = ThermoFlags::default();
+    let Some(d) = shared else {
+        return Ok(Shared { input, thermo });
+    };
+    for (k, v) in d.iter() {
+        let key: String = k.extract()?;
+        if v.is_none() {
+            continue;
+        }
+        if !takes_thermo && THERMO_KEYS.contains(&key.as_str()) {
+            return Err(pyo3::exceptions::PyTypeError::new_err(format!(
+                "unexpected keyword argument '{key}' (this function has no thermal source)"
+            )));
+        }
+        match key.as_str() {
+            "memory" => input.memory = Some(v.extract()?),
+            "energies_path" => input.energies_path = Some(v.extract()?),
+            "eigenvectors_path" => input.eigenvectors_path = Some(v.extract()?),
+            "layout" => input.layout = Some(v.extract()?),
+            "observable_path" => input.observable_paths = v.extract()?,
+            "state_path" => input.state_paths = v.extract()?,
+            "attribute" => input.attributes = v.extract()?,
+            "hamiltonian_path" => input.hamiltonian_path = Some(v.extract()?),
+            "ensemble_by" => input.ensemble_by = Some(v.extract()?),
+            "thermo" => thermo.thermo = Some(v.extract()?),
+            "kpm_moments" => thermo.kpm_moments = Some(v.extract()?),
+            "kpm_vectors" => thermo.kpm_vectors = Some(v.extract()?),
+            "kpm_seed" => thermo.kpm_seed = Some(v.extract()?),
+            _ => {
+                return Err(pyo3::exceptions::PyTypeError::new_err(format!(
+                    "unexpected shared option '{key}' (known: {}, {})",
+                    INPUT_KEYS.join(", "),
+                    THERMO_KEYS.join(", ")
+                )))
+            }
+        }
     }
+    Ok(Shared { input, thermo })
 }
 
 /// Level statistics of every selected sector (`eigentherm levels FILE... --json`).
 #[pyfunction]
-#[pyo3(signature = (files, *, sector=None, window=None, energy_window=None,
-    symmetry_class=None, memory=None, unfold=None, unfold_degree=None, bins=None,
-    sff_eta=None, thouless_tolerance=None, degeneracy_tol=None, min_levels=None, energies_path=None,
-    eigenvectors_path=None, layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
+#[pyo3(signature = (files, *, sector=None, window=None, energy_window=None, symmetry_class=None, unfold=None, unfold_degree=None, bins=None, sff_eta=None, thouless_tolerance=None, degeneracy_tol=None, min_levels=None, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn levels(
     py: Python<'_>,
@@ -63,7 +112,6 @@ fn levels(
     window: Option<String>,
     energy_window: Option<String>,
     symmetry_class: Option<String>,
-    memory: Option<String>,
     unfold: Option<String>,
     unfold_degree: Option<usize>,
     bins: Option<usize>,
@@ -71,22 +119,10 @@ fn levels(
     thouless_tolerance: Option<f64>,
     degeneracy_tol: Option<f64>,
     min_levels: Option<usize>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'_, PyDict>>,
 ) -> PyResult<String> {
     let f = LevelsFlags {
-        input: input_flags(
-            files,
-            energies_path,
-            eigenvectors_path,
-            layout,
-            observable_path,
-            hamiltonian_path,
-            memory,
-        ),
+        input: shared_flags(files, shared.as_ref(), false)?.input,
         sector,
         window,
         energy_window,
@@ -111,25 +147,25 @@ fn elements_flags(
     window: Option<String>,
     energy_window: Option<String>,
     symmetry_class: Option<String>,
-    input: InputFlags,
+    shared: Shared,
 ) -> ElementsFlags {
     ElementsFlags {
-        input: InputFlags { files, ..input },
+        input: InputFlags {
+            files,
+            ..shared.input
+        },
         sector,
         window,
         energy_window,
         observables: observable,
         class: symmetry_class,
-        thermo: Default::default(),
+        thermo: shared.thermo,
     }
 }
 
 /// Diagonal matrix elements (`eigentherm diagonal FILE... --json`).
 #[pyfunction]
-#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None,
-    energy_window=None, symmetry_class=None, memory=None, predictions=None, per_state=false,
-    energies_path=None, eigenvectors_path=None, layout=None, observable_path=Vec::new(),
-    hamiltonian_path=None))]
+#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None, energy_window=None, symmetry_class=None, predictions=None, per_state=false, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn diagonal(
     py: Python<'_>,
@@ -139,24 +175,11 @@ fn diagonal(
     window: Option<String>,
     energy_window: Option<String>,
     symmetry_class: Option<String>,
-    memory: Option<String>,
     predictions: Option<String>,
     per_state: bool,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'_, PyDict>>,
 ) -> PyResult<String> {
-    let input = input_flags(
-        Vec::new(),
-        energies_path,
-        eigenvectors_path,
-        layout,
-        observable_path,
-        hamiltonian_path,
-        memory,
-    );
+    let input = shared_flags(Vec::new(), shared.as_ref(), true)?;
     let f = elements_flags(
         files,
         observable,
@@ -178,10 +201,7 @@ fn diagonal(
 
 /// Off-diagonal matrix elements (`eigentherm offdiagonal FILE... --json`).
 #[pyfunction]
-#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None,
-    energy_window=None, symmetry_class=None, memory=None, omega_max=None,
-    energies_path=None, eigenvectors_path=None, layout=None, observable_path=Vec::new(),
-    hamiltonian_path=None))]
+#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None, energy_window=None, symmetry_class=None, omega_max=None, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn offdiagonal(
     py: Python<'_>,
@@ -191,23 +211,10 @@ fn offdiagonal(
     window: Option<String>,
     energy_window: Option<String>,
     symmetry_class: Option<String>,
-    memory: Option<String>,
     omega_max: Option<f64>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'_, PyDict>>,
 ) -> PyResult<String> {
-    let input = input_flags(
-        Vec::new(),
-        energies_path,
-        eigenvectors_path,
-        layout,
-        observable_path,
-        hamiltonian_path,
-        memory,
-    );
+    let input = shared_flags(Vec::new(), shared.as_ref(), true)?;
     let f = elements_flags(
         files,
         observable,
@@ -228,10 +235,7 @@ fn offdiagonal(
 
 /// Quench dynamics (`eigentherm quench FILE... --json`).
 #[pyfunction]
-#[pyo3(signature = (files, *, observable=Vec::new(), state=Vec::new(), times=None,
-    drop_weight=None, shell_width=None, min_window_weight=None, renormalise=false, sector=None,
-    memory=None, energies_path=None,
-    eigenvectors_path=None, layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
+#[pyo3(signature = (files, *, observable=Vec::new(), state=Vec::new(), times=None, drop_weight=None, shell_width=None, min_window_weight=None, renormalise=false, sector=None, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn quench(
     py: Python<'_>,
@@ -244,23 +248,10 @@ fn quench(
     min_window_weight: Option<f64>,
     renormalise: bool,
     sector: Option<String>,
-    memory: Option<String>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'_, PyDict>>,
 ) -> PyResult<String> {
     let f = QuenchFlags {
-        input: input_flags(
-            files,
-            energies_path,
-            eigenvectors_path,
-            layout,
-            observable_path,
-            hamiltonian_path,
-            memory,
-        ),
+        input: shared_flags(files, shared.as_ref(), false)?.input,
         sector,
         observables: observable,
         dynamics: DynamicsFlags {
@@ -281,7 +272,7 @@ fn quench(
 /// The flags of the per-sector pipeline (`scaling`, `study`).
 #[allow(clippy::too_many_arguments)]
 fn scaling_flags(
-    input: InputFlags,
+    shared: Shared,
     observable: Vec<String>,
     sector: Option<String>,
     window: Option<String>,
@@ -292,7 +283,7 @@ fn scaling_flags(
     combine_sectors: bool,
 ) -> ScalingFlags {
     ScalingFlags {
-        input,
+        input: shared.input,
         sector,
         window,
         energy_window,
@@ -300,17 +291,14 @@ fn scaling_flags(
         levels_window,
         omega_max,
         class: symmetry_class,
-        thermo: Default::default(),
+        thermo: shared.thermo,
         combine_sectors,
     }
 }
 
 /// Finite-size scaling (`eigentherm scaling FILE... --json`).
 #[pyfunction]
-#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None,
-    energy_window=None, levels_window=None, omega_max=None, symmetry_class=None,
-    combine_sectors=false, memory=None, energies_path=None, eigenvectors_path=None,
-    layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
+#[pyo3(signature = (files, *, observable=Vec::new(), sector=None, window=None, energy_window=None, levels_window=None, omega_max=None, symmetry_class=None, combine_sectors=false, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn scaling(
     py: Python<'_>,
@@ -323,22 +311,9 @@ fn scaling(
     omega_max: Option<f64>,
     symmetry_class: Option<String>,
     combine_sectors: bool,
-    memory: Option<String>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'_, PyDict>>,
 ) -> PyResult<String> {
-    let input = input_flags(
-        files,
-        energies_path,
-        eigenvectors_path,
-        layout,
-        observable_path,
-        hamiltonian_path,
-        memory,
-    );
+    let input = shared_flags(files, shared.as_ref(), true)?;
     let f = scaling_flags(
         input,
         observable,
@@ -359,11 +334,7 @@ fn scaling(
 /// Every analysis (`eigentherm study FILE... --json`); with `out`, the report folder is
 /// written too.
 #[pyfunction]
-#[pyo3(signature = (files, *, observable=Vec::new(), out=None, state=Vec::new(),
-    times=None, drop_weight=None, sector=None, window=None, energy_window=None,
-    levels_window=None, omega_max=None, symmetry_class=None, combine_sectors=false,
-    memory=None, energies_path=None, eigenvectors_path=None, layout=None,
-    observable_path=Vec::new(), hamiltonian_path=None))]
+#[pyo3(signature = (files, *, observable=Vec::new(), out=None, state=Vec::new(), times=None, drop_weight=None, sector=None, window=None, energy_window=None, levels_window=None, omega_max=None, symmetry_class=None, combine_sectors=false, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn study(
     py: Python<'_>,
@@ -380,22 +351,9 @@ fn study(
     omega_max: Option<f64>,
     symmetry_class: Option<String>,
     combine_sectors: bool,
-    memory: Option<String>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'_, PyDict>>,
 ) -> PyResult<String> {
-    let input = input_flags(
-        files,
-        energies_path,
-        eigenvectors_path,
-        layout,
-        observable_path,
-        hamiltonian_path,
-        memory,
-    );
+    let input = shared_flags(files, shared.as_ref(), true)?;
     let f = StudyFlags {
         scaling: scaling_flags(
             input,
@@ -429,9 +387,7 @@ type Projected<'py> = (Bound<'py, PyAny>, (usize, usize), Bound<'py, PyArray1<f6
 /// The window matrix `A_W[i, j] = ⟨lo + i|A|lo + j⟩` of one observable in one sector, with
 /// the window's state indices `(lo, hi)` and energies: `(matrix, (lo, hi), energies)`.
 #[pyfunction]
-#[pyo3(signature = (file, observable, *, sector=None, window=None, energy_window=None,
-    memory=None, energies_path=None, eigenvectors_path=None, layout=None,
-    observable_path=Vec::new(), hamiltonian_path=None))]
+#[pyo3(signature = (file, observable, *, sector=None, window=None, energy_window=None, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn project<'py>(
     py: Python<'py>,
@@ -440,22 +396,9 @@ fn project<'py>(
     sector: Option<String>,
     window: Option<String>,
     energy_window: Option<String>,
-    memory: Option<String>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'py, PyDict>>,
 ) -> PyResult<Projected<'py>> {
-    let input = input_flags(
-        vec![file],
-        energies_path,
-        eigenvectors_path,
-        layout,
-        observable_path,
-        hamiltonian_path,
-        memory,
-    );
+    let input = shared_flags(vec![file], shared.as_ref(), false)?.input;
     let wm = run_detached(py, move || {
         let req = MatrixRequest {
             inputs: input.inputs()?,
@@ -497,9 +440,7 @@ fn project<'py>(
 /// Adiabatic gauge potential norm and fidelity susceptibility of each eigenstate
 /// (`eigentherm gauge FILE... --perturbation NAME... --json`).
 #[pyfunction]
-#[pyo3(signature = (files, *, perturbation=Vec::new(), sector=None, window=None,
-    energy_window=None, memory=None, cutoff=None, partners=None, energies_path=None,
-    eigenvectors_path=None, layout=None, observable_path=Vec::new(), hamiltonian_path=None))]
+#[pyo3(signature = (files, *, perturbation=Vec::new(), sector=None, window=None, energy_window=None, cutoff=None, partners=None, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn gauge(
     py: Python<'_>,
@@ -508,24 +449,11 @@ fn gauge(
     sector: Option<String>,
     window: Option<String>,
     energy_window: Option<String>,
-    memory: Option<String>,
     cutoff: Option<String>,
     partners: Option<String>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'_, PyDict>>,
 ) -> PyResult<String> {
-    let input = input_flags(
-        files,
-        energies_path,
-        eigenvectors_path,
-        layout,
-        observable_path,
-        hamiltonian_path,
-        memory,
-    );
+    let input = shared_flags(files, shared.as_ref(), false)?.input;
     let f = GaugeFlags {
         input,
         sector,
@@ -544,9 +472,7 @@ fn gauge(
 /// Entanglement entropy of each eigenstate for a cut of the chain
 /// (`eigentherm entanglement FILE... --json`).
 #[pyfunction]
-#[pyo3(signature = (files, *, sector=None, window=None, energy_window=None, memory=None,
-    cut=None, energies_path=None, eigenvectors_path=None, layout=None,
-    observable_path=Vec::new(), hamiltonian_path=None))]
+#[pyo3(signature = (files, *, sector=None, window=None, energy_window=None, cut=None, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn entanglement(
     py: Python<'_>,
@@ -554,23 +480,10 @@ fn entanglement(
     sector: Option<String>,
     window: Option<String>,
     energy_window: Option<String>,
-    memory: Option<String>,
     cut: Option<usize>,
-    energies_path: Option<String>,
-    eigenvectors_path: Option<String>,
-    layout: Option<String>,
-    observable_path: Vec<String>,
-    hamiltonian_path: Option<String>,
+    shared: Option<Bound<'_, PyDict>>,
 ) -> PyResult<String> {
-    let input = input_flags(
-        files,
-        energies_path,
-        eigenvectors_path,
-        layout,
-        observable_path,
-        hamiltonian_path,
-        memory,
-    );
+    let input = shared_flags(files, shared.as_ref(), false)?.input;
     let f = EntanglementFlags {
         input,
         sector,

@@ -127,3 +127,28 @@ def test_entanglement_equals_the_binary(cli, tmp_path):
     check(cli, ["entanglement", f], eigentherm.entanglement(f))
     check(cli, ["entanglement", f, "--cut", 3, "--window", "0.2:0.8"],
           eigentherm.entanglement(f, cut=3, window="0.2:0.8"))
+
+
+def test_shared_options_equal_the_binary_flags(cli, chains, tmp_path):
+    f = chains[0]
+    # the thermal source (diagonal, offdiagonal, scaling, study)
+    r = eigentherm.diagonal(f, observable="sz_site", thermo="kpm", kpm_moments=64,
+                            kpm_vectors=4, kpm_seed=3)
+    check(cli, ["diagonal", f, "--observable", "sz_site", "--thermo", "kpm", "--kpm-moments",
+                "64", "--kpm-vectors", "4", "--kpm-seed", "3"], r)
+    # ensemble grouping, attributes and a state at another path
+    r = eigentherm.levels(f, ensemble_by="none", attribute={"model": "renamed"})
+    check(cli, ["levels", f, "--ensemble-by", "none", "--attribute", "model=renamed"], r)
+    r = eigentherm.quench(f, sector="even", observable="sz_site", state="stored:alt",
+                          state_path={"alt": "states/neel_z"}, times="lin:0:5:6")
+    check(cli, ["quench", f, "--sector", "even", "--observable", "sz_site", "--state",
+                "stored:alt", "--state-path", "alt=states/neel_z", "--times", "lin:0:5:6"], r)
+
+
+def test_thermal_options_are_refused_where_there_is_no_thermal_source(good):
+    import pytest
+
+    with pytest.raises(TypeError):
+        eigentherm.levels(good, thermo="kpm")
+    with pytest.raises(TypeError):
+        eigentherm.quench(good, observable="sz", state="index:0", kpm_moments=8)
