@@ -25,7 +25,7 @@ pub const READING_ENV: &str = "EIGENTHERM_READING_LOG";
 pub const SUPERVISOR_ENV: &str = "EIGENTHERM_SUPERVISOR";
 /// Longest time the opening of one input file may take in the supervised child (seconds
 /// in [`DEADLINE_ENV`] replace it).
-pub const OPEN_DEADLINE: Duration = Duration::from_secs(60);
+pub const OPEN_DEADLINE: Duration = Duration::from_secs(30);
 /// Seconds the opening of one file may take (default [`OPEN_DEADLINE`]).
 pub const DEADLINE_ENV: &str = "EIGENTHERM_OPEN_DEADLINE";
 
