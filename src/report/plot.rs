@@ -23,7 +23,7 @@
 //! requested size / 1.24).
 
 use crate::error::{Error, Result};
-use layout::{free_corner, text_width, Corner, Obstacles, Rect};
+use layout::{free_corner, text_width, Corner, Obstacles, Rect, INSET};
 use plotters::coord::ranged1d::{AsRangedCoord, ValueFormatter};
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -148,6 +148,32 @@ pub struct RefLine {
     pub label: String,
 }
 
+/// A labelled vertical reference line at `x` (e.g. a frequency scale), drawn dotted in grey
+/// over the plot with its label above the plot area; labels that would overlap are spread
+/// apart sideways, keeping their order.
+#[derive(Debug, Clone, Serialize)]
+pub struct VLine {
+    /// Position on the x axis.
+    pub x: f64,
+    /// Label, e.g. `Δ̄`.
+    pub label: String,
+}
+
+/// A light vertical band over `[lo, hi]` of the x axis (e.g. the energies of an analysis
+/// window), drawn under everything else; with a label it has a legend entry.
+#[derive(Debug, Clone, Serialize)]
+pub struct Band {
+    /// Lower edge.
+    pub lo: f64,
+    /// Upper edge.
+    pub hi: f64,
+    /// Legend text (empty: not in the legend).
+    pub label: String,
+}
+
+/// Fill of a [`Band`]: a light grey-blue.
+const BAND_FILL: RGBColor = RGBColor(222, 232, 242);
+
 /// One histogram bar `[lo, hi)` of height `value`.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Bin {
@@ -207,6 +233,10 @@ pub struct Figure {
     pub series: Vec<Series>,
     /// Reference lines.
     pub ref_lines: Vec<RefLine>,
+    /// Vertical bands, drawn first.
+    pub bands: Vec<Band>,
+    /// Vertical reference lines.
+    pub v_lines: Vec<VLine>,
     /// Legend position.
     pub legend: Legend,
     /// Width in pixels.
@@ -229,6 +259,8 @@ impl Figure {
             histogram: None,
             series: Vec::new(),
             ref_lines: Vec::new(),
+            bands: Vec::new(),
+            v_lines: Vec::new(),
             legend: Legend::UpperRight,
             width: WIDTH,
             height: HEIGHT,
@@ -270,6 +302,25 @@ impl Figure {
     pub fn reference(mut self, y: f64, label: impl Into<String>) -> Self {
         self.ref_lines.push(RefLine {
             y,
+            label: label.into(),
+        });
+        self
+    }
+
+    /// Adds a labelled vertical reference line.
+    pub fn vertical(mut self, x: f64, label: impl Into<String>) -> Self {
+        self.v_lines.push(VLine {
+            x,
+            label: label.into(),
+        });
+        self
+    }
+
+    /// Adds a light vertical band over `[lo, hi]` of the x axis.
+    pub fn band(mut self, lo: f64, hi: f64, label: impl Into<String>) -> Self {
+        self.bands.push(Band {
+            lo,
+            hi,
             label: label.into(),
         });
         self
@@ -420,6 +471,11 @@ impl Figure {
                 ys.push(r.y);
             }
         }
+        for v in &self.v_lines {
+            if ok(v.x, xlog) {
+                xs.push(v.x);
+            }
+        }
         let x = match self.x_range {
             Some(r) => check_range(r, xlog).ok_or_else(|| self.error("empty x range"))?,
             None => auto_range(&xs, xlog).ok_or_else(|| self.error("no point to plot"))?,
@@ -435,15 +491,23 @@ impl Figure {
     }
 
     /// Extends an automatic y range so that the legend box sits beside the data rather
-    /// than on it: by a fraction `min(0.6, 0.075·entries + 0.04)` of the new span, at the
-    /// top for an upper legend and at the bottom for a lower one.
+    /// than on it: by the fraction of the plot height that the box takes with its inset and
+    /// a marker's clearance (at most 0.6) of the new span, at the top for an upper legend
+    /// and at the bottom for a lower one.
     fn legend_room(&self, (lo, hi): (f64, f64), log: bool) -> (f64, f64) {
-        let entries = self.series.iter().filter(|s| !s.label.is_empty()).count()
-            + usize::from(self.histogram.as_ref().is_some_and(|h| !h.label.is_empty()));
+        let entries = self.legend_entries().len();
         if entries == 0 || self.legend == Legend::Hidden {
             return (lo, hi);
         }
-        let frac = (0.075 * entries as f64 + 0.04).min(0.6);
+        let strip = if self.v_lines.is_empty() {
+            0
+        } else {
+            VLINE_STRIP
+        };
+        // the plot area: the canvas less the margins (12 + 12) and the x label area (52)
+        let plot = f64::from(self.height.saturating_sub(76 + strip)).max(1.0);
+        let need = legend_height(entries) + INSET + 2.0 * MARKER_RADIUS + 2.0;
+        let frac = (need / plot).min(0.6);
         let upper = matches!(self.legend, Legend::UpperLeft | Legend::UpperRight);
         let (a, b) = if log {
             (lo.log10(), hi.log10())
@@ -484,6 +548,11 @@ impl Figure {
             .margin(12)
             .margin_right(12 + self.ref_margin())
             .margin_bottom(12 + bottom)
+            .margin_top(if self.v_lines.is_empty() {
+                12
+            } else {
+                12 + VLINE_STRIP
+            })
             .x_label_area_size(52)
             .y_label_area_size(78);
         if let Some(t) = &self.title {
@@ -519,8 +588,10 @@ impl Figure {
             let r = chart.y_range();
             (r.start, r.end)
         };
+        self.draw_bands(&mut chart, xlog)?;
         self.draw_histogram(&mut chart, (xlog, ylog), y0)?;
         self.draw_references(&mut chart, root, ylog, (x0, x1))?;
+        self.draw_verticals(&mut chart, root, xlog)?;
         self.draw_curves(&mut chart, (xlog, ylog), y0)?;
         let px = chart.plotting_area().get_pixel_range();
         let area = Rect {
@@ -531,6 +602,29 @@ impl Figure {
         };
         let obstacles = self.obstacles(&chart, (xlog, ylog), y0);
         self.draw_legend(root, &area, &obstacles, bottom)
+    }
+
+    /// The bands, clipped to the x range, over the whole y range.
+    fn draw_bands<'a, X, Y>(
+        &self,
+        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+        xlog: bool,
+    ) -> std::result::Result<(), String>
+    where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        let (xr, yr) = (chart.x_range(), chart.y_range());
+        let ok = |v: f64| v.is_finite() && (!xlog || v > 0.0);
+        let bands = self
+            .bands
+            .iter()
+            .filter(|b| ok(b.lo) && ok(b.hi) && b.lo < b.hi)
+            .map(|b| (b.lo.max(xr.start), b.hi.min(xr.end)))
+            .filter(|(lo, hi)| lo < hi)
+            .map(|(lo, hi)| Rectangle::new([(lo, yr.start), (hi, yr.end)], BAND_FILL.filled()));
+        chart.draw_series(bands).map_err(|x| x.to_string())?;
+        Ok(())
     }
 
     /// The histogram bars and their outline.
@@ -638,6 +732,64 @@ impl Figure {
                 .map_err(|x| e(&x))?;
         }
 
+        Ok(())
+    }
+
+    /// The vertical lines inside the x range, dotted, with their labels above the plot
+    /// area, spread sideways so that they do not overlap.
+    fn draw_verticals<'a, X, Y>(
+        &self,
+        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+        root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+        xlog: bool,
+    ) -> std::result::Result<(), String>
+    where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        let e = |e: &dyn std::fmt::Display| e.to_string();
+        let grey = RGBColor(90, 90, 90);
+        let (xr, yr) = (chart.x_range(), chart.y_range());
+        let area = chart.plotting_area().get_pixel_range();
+        let (left, top) = (area.0.start, area.1.start);
+        let mut lines: Vec<&VLine> = self
+            .v_lines
+            .iter()
+            .filter(|v| v.x.is_finite() && (!xlog || v.x > 0.0))
+            .filter(|v| v.x >= xr.start && v.x <= xr.end)
+            .collect();
+        lines.sort_by(|a, b| a.x.total_cmp(&b.x));
+        let mut wanted = Vec::new();
+        for v in &lines {
+            chart
+                .draw_series(DashedLineSeries::new(
+                    vec![(v.x, yr.start), (v.x, yr.end)],
+                    2,
+                    3,
+                    ShapeStyle::from(&grey).stroke_width(1),
+                ))
+                .map_err(|x| e(&x))?;
+            wanted.push(f64::from(chart.backend_coord(&(v.x, yr.end)).0));
+        }
+        let widest = lines
+            .iter()
+            .map(|v| text_width(&v.label, TICK_PX))
+            .fold(0.0, f64::max);
+        let half = 0.5 * widest;
+        let lo = f64::from(left) + half;
+        let hi = f64::from(self.width + self.ref_margin()) - 4.0 - half;
+        let placed = spread_labels(&wanted, widest + 6.0, lo, hi.max(lo));
+        let style = TextStyle::from(("sans-serif", TICK_FONT).into_font())
+            .color(&grey)
+            .pos(Pos::new(HPos::Center, VPos::Bottom));
+        for (v, x) in lines.iter().zip(placed) {
+            root.draw(&Text::new(
+                v.label.clone(),
+                (x.round() as i32, top - 3),
+                style.clone(),
+            ))
+            .map_err(|x| e(&x))?;
+        }
         Ok(())
     }
 
@@ -767,11 +919,14 @@ impl Figure {
         o
     }
 
-    /// Legend entries in drawing order: the histogram, then the labelled series.
+    /// Legend entries in drawing order: the bands, the histogram, then the labelled series.
     fn legend_entries(&self) -> Vec<(String, Glyph)> {
         let mut out = Vec::new();
+        for b in self.bands.iter().filter(|b| !b.label.is_empty()) {
+            out.push((b.label.clone(), Glyph::Bar(BAND_FILL)));
+        }
         if let Some(h) = self.histogram.as_ref().filter(|h| !h.label.is_empty()) {
-            out.push((h.label.clone(), Glyph::Bar));
+            out.push((h.label.clone(), Glyph::Bar(RGBColor(200, 200, 200))));
         }
         for (k, s) in self.series.iter().enumerate() {
             if !s.label.is_empty() {
@@ -811,7 +966,7 @@ impl Figure {
             .fold(0.0, f64::max);
         let size = (
             2.0 * LEGEND_PAD + GLYPH_WIDTH + GLYPH_GAP + widest,
-            6.0 + LEGEND_ROW * entries.len() as f64,
+            legend_height(entries.len()),
         );
         let rect = if bottom > 0 {
             // under the x-axis label area, aligned with the plot area's left edge
@@ -849,6 +1004,8 @@ impl Figure {
 /// SVG `font-size` of tick labels, legend and reference-line text (plotters writes the
 /// requested size / 1.24).
 const TICK_PX: f64 = TICK_FONT / 1.24;
+/// Height in pixels of the strip above the plot area for vertical-line labels.
+const VLINE_STRIP: u32 = 20;
 /// Horizontal run of a reference label's leader line, in pixels.
 const LEADER: f64 = 18.0;
 /// Radius in pixels within which a marker counts as covered (the triangle's size).
@@ -859,11 +1016,16 @@ const LEGEND_PAD: f64 = 8.0;
 const GLYPH_WIDTH: f64 = 20.0;
 const GLYPH_GAP: f64 = 8.0;
 
+/// Height in pixels of a legend box of `entries` rows.
+fn legend_height(entries: usize) -> f64 {
+    6.0 + LEGEND_ROW * entries as f64
+}
+
 /// The sample drawn before a legend entry.
 #[derive(Debug, Clone, Copy)]
 enum Glyph {
-    /// A histogram bar.
-    Bar,
+    /// A filled bar of this colour (a histogram, a band).
+    Bar(RGBColor),
     /// A series: colour, style, triangle (else circle) markers.
     Series(RGBColor, Style, bool),
 }
@@ -911,8 +1073,7 @@ fn draw_glyph(
 ) -> std::result::Result<(), String> {
     let e = |e: &dyn std::fmt::Display| e.to_string();
     let (color, style, triangle) = match glyph {
-        Glyph::Bar => {
-            let fill = RGBColor(200, 200, 200);
+        Glyph::Bar(fill) => {
             return root
                 .draw(&Rectangle::new(
                     [(x, y - 6), (x + 20, y + 6)],

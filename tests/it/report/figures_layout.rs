@@ -1,5 +1,5 @@
-//! Layout of the figures as written: no two texts overlap, no legend box covers a data
-//! marker. Checked on every SVG of a small study (a chaotic and an integrable chain, with a
+//! Layout of the figures as written: no two texts overlap, neither a legend box nor a
+//! text covers a data marker. Checked on every SVG of a small study (a chaotic and an integrable chain, with a
 //! quench) and on a ⟨r̃⟩ figure with the demo's values.
 
 use crate::util::{mixed_field_chains, mixed_field_spec, run_binary};
@@ -81,20 +81,30 @@ fn overlapping_texts(svg: &str) -> Vec<String> {
     out
 }
 
-/// Data marker centres that a legend box covers. The legend box is the `<rect>` with the
-/// grey border `#A0A0A0`; markers are `<circle>` centres and `<polygon>` (triangle)
-/// centroids written before it (the legend's own samples come after it).
-fn covered_markers(svg: &str) -> Vec<(f64, f64)> {
-    let mut out = Vec::new();
-    let legends: Vec<_> = elements(svg, "rect")
+/// The legend box: the `<rect>` with the grey border `#A0A0A0`, as (byte offset, x0, y0,
+/// x1, y1).
+fn legend_box(svg: &str) -> Option<(usize, [f64; 4])> {
+    let (at, a, _) = elements(svg, "rect")
         .into_iter()
-        .filter(|(_, a, _)| attr(a, "stroke") == Some("#A0A0A0"))
-        .collect();
-    let mut centres: Vec<(usize, f64, f64)> = elements(svg, "circle")
+        .find(|(_, a, _)| attr(a, "stroke") == Some("#A0A0A0"))?;
+    let (x, y) = (num(a, "x")?, num(a, "y")?);
+    let (w, h) = (num(a, "width")?, num(a, "height")?);
+    Some((at, [x, y, x + w, y + h]))
+}
+
+/// Data marker centres: `<circle>` centres and `<polygon>` (triangle) centroids written
+/// before the legend box (the legend's own samples come after it).
+fn data_markers(svg: &str) -> Vec<(f64, f64)> {
+    let end = legend_box(svg).map_or(usize::MAX, |l| l.0);
+    let mut out: Vec<(f64, f64)> = elements(svg, "circle")
         .into_iter()
-        .map(|(at, a, _)| (at, num(a, "cx").unwrap(), num(a, "cy").unwrap()))
+        .filter(|&(at, _, _)| at < end)
+        .map(|(_, a, _)| (num(a, "cx").unwrap(), num(a, "cy").unwrap()))
         .collect();
-    for (at, a, _) in elements(svg, "polygon") {
+    for (_, a, _) in elements(svg, "polygon")
+        .into_iter()
+        .filter(|&(at, _, _)| at < end)
+    {
         let p: Vec<f64> = attr(a, "points")
             .unwrap()
             .split([' ', ','])
@@ -103,18 +113,13 @@ fn covered_markers(svg: &str) -> Vec<(f64, f64)> {
         let n = (p.len() / 2) as f64;
         let cx = p.iter().step_by(2).sum::<f64>() / n;
         let cy = p.iter().skip(1).step_by(2).sum::<f64>() / n;
-        centres.push((at, cx, cy));
-    }
-    for (lat, a, _) in legends {
-        let (x, y) = (num(a, "x").unwrap(), num(a, "y").unwrap());
-        let (w, h) = (num(a, "width").unwrap(), num(a, "height").unwrap());
-        for &(at, cx, cy) in &centres {
-            if at < lat && cx >= x && cx <= x + w && cy >= y && cy <= y + h {
-                out.push((cx, cy));
-            }
-        }
+        out.push((cx, cy));
     }
     out
+}
+
+fn inside(b: &[f64; 4], (x, y): (f64, f64)) -> bool {
+    x >= b[0] && x <= b[2] && y >= b[1] && y <= b[3]
 }
 
 /// Every layout problem of one SVG.
@@ -123,10 +128,19 @@ fn problems(name: &str, svg: &str) -> Vec<String> {
         .into_iter()
         .map(|p| format!("{name}: texts overlap: {p}"))
         .collect();
-    for (x, y) in covered_markers(svg) {
-        out.push(format!(
-            "{name}: the legend covers the marker at ({x}, {y})"
-        ));
+    let markers = data_markers(svg);
+    if let Some((_, b)) = legend_box(svg) {
+        for &m in markers.iter().filter(|&&m| inside(&b, m)) {
+            out.push(format!("{name}: the legend covers the marker at {m:?}"));
+        }
+    }
+    // no text (a reference label, say) sits on a data marker either
+    for (text, b) in text_boxes(svg) {
+        for &m in markers.iter().filter(|&&m| inside(&b, m)) {
+            out.push(format!(
+                "{name}: the text {text:?} covers the marker at {m:?}"
+            ));
+        }
     }
     out
 }
@@ -234,6 +248,67 @@ fn study_figures_have_free_legends_and_separate_texts() {
         let svg = std::fs::read_to_string(out.join(n)).unwrap();
         save(n, &svg);
         bad.extend(problems(n, &svg));
+        if n.starts_with("diagonal_") {
+            bad.extend(diagonal_problems(n, &svg));
+        }
+        // the envelope marks the mean level spacing of its largest size (every sector
+        // here has an off-diagonal analysis; common practice, no source)
+        if n.starts_with("envelope_") && !svg.contains("Δ̄") {
+            bad.push(format!("{n}: no mean-level-spacing line"));
+        }
     }
     assert!(bad.is_empty(), "{bad:#?}");
+}
+
+/// What is wrong with a diagonal figure (common practice, no source): the analysis window
+/// must be shaded (a `<rect>` of the band fill `#DEE8F2` inside the plot, narrower than it
+/// when the window is a part of the spectrum), and the canonical line (dashed, black,
+/// 2 px) must come after every marker, i.e. on top of them.
+fn diagonal_problems(name: &str, svg: &str) -> Vec<String> {
+    let mut out = Vec::new();
+    let bands: Vec<_> = elements(svg, "rect")
+        .into_iter()
+        .filter(|(_, a, _)| attr(a, "fill") == Some("#DEE8F2"))
+        .collect();
+    // the legend sample of the band is a second rect of the same fill, 20 px wide
+    let band = bands
+        .iter()
+        .find(|(_, a, _)| num(a, "width").is_some_and(|w| w > 21.0));
+    match band {
+        None => out.push(format!("{name}: no shaded window")),
+        Some((_, a, _)) => {
+            let w = num(a, "width").unwrap();
+            // the demo-like window 0.4:0.6 (the default) is a fifth of the states, near
+            // the middle: clearly narrower than the plot (about 360 px wide)
+            if w > 300.0 {
+                out.push(format!("{name}: the window band is {w} px wide"));
+            }
+        }
+    }
+    let canonical: Vec<usize> = elements(svg, "polyline")
+        .into_iter()
+        .chain(elements(svg, "path"))
+        .filter(|(_, a, _)| {
+            attr(a, "stroke") == Some("#000000") && attr(a, "stroke-width") == Some("2")
+        })
+        .map(|(at, _, _)| at)
+        .collect();
+    if canonical.is_empty() {
+        out.push(format!("{name}: no canonical line"));
+    }
+    // the legend's samples come after the data; the line's own segments are before them
+    let legend = legend_box(svg).map_or(usize::MAX, |l| l.0);
+    let data_markers_last = ["circle", "polygon"]
+        .iter()
+        .flat_map(|t| elements(svg, t))
+        .map(|(at, _, _)| at)
+        .filter(|&at| at < legend)
+        .max()
+        .unwrap_or(0);
+    if let Some(&first) = canonical.iter().filter(|&&at| at < legend).min() {
+        if first < data_markers_last {
+            out.push(format!("{name}: the canonical line is drawn under markers"));
+        }
+    }
+    out
 }
