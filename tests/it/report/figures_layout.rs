@@ -1,6 +1,7 @@
 //! Layout of the figures as written: no two texts overlap, neither a legend box nor a
-//! text covers a data marker. Checked on every SVG of a small study (a chaotic and an integrable chain, with a
-//! quench) and on a ⟨r̃⟩ figure with the demo's values.
+//! text covers a data marker, no text covers a curve. Checked on every SVG of a small
+//! study (a chaotic and an integrable chain, with a quench) and on a ⟨r̃⟩ figure with the
+//! demo's values.
 
 use crate::util::{mixed_field_chains, mixed_field_spec, run_binary};
 use eigentherm::analysis::scaling::{MEAN_R_GOE, MEAN_R_GUE, MEAN_R_POISSON};
@@ -118,6 +119,49 @@ fn data_markers(svg: &str) -> Vec<(f64, f64)> {
     out
 }
 
+/// Segments of the curves (`<polyline>`s 2 px wide) written before the legend box.
+fn curve_segments(svg: &str) -> Vec<((f64, f64), (f64, f64))> {
+    let end = legend_box(svg).map_or(usize::MAX, |l| l.0);
+    let mut out = Vec::new();
+    for (_, a, _) in elements(svg, "polyline")
+        .into_iter()
+        .filter(|&(at, a, _)| at < end && attr(a, "stroke-width") == Some("2"))
+    {
+        let p: Vec<f64> = attr(a, "points")
+            .unwrap()
+            .split([' ', ','])
+            .filter_map(|v| v.parse().ok())
+            .collect();
+        let pts: Vec<(f64, f64)> = p.chunks(2).map(|c| (c[0], c[1])).collect();
+        out.extend(pts.windows(2).map(|w| (w[0], w[1])));
+    }
+    out
+}
+
+/// True when the segment a–b has a point inside the box (Liang–Barsky clipping; common
+/// practice, no source).
+fn meets(b: &[f64; 4], a: (f64, f64), c: (f64, f64)) -> bool {
+    let (dx, dy) = (c.0 - a.0, c.1 - a.1);
+    let (mut t0, mut t1) = (0.0f64, 1.0f64);
+    for (p, q) in [
+        (-dx, a.0 - b[0]),
+        (dx, b[2] - a.0),
+        (-dy, a.1 - b[1]),
+        (dy, b[3] - a.1),
+    ] {
+        if p == 0.0 {
+            if q < 0.0 {
+                return false;
+            }
+        } else if p < 0.0 {
+            t0 = t0.max(q / p);
+        } else {
+            t1 = t1.min(q / p);
+        }
+    }
+    t0 <= t1
+}
+
 fn inside(b: &[f64; 4], (x, y): (f64, f64)) -> bool {
     x >= b[0] && x <= b[2] && y >= b[1] && y <= b[3]
 }
@@ -134,11 +178,17 @@ fn problems(name: &str, svg: &str) -> Vec<String> {
             out.push(format!("{name}: the legend covers the marker at {m:?}"));
         }
     }
-    // no text (a reference label, say) sits on a data marker either
+    // no text (a reference label, say) sits on a data marker or a curve either
+    let curves = curve_segments(svg);
     for (text, b) in text_boxes(svg) {
         for &m in markers.iter().filter(|&&m| inside(&b, m)) {
             out.push(format!(
                 "{name}: the text {text:?} covers the marker at {m:?}"
+            ));
+        }
+        if let Some((p, q)) = curves.iter().find(|&&(p, q)| meets(&b, p, q)) {
+            out.push(format!(
+                "{name}: the text {text:?} covers the curve {p:?}–{q:?}"
             ));
         }
     }
