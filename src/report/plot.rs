@@ -11,6 +11,11 @@
 //! Automatic ranges enclose every point, error bar, bar and reference line, padded by 5 %
 //! of the span (of `log₁₀` on log axes).
 //!
+//! The legend goes in the first corner of the plot area whose box covers no marker, curve,
+//! error bar or bar (the chosen [`Legend`] corner first, then upper right, upper left,
+//! lower right, lower left); when every corner covers data it goes below the plot, on a
+//! canvas made taller for it (`plot/layout.rs`).
+//!
 //! Text needs no system font: the SVG backend writes `<text>` elements with a generic
 //! `sans-serif` family, and plotters (built without its `ttf` feature) only estimates text
 //! extents for layout. Sizes are chosen for a paper column: 480×360 px by default, tick
@@ -18,10 +23,13 @@
 //! requested size / 1.24).
 
 use crate::error::{Error, Result};
+use layout::{free_corner, text_width, Corner, Obstacles, Rect, INSET};
 use plotters::coord::ranged1d::{AsRangedCoord, ValueFormatter};
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use serde::Serialize;
+
+mod layout;
 
 /// Default figure width in pixels.
 pub const WIDTH: u32 = 480;
@@ -128,9 +136,10 @@ impl Series {
     }
 }
 
-/// A labelled horizontal reference line at `y`, drawn dashed in grey with its label at the
-/// right end just above the line; labels of close lines are moved apart so that they do not
-/// overlap, in the order of the lines ([`spread_labels`]).
+/// A labelled horizontal reference line at `y`, drawn dashed in grey with its label in the
+/// margin right of the plot area, joined to the line's end by a leader line; labels of close
+/// lines are stacked apart so that they do not overlap, in the order of the lines
+/// ([`spread_labels`]). The canvas is widened by the longest label.
 #[derive(Debug, Clone, Serialize)]
 pub struct RefLine {
     /// Height.
@@ -138,6 +147,32 @@ pub struct RefLine {
     /// Label, e.g. `GOE 0.5307`.
     pub label: String,
 }
+
+/// A labelled vertical reference line at `x` (e.g. a frequency scale), drawn dotted in grey
+/// over the plot with its label above the plot area; labels that would overlap are spread
+/// apart sideways, keeping their order.
+#[derive(Debug, Clone, Serialize)]
+pub struct VLine {
+    /// Position on the x axis.
+    pub x: f64,
+    /// Label, e.g. `Δ̄`.
+    pub label: String,
+}
+
+/// A light vertical band over `[lo, hi]` of the x axis (e.g. the energies of an analysis
+/// window), drawn under everything else; with a label it has a legend entry.
+#[derive(Debug, Clone, Serialize)]
+pub struct Band {
+    /// Lower edge.
+    pub lo: f64,
+    /// Upper edge.
+    pub hi: f64,
+    /// Legend text (empty: not in the legend).
+    pub label: String,
+}
+
+/// Fill of a [`Band`]: a light grey-blue.
+const BAND_FILL: RGBColor = RGBColor(222, 232, 242);
 
 /// One histogram bar `[lo, hi)` of height `value`.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -159,7 +194,7 @@ pub struct Histogram {
     pub bins: Vec<Bin>,
 }
 
-/// Where the legend goes.
+/// The corner tried first for the legend (the others follow when it covers data; module docs).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Legend {
@@ -198,6 +233,10 @@ pub struct Figure {
     pub series: Vec<Series>,
     /// Reference lines.
     pub ref_lines: Vec<RefLine>,
+    /// Vertical bands, drawn first.
+    pub bands: Vec<Band>,
+    /// Vertical reference lines.
+    pub v_lines: Vec<VLine>,
     /// Legend position.
     pub legend: Legend,
     /// Width in pixels.
@@ -220,6 +259,8 @@ impl Figure {
             histogram: None,
             series: Vec::new(),
             ref_lines: Vec::new(),
+            bands: Vec::new(),
+            v_lines: Vec::new(),
             legend: Legend::UpperRight,
             width: WIDTH,
             height: HEIGHT,
@@ -266,6 +307,25 @@ impl Figure {
         self
     }
 
+    /// Adds a labelled vertical reference line.
+    pub fn vertical(mut self, x: f64, label: impl Into<String>) -> Self {
+        self.v_lines.push(VLine {
+            x,
+            label: label.into(),
+        });
+        self
+    }
+
+    /// Adds a light vertical band over `[lo, hi]` of the x axis.
+    pub fn band(mut self, lo: f64, hi: f64, label: impl Into<String>) -> Self {
+        self.bands.push(Band {
+            lo,
+            hi,
+            label: label.into(),
+        });
+        self
+    }
+
     /// Sets the histogram.
     pub fn histogram(mut self, label: impl Into<String>, bins: Vec<Bin>) -> Self {
         self.histogram = Some(Histogram {
@@ -287,13 +347,27 @@ impl Figure {
     /// point is non-positive on a log axis, or a fixed range is empty.
     pub fn to_svg(&self) -> Result<String> {
         let (xr, yr) = self.ranges()?;
+        // a legend that fits in no corner of the plot area goes below it, on a taller
+        // canvas; the plot area keeps its pixels, so the first pass's search holds
+        let (svg, below) = self.render(xr, yr, 0)?;
+        match below {
+            Some(extra) => Ok(self.render(xr, yr, extra)?.0),
+            None => Ok(svg),
+        }
+    }
+
+    /// One rendering with `bottom` extra pixels below the plot for the legend (0: the
+    /// legend goes in a free corner); returns the SVG and, when no corner is free, the
+    /// extra height a legend below needs.
+    fn render(&self, xr: (f64, f64), yr: (f64, f64), bottom: u32) -> Result<(String, Option<u32>)> {
         let mut buf = String::new();
+        let below;
         {
-            let root =
-                SVGBackend::with_string(&mut buf, (self.width, self.height)).into_drawing_area();
+            let size = (self.width + self.ref_margin(), self.height + bottom);
+            let root = SVGBackend::with_string(&mut buf, size).into_drawing_area();
             let res = match (self.x_axis, self.y_axis) {
                 (Axis::Linear, Axis::Linear) => {
-                    self.draw(&root, xr.0..xr.1, yr.0..yr.1, false, false)
+                    self.draw(&root, xr.0..xr.1, yr.0..yr.1, (false, false), bottom)
                 }
                 (Axis::Linear, Axis::Log) => self.draw(
                     &root,
@@ -301,8 +375,8 @@ impl Figure {
                     (yr.0..yr.1)
                         .log_scale()
                         .with_key_points(log_ticks(yr.0, yr.1)),
-                    false,
-                    true,
+                    (false, true),
+                    bottom,
                 ),
                 (Axis::Log, Axis::Linear) => self.draw(
                     &root,
@@ -310,8 +384,8 @@ impl Figure {
                         .log_scale()
                         .with_key_points(log_ticks(xr.0, xr.1)),
                     yr.0..yr.1,
-                    true,
-                    false,
+                    (true, false),
+                    bottom,
                 ),
                 (Axis::Log, Axis::Log) => self.draw(
                     &root,
@@ -321,14 +395,29 @@ impl Figure {
                     (yr.0..yr.1)
                         .log_scale()
                         .with_key_points(log_ticks(yr.0, yr.1)),
-                    true,
-                    true,
+                    (true, true),
+                    bottom,
                 ),
             };
-            res.map_err(|e| self.error(&e))?;
+            below = res.map_err(|e| self.error(&e))?;
             root.present().map_err(|e| self.error(&e.to_string()))?;
         }
-        Ok(buf)
+        Ok((buf, below))
+    }
+
+    /// Extra width at the right of the plot area for the reference-line labels and their
+    /// leader lines (0 without reference lines).
+    fn ref_margin(&self) -> u32 {
+        let widest = self
+            .ref_lines
+            .iter()
+            .map(|r| text_width(&r.label, TICK_PX))
+            .fold(0.0, f64::max);
+        if self.ref_lines.is_empty() {
+            0
+        } else {
+            (LEADER + 4.0 + widest).ceil() as u32
+        }
     }
 
     fn error(&self, problem: &str) -> Error {
@@ -382,6 +471,11 @@ impl Figure {
                 ys.push(r.y);
             }
         }
+        for v in &self.v_lines {
+            if ok(v.x, xlog) {
+                xs.push(v.x);
+            }
+        }
         let x = match self.x_range {
             Some(r) => check_range(r, xlog).ok_or_else(|| self.error("empty x range"))?,
             None => auto_range(&xs, xlog).ok_or_else(|| self.error("no point to plot"))?,
@@ -397,15 +491,23 @@ impl Figure {
     }
 
     /// Extends an automatic y range so that the legend box sits beside the data rather
-    /// than on it: by a fraction `min(0.6, 0.075·entries + 0.04)` of the new span, at the
-    /// top for an upper legend and at the bottom for a lower one.
+    /// than on it: by the fraction of the plot height that the box takes with its inset and
+    /// a marker's clearance (at most 0.6) of the new span, at the top for an upper legend
+    /// and at the bottom for a lower one.
     fn legend_room(&self, (lo, hi): (f64, f64), log: bool) -> (f64, f64) {
-        let entries = self.series.iter().filter(|s| !s.label.is_empty()).count()
-            + usize::from(self.histogram.as_ref().is_some_and(|h| !h.label.is_empty()));
+        let entries = self.legend_entries().len();
         if entries == 0 || self.legend == Legend::Hidden {
             return (lo, hi);
         }
-        let frac = (0.075 * entries as f64 + 0.04).min(0.6);
+        let strip = if self.v_lines.is_empty() {
+            0
+        } else {
+            VLINE_STRIP
+        };
+        // the plot area: the canvas less the margins (12 + 12) and the x label area (52)
+        let plot = f64::from(self.height.saturating_sub(76 + strip)).max(1.0);
+        let need = legend_height(entries) + INSET + 2.0 * MARKER_RADIUS + 2.0;
+        let frac = (need / plot).min(0.6);
         let upper = matches!(self.legend, Legend::UpperLeft | Legend::UpperRight);
         let (a, b) = if log {
             (lo.log10(), hi.log10())
@@ -430,9 +532,9 @@ impl Figure {
         root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
         x_spec: XS,
         y_spec: YS,
-        xlog: bool,
-        ylog: bool,
-    ) -> std::result::Result<(), String>
+        (xlog, ylog): (bool, bool),
+        bottom: u32,
+    ) -> std::result::Result<Option<u32>, String>
     where
         XS: AsRangedCoord<Value = f64>,
         YS: AsRangedCoord<Value = f64>,
@@ -444,6 +546,13 @@ impl Figure {
         let mut builder = ChartBuilder::on(root);
         builder
             .margin(12)
+            .margin_right(12 + self.ref_margin())
+            .margin_bottom(12 + bottom)
+            .margin_top(if self.v_lines.is_empty() {
+                12
+            } else {
+                12 + VLINE_STRIP
+            })
             .x_label_area_size(52)
             .y_label_area_size(78);
         if let Some(t) = &self.title {
@@ -479,10 +588,42 @@ impl Figure {
             let r = chart.y_range();
             (r.start, r.end)
         };
+        self.draw_bands(&mut chart, xlog)?;
         self.draw_histogram(&mut chart, (xlog, ylog), y0)?;
         self.draw_references(&mut chart, root, ylog, (x0, x1))?;
-        self.draw_curves(&mut chart, (xlog, ylog), (x0, y0))?;
-        self.draw_legend(&mut chart)?;
+        self.draw_verticals(&mut chart, root, xlog)?;
+        self.draw_curves(&mut chart, (xlog, ylog), y0)?;
+        let px = chart.plotting_area().get_pixel_range();
+        let area = Rect {
+            x0: f64::from(px.0.start),
+            y0: f64::from(px.1.start),
+            x1: f64::from(px.0.end),
+            y1: f64::from(px.1.end),
+        };
+        let obstacles = self.obstacles(&chart, (xlog, ylog), y0);
+        self.draw_legend(root, &area, &obstacles, bottom)
+    }
+
+    /// The bands, clipped to the x range, over the whole y range.
+    fn draw_bands<'a, X, Y>(
+        &self,
+        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+        xlog: bool,
+    ) -> std::result::Result<(), String>
+    where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        let (xr, yr) = (chart.x_range(), chart.y_range());
+        let ok = |v: f64| v.is_finite() && (!xlog || v > 0.0);
+        let bands = self
+            .bands
+            .iter()
+            .filter(|b| ok(b.lo) && ok(b.hi) && b.lo < b.hi)
+            .map(|b| (b.lo.max(xr.start), b.hi.min(xr.end)))
+            .filter(|(lo, hi)| lo < hi)
+            .map(|(lo, hi)| Rectangle::new([(lo, yr.start), (hi, yr.end)], BAND_FILL.filled()));
+        chart.draw_series(bands).map_err(|x| x.to_string())?;
         Ok(())
     }
 
@@ -512,12 +653,7 @@ impl Figure {
                         ShapeStyle::from(&fill).filled(),
                     )
                 });
-            let anno = chart.draw_series(bars).map_err(|x| e(&x))?;
-            if !h.label.is_empty() {
-                anno.label(h.label.as_str()).legend(move |(x, y)| {
-                    Rectangle::new([(x, y - 6), (x + 20, y + 6)], fill.filled())
-                });
-            }
+            chart.draw_series(bars).map_err(|x| e(&x))?;
             let outline = h
                 .bins
                 .iter()
@@ -534,9 +670,10 @@ impl Figure {
         Ok(())
     }
 
-    /// The reference lines, then their labels at the right end: each wants to sit just
-    /// above its line (below it when the line is near the top), and labels that would
-    /// overlap are spread apart by `spread_labels`, keeping the order of the lines.
+    /// The reference lines inside the y range, then their labels stacked in the right
+    /// margin: each wants to sit level with its line, labels that would overlap are spread
+    /// apart by `spread_labels` (keeping the order of the lines), and a leader line joins
+    /// each label to the right end of its line. The labels never cover the plot area.
     fn draw_references<'a, X, Y>(
         &self,
         chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
@@ -553,9 +690,15 @@ impl Figure {
         let grey = RGBColor(90, 90, 90);
         let area = chart.plotting_area().get_pixel_range();
         let (top, bottom) = (f64::from(area.1.start), f64::from(area.1.end));
+        let right = area.0.end;
         let half = 0.5 * REF_LABEL_HEIGHT;
+        let yr = chart.y_range();
         let mut labels = Vec::new();
-        for r in self.ref_lines.iter().filter(|r| ok(r.y, ylog)) {
+        for r in self
+            .ref_lines
+            .iter()
+            .filter(|r| ok(r.y, ylog) && r.y >= yr.start && r.y <= yr.end)
+        {
             chart
                 .draw_series(DashedLineSeries::new(
                     vec![(x0, r.y), (x1, r.y)],
@@ -564,27 +707,89 @@ impl Figure {
                     ShapeStyle::from(&grey).stroke_width(1),
                 ))
                 .map_err(|x| e(&x))?;
-            let (px, py) = chart.backend_coord(&(x1, r.y));
-            let py = f64::from(py);
-            let centre = if py - top < REF_LABEL_HEIGHT + 7.0 {
-                py + 3.0 + half
-            } else {
-                py - 2.0 - half
-            };
-            labels.push((r.y, px - 4, centre, r.label.clone()));
+            let py = chart.backend_coord(&(x1, r.y)).1;
+            labels.push((r.y, py, r.label.clone()));
         }
         // top to bottom: by value, highest first (ties keep the order they were added in)
         labels.sort_by(|a, b| b.0.total_cmp(&a.0));
-        let wanted: Vec<f64> = labels.iter().map(|l| l.2).collect();
+        let wanted: Vec<f64> = labels.iter().map(|l| f64::from(l.1)).collect();
         let placed = spread_labels(&wanted, REF_LABEL_HEIGHT + 2.0, top + half, bottom - half);
         let style = TextStyle::from(("sans-serif", TICK_FONT).into_font())
             .color(&grey)
-            .pos(Pos::new(HPos::Right, VPos::Center));
-        for ((_, px, _, label), y) in labels.into_iter().zip(placed) {
-            root.draw(&Text::new(label, (px, y.round() as i32), style.clone()))
+            .pos(Pos::new(HPos::Left, VPos::Center));
+        let lx = right + LEADER as i32 + 4;
+        for ((_, py, label), y) in labels.into_iter().zip(placed) {
+            let y = y.round() as i32;
+            let leader = vec![
+                (right, py),
+                (right + 5, py),
+                (right + LEADER as i32 - 3, y),
+                (lx - 2, y),
+            ];
+            root.draw(&PathElement::new(leader, grey.stroke_width(1)))
+                .map_err(|x| e(&x))?;
+            root.draw(&Text::new(label, (lx, y), style.clone()))
                 .map_err(|x| e(&x))?;
         }
 
+        Ok(())
+    }
+
+    /// The vertical lines inside the x range, dotted, with their labels above the plot
+    /// area, spread sideways so that they do not overlap.
+    fn draw_verticals<'a, X, Y>(
+        &self,
+        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+        root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+        xlog: bool,
+    ) -> std::result::Result<(), String>
+    where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        let e = |e: &dyn std::fmt::Display| e.to_string();
+        let grey = RGBColor(90, 90, 90);
+        let (xr, yr) = (chart.x_range(), chart.y_range());
+        let area = chart.plotting_area().get_pixel_range();
+        let (left, top) = (area.0.start, area.1.start);
+        let mut lines: Vec<&VLine> = self
+            .v_lines
+            .iter()
+            .filter(|v| v.x.is_finite() && (!xlog || v.x > 0.0))
+            .filter(|v| v.x >= xr.start && v.x <= xr.end)
+            .collect();
+        lines.sort_by(|a, b| a.x.total_cmp(&b.x));
+        let mut wanted = Vec::new();
+        for v in &lines {
+            chart
+                .draw_series(DashedLineSeries::new(
+                    vec![(v.x, yr.start), (v.x, yr.end)],
+                    2,
+                    3,
+                    ShapeStyle::from(&grey).stroke_width(1),
+                ))
+                .map_err(|x| e(&x))?;
+            wanted.push(f64::from(chart.backend_coord(&(v.x, yr.end)).0));
+        }
+        let widest = lines
+            .iter()
+            .map(|v| text_width(&v.label, TICK_PX))
+            .fold(0.0, f64::max);
+        let half = 0.5 * widest;
+        let lo = f64::from(left) + half;
+        let hi = f64::from(self.width + self.ref_margin()) - 4.0 - half;
+        let placed = spread_labels(&wanted, widest + 6.0, lo, hi.max(lo));
+        let style = TextStyle::from(("sans-serif", TICK_FONT).into_font())
+            .color(&grey)
+            .pos(Pos::new(HPos::Center, VPos::Bottom));
+        for (v, x) in lines.iter().zip(placed) {
+            root.draw(&Text::new(
+                v.label.clone(),
+                (x.round() as i32, top - 3),
+                style.clone(),
+            ))
+            .map_err(|x| e(&x))?;
+        }
         Ok(())
     }
 
@@ -593,7 +798,7 @@ impl Figure {
         &self,
         chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
         (xlog, ylog): (bool, bool),
-        (x0, y0): (f64, f64),
+        y0: f64,
     ) -> std::result::Result<(), String>
     where
         X: Ranged<ValueType = f64>,
@@ -652,49 +857,177 @@ impl Figure {
                         .map_err(|x| e(&x))?;
                 }
             }
-            if !s.label.is_empty() {
-                let style = s.style;
-                chart
-                    .draw_series(std::iter::once(EmptyElement::at((x0, y0))))
-                    .map_err(|x| e(&x))?
-                    .label(s.label.as_str())
-                    .legend(move |(x, y)| legend_glyph(x, y, color, style, triangle));
-            }
         }
 
         Ok(())
     }
 
-    /// The legend box, when any series is labelled.
-    fn draw_legend<'a, X, Y>(
+    /// What the legend must not cover: the markers, curves, error bars and bars, in pixels.
+    fn obstacles<'a, X, Y>(
         &self,
-        chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
-    ) -> std::result::Result<(), String>
+        chart: &ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+        (xlog, ylog): (bool, bool),
+        y0: f64,
+    ) -> Obstacles
     where
         X: Ranged<ValueType = f64>,
         Y: Ranged<ValueType = f64>,
     {
+        let ok = |v: f64, log: bool| v.is_finite() && (!log || v > 0.0);
+        let px = |x: f64, y: f64| {
+            let (a, b) = chart.backend_coord(&(x, y));
+            (f64::from(a), f64::from(b))
+        };
+        let mut o = Obstacles::default();
+        for s in &self.series {
+            let pts: Vec<(f64, f64)> = s
+                .points
+                .iter()
+                .filter(|&&(x, y)| ok(x, xlog) && ok(y, ylog))
+                .map(|&(x, y)| px(x, y))
+                .collect();
+            if matches!(s.style, Style::Points | Style::LinePoints) {
+                o.markers
+                    .extend(pts.iter().map(|&(x, y)| (x, y, MARKER_RADIUS)));
+            }
+            if s.style != Style::Points {
+                o.segments.extend(pts.windows(2).map(|w| (w[0], w[1])));
+            }
+            for (&(x, y), &err) in s.points.iter().zip(s.y_errors.iter().flatten()) {
+                if ok(x, xlog) && ok(y, ylog) && err.is_finite() && err > 0.0 {
+                    let lo = if ok(y - err, ylog) { y - err } else { y0 };
+                    o.segments.push((px(x, lo), px(x, y + err)));
+                }
+            }
+        }
+        if let Some(h) = &self.histogram {
+            let base = if ylog { y0 } else { 0.0 };
+            for b in h
+                .bins
+                .iter()
+                .filter(|b| ok(b.lo, xlog) && ok(b.hi, xlog) && ok(b.value, ylog))
+            {
+                let (p, q) = (px(b.lo, base), px(b.hi, b.value));
+                o.rects.push(Rect {
+                    x0: p.0.min(q.0),
+                    y0: p.1.min(q.1),
+                    x1: p.0.max(q.0),
+                    y1: p.1.max(q.1),
+                });
+            }
+        }
+        o
+    }
+
+    /// Legend entries in drawing order: the bands, the histogram, then the labelled series.
+    fn legend_entries(&self) -> Vec<(String, Glyph)> {
+        let mut out = Vec::new();
+        for b in self.bands.iter().filter(|b| !b.label.is_empty()) {
+            out.push((b.label.clone(), Glyph::Bar(BAND_FILL)));
+        }
+        if let Some(h) = self.histogram.as_ref().filter(|h| !h.label.is_empty()) {
+            out.push((h.label.clone(), Glyph::Bar(RGBColor(200, 200, 200))));
+        }
+        for (k, s) in self.series.iter().enumerate() {
+            if !s.label.is_empty() {
+                let color = palette(s.color.unwrap_or(k));
+                out.push((s.label.clone(), Glyph::Series(color, s.style, k % 2 == 1)));
+            }
+        }
+        out
+    }
+
+    /// The legend box: in the first corner of the plot area that covers no data
+    /// ([`layout::free_corner`], the chosen corner first), else below the plot when the
+    /// canvas has `bottom` extra pixels for it. Returns the extra height needed when no
+    /// corner is free and there is no room below yet (nothing drawn then).
+    fn draw_legend(
+        &self,
+        root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+        area: &Rect,
+        obstacles: &Obstacles,
+        bottom: u32,
+    ) -> std::result::Result<Option<u32>, String> {
         let e = |e: &dyn std::fmt::Display| e.to_string();
-        let labelled = self.series.iter().any(|s| !s.label.is_empty())
-            || self.histogram.as_ref().is_some_and(|h| !h.label.is_empty());
-        if labelled && self.legend != Legend::Hidden {
-            let pos = match self.legend {
-                Legend::UpperLeft => SeriesLabelPosition::UpperLeft,
-                Legend::LowerLeft => SeriesLabelPosition::LowerLeft,
-                Legend::LowerRight => SeriesLabelPosition::LowerRight,
-                _ => SeriesLabelPosition::UpperRight,
-            };
-            chart
-                .configure_series_labels()
-                .position(pos)
-                .label_font(("sans-serif", TICK_FONT))
-                .background_style(WHITE.mix(0.85))
-                .border_style(RGBColor(160, 160, 160))
-                .draw()
+        let entries = self.legend_entries();
+        let corner = match self.legend {
+            Legend::Hidden => return Ok(None),
+            Legend::UpperLeft => Corner::UpperLeft,
+            Legend::LowerLeft => Corner::LowerLeft,
+            Legend::LowerRight => Corner::LowerRight,
+            Legend::UpperRight => Corner::UpperRight,
+        };
+        if entries.is_empty() {
+            return Ok(None);
+        }
+        let widest = entries
+            .iter()
+            .map(|(l, _)| text_width(l, TICK_PX))
+            .fold(0.0, f64::max);
+        let size = (
+            2.0 * LEGEND_PAD + GLYPH_WIDTH + GLYPH_GAP + widest,
+            legend_height(entries.len()),
+        );
+        let rect = if bottom > 0 {
+            // under the x-axis label area, aligned with the plot area's left edge
+            let canvas = f64::from(self.width + self.ref_margin());
+            let x = area.x0.min(canvas - 6.0 - size.0).max(6.0);
+            Rect::at(x, f64::from(self.height) - 6.0, size.0, size.1)
+        } else {
+            match free_corner(area, size, corner, obstacles) {
+                Some(r) => r,
+                None => return Ok(Some(size.1.ceil() as u32 + 10)),
+            }
+        };
+        let corners = [
+            (rect.x0.round() as i32, rect.y0.round() as i32),
+            (rect.x1.round() as i32, rect.y1.round() as i32),
+        ];
+        root.draw(&Rectangle::new(corners, WHITE.mix(0.85).filled()))
+            .map_err(|x| e(&x))?;
+        root.draw(&Rectangle::new(corners, RGBColor(160, 160, 160)))
+            .map_err(|x| e(&x))?;
+        let style = TextStyle::from(("sans-serif", TICK_FONT).into_font())
+            .pos(Pos::new(HPos::Left, VPos::Center));
+        for (k, (label, glyph)) in entries.into_iter().enumerate() {
+            let y = (rect.y0 + 3.0 + LEGEND_ROW * (k as f64 + 0.5)).round() as i32;
+            let x = (rect.x0 + LEGEND_PAD).round() as i32;
+            draw_glyph(root, (x, y), glyph)?;
+            let tx = x + (GLYPH_WIDTH + GLYPH_GAP) as i32;
+            root.draw(&Text::new(label, (tx, y), style.clone()))
                 .map_err(|x| e(&x))?;
         }
-        Ok(())
+        Ok(None)
     }
+}
+
+/// SVG `font-size` of tick labels, legend and reference-line text (plotters writes the
+/// requested size / 1.24).
+const TICK_PX: f64 = TICK_FONT / 1.24;
+/// Height in pixels of the strip above the plot area for vertical-line labels.
+const VLINE_STRIP: u32 = 20;
+/// Horizontal run of a reference label's leader line, in pixels.
+const LEADER: f64 = 18.0;
+/// Radius in pixels within which a marker counts as covered (the triangle's size).
+const MARKER_RADIUS: f64 = 6.0;
+/// Legend layout in pixels: row height, padding, sample width and the gap before the text.
+const LEGEND_ROW: f64 = 20.0;
+const LEGEND_PAD: f64 = 8.0;
+const GLYPH_WIDTH: f64 = 20.0;
+const GLYPH_GAP: f64 = 8.0;
+
+/// Height in pixels of a legend box of `entries` rows.
+fn legend_height(entries: usize) -> f64 {
+    6.0 + LEGEND_ROW * entries as f64
+}
+
+/// The sample drawn before a legend entry.
+#[derive(Debug, Clone, Copy)]
+enum Glyph {
+    /// A filled bar of this colour (a histogram, a band).
+    Bar(RGBColor),
+    /// A series: colour, style, triangle (else circle) markers.
+    Series(RGBColor, Style, bool),
 }
 
 /// Height in pixels taken by a reference-line label (its `font-size` is 18 / 1.24 ≈ 14.5 px).
@@ -731,33 +1064,47 @@ pub fn spread_labels(wanted: &[f64], sep: f64, lo: f64, hi: f64) -> Vec<f64> {
     out
 }
 
-/// Legend sample of a series: a line (solid, dashed or none) and a marker (circle,
-/// triangle or none), always the same element type so that one closure serves every style.
-fn legend_glyph<'a, DB: DrawingBackend + 'a>(
-    x: i32,
-    y: i32,
-    color: RGBColor,
-    style: Style,
-    triangle: bool,
-) -> impl IntoDynElement<'a, DB, (i32, i32)> {
-    let clear = ShapeStyle::from(&TRANSPARENT);
-    let (seg1, seg2) = match style {
-        Style::Line | Style::LinePoints => (color.stroke_width(2), color.stroke_width(2)),
-        Style::Dashed => (color.stroke_width(2), clear),
-        Style::Points => (clear, clear),
+/// Draws a legend sample with its left end at `(x, y)`: a grey bar, or a series' line
+/// (solid, dashed or none) and marker (circle, triangle or none).
+fn draw_glyph(
+    root: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+    (x, y): (i32, i32),
+    glyph: Glyph,
+) -> std::result::Result<(), String> {
+    let e = |e: &dyn std::fmt::Display| e.to_string();
+    let (color, style, triangle) = match glyph {
+        Glyph::Bar(fill) => {
+            return root
+                .draw(&Rectangle::new(
+                    [(x, y - 6), (x + 20, y + 6)],
+                    fill.filled(),
+                ))
+                .map_err(|x| e(&x));
+        }
+        Glyph::Series(c, s, t) => (c, s, t),
     };
-    let marker = matches!(style, Style::Points | Style::LinePoints);
-    let (circle, tri) = match (marker, triangle) {
-        (true, false) => (color.filled(), clear),
-        (true, true) => (clear, color.filled()),
-        _ => (clear, clear),
+    let segments: &[(i32, i32)] = match style {
+        Style::Line | Style::LinePoints => &[(0, 20)],
+        Style::Dashed => &[(0, 8), (12, 20)],
+        Style::Points => &[],
     };
-    EmptyElement::at((x, y))
-        + PathElement::new(vec![(0, 0), (8, 0)], seg1)
-        + PathElement::new(vec![(8, 0), (12, 0)], seg2)
-        + PathElement::new(vec![(12, 0), (20, 0)], seg1)
-        + Circle::new((10, 0), 4, circle)
-        + TriangleMarker::new((10, 0), 6, tri)
+    for &(a, b) in segments {
+        root.draw(&PathElement::new(
+            vec![(x + a, y), (x + b, y)],
+            color.stroke_width(2),
+        ))
+        .map_err(|x| e(&x))?;
+    }
+    if matches!(style, Style::Points | Style::LinePoints) {
+        if triangle {
+            root.draw(&TriangleMarker::new((x + 10, y), 6, color.filled()))
+                .map_err(|x| e(&x))?;
+        } else {
+            root.draw(&Circle::new((x + 10, y), 4, color.filled()))
+                .map_err(|x| e(&x))?;
+        }
+    }
+    Ok(())
 }
 
 /// Tick positions on a log axis `[lo, hi]`: the decades `10ᵏ` inside (every n-th when

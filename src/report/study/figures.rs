@@ -3,6 +3,7 @@
 //! the quench traces and temporal fluctuations.
 
 use crate::analysis::diagonal::binned_curves;
+use crate::analysis::offdiagonal::PLATEAU_MIN_COUNT;
 use crate::analysis::quench::outcome::FileResult;
 use crate::analysis::scaling::{Row, ScalingReport, MEAN_R_GOE, MEAN_R_GUE, MEAN_R_POISSON};
 use crate::analysis::sector::{ObservableAnalysis, SectorAnalysis};
@@ -146,13 +147,24 @@ fn spacing_figures(analyses: &[&SectorAnalysis]) -> Vec<Named> {
     out
 }
 
+/// Palette index of the canonical prediction in the diagonal figure (black).
+const CANONICAL_COLOR: usize = 6;
+
 /// `Aₙₙ` against energy of the largest sector of a family, with the binned mean and the
 /// canonical prediction.
 fn diagonal_figure(a: &SectorAnalysis, o: &ObservableAnalysis, obs: &str, stem: &str) -> Named {
     let step = (o.points.len() / 2500).max(1);
     let pts: Vec<(f64, f64)> = o.points.iter().step_by(step).copied().collect();
     let curves = binned_curves(&o.points, 30);
-    let mut fig = Figure::new("E (energy units of H)", format!("⟨n|{obs}|n⟩"))
+    let mut fig = Figure::new("E (energy units of H)", format!("⟨n|{obs}|n⟩"));
+    // the smooth bins span the analysis window's energies, first state to last
+    let smooth = &o.diagonal.smooth;
+    if let (Some(first), Some(last)) = (smooth.first(), smooth.last()) {
+        if first.energy_lo < last.energy_hi {
+            fig = fig.band(first.energy_lo, last.energy_hi, "analysis window");
+        }
+    }
+    fig = fig
         .series(Series::points(format!("A_nn, {}", a.label), pts).color(0))
         .series(
             Series::line("binned A(E)", curves.iter().map(|c| (c.0, c.1)).collect())
@@ -166,10 +178,11 @@ fn diagonal_figure(a: &SectorAnalysis, o: &ObservableAnalysis, obs: &str, stem: 
         .filter_map(|c| c.3.map(|v| (c.0, v)))
         .collect();
     if !can.is_empty() {
+        // drawn last, dashed and dark, so that the markers never hide it
         fig = fig.series(
             Series::line("canonical at β(E)", can)
                 .style(Style::Dashed)
-                .color(2),
+                .color(CANONICAL_COLOR),
         );
     }
     (
@@ -178,7 +191,7 @@ fn diagonal_figure(a: &SectorAnalysis, o: &ObservableAnalysis, obs: &str, stem: 
         format!(
             "Diagonal matrix elements of {obs} against energy in {} (D = {}): the binned mean A(E) over 30 \
              equal-width energy bins with standard errors, and the canonical prediction Σₙe^(−βEₙ)Aₙₙ/Z at \
-             β(E) solving ⟨H⟩_β = E. The analysis window is {} ({}).",
+             β(E) solving ⟨H⟩_β = E (dashed, on top). The shaded band is the analysis window {} ({}).",
             a.label,
             a.dimension,
             o.diagonal.window,
@@ -187,14 +200,16 @@ fn diagonal_figure(a: &SectorAnalysis, o: &ObservableAnalysis, obs: &str, stem: 
     )
 }
 
-/// The envelope of every size of a family.
+/// The envelope of every size of a family: bins of at least [`PLATEAU_MIN_COUNT`] pairs
+/// with their jackknife errors, and the mean level spacing and the random-matrix scale of
+/// the largest size as vertical lines.
 fn envelope_figure(members: &[&SectorAnalysis], obs: &str, stem: &str) -> Option<Named> {
     let mut env = Figure::new("ω (energy units)", "|f(Ē, ω)|² = e^S(Ē) ⟨|A_nm|²⟩")
         .axes(Axis::Log, Axis::Log)
         .legend(Legend::LowerLeft);
     let mut sorted = members.to_vec();
     sorted.sort_by_key(|a| a.dimension);
-    let mut any = false;
+    let mut largest = None;
     for (k, m) in sorted.iter().enumerate() {
         if let Some(off) = m
             .observables
@@ -202,29 +217,47 @@ fn envelope_figure(members: &[&SectorAnalysis], obs: &str, stem: &str) -> Option
             .find(|o| o.name == obs)
             .and_then(|o| o.offdiagonal.as_ref())
         {
-            let pts: Vec<(f64, f64)> = off
+            let bins: Vec<_> = off
                 .envelope_log
                 .iter()
-                .filter(|b| b.count > 0 && b.f_sq > 0.0)
-                .map(|b| (b.omega, b.f_sq))
+                .filter(|b| b.count >= PLATEAU_MIN_COUNT && b.f_sq > 0.0)
                 .collect();
-            if !pts.is_empty() {
-                any = true;
+            if !bins.is_empty() {
+                largest = Some(off);
                 env = env.series(
-                    Series::points(format!("D = {}", m.dimension), pts)
-                        .style(Style::LinePoints)
-                        .color(k),
+                    Series::points(
+                        format!("D = {}", m.dimension),
+                        bins.iter().map(|b| (b.omega, b.f_sq)).collect(),
+                    )
+                    .with_errors(bins.iter().map(|b| b.f_sq_stderr).collect())
+                    .style(Style::LinePoints)
+                    .color(k),
                 );
             }
         }
     }
-    if !any {
-        return None;
+    let off = largest?;
+    let mut marks = Vec::new();
+    if off.mean_level_spacing > 0.0 {
+        env = env.vertical(off.mean_level_spacing, "Δ̄");
+        marks.push("the mean level spacing Δ̄");
     }
+    if let Some(p) = off.plateau.as_ref().filter(|p| p.omega > 0.0) {
+        env = env.vertical(p.omega, "ω_RM");
+        marks.push("the random-matrix scale ω_RM (end of the low-ω plateau)");
+    }
+    let marks = if marks.is_empty() {
+        String::new()
+    } else {
+        format!(
+            " Dotted vertical lines: {} of the largest size.",
+            marks.join(" and ")
+        )
+    };
     Some((
             format!("envelope_{stem}"),
             env,
-            format!("Off-diagonal envelope of {obs}: mean |A_nm|² in logarithmic ω bins, rescaled by e^S(Ē) with S the entropy of the smoothed density of states; under ETH the curves of different sizes collapse onto |f(ω)|²."),
+            format!("Off-diagonal envelope of {obs}: mean |A_nm|² in logarithmic ω bins, rescaled by e^S(Ē) with S the entropy of the smoothed density of states, with jackknife errors; bins of fewer than {PLATEAU_MIN_COUNT} pairs are left out. Under ETH the curves of different sizes collapse onto |f(ω)|².{marks}"),
         ))
 }
 
