@@ -171,8 +171,20 @@ pub fn analyze_sector(
             .and_then(|o| o.support.clone());
         observables.push(obs);
     }
+    Ok(sector_result(path, sector, n, class, levels, observables))
+}
+
+/// The [`SectorAnalysis`] of `sector` (of `n` stored states) from its parts.
+fn sector_result(
+    path: &std::path::Path,
+    sector: &Sector,
+    n: usize,
+    class: crate::data::ClassInfo,
+    levels: crate::analysis::levels::LevelReport,
+    observables: Vec<ObservableAnalysis>,
+) -> SectorAnalysis {
     let file_name = path.display().to_string();
-    Ok(SectorAnalysis {
+    SectorAnalysis {
         label: sector
             .label
             .clone()
@@ -190,7 +202,7 @@ pub fn analyze_sector(
         class,
         levels,
         observables,
-    })
+    }
 }
 
 /// The diagonal analysis of observable `k` with the sector's thermal source (`d[i]` is

@@ -15,23 +15,8 @@ pub fn inspect_text(r: &FileSummary) -> String {
     o
 }
 
-fn format_sector(o: &mut String, r: &SectorSummary) {
-    let s = &r.sector;
-    let _ = writeln!(o, "  sector {} (group {})", s.name, s.group);
-    let _ = writeln!(
-        o,
-        "    energies      {}: {} states, {}, range [{:.6}, {:.6}]{}",
-        s.energies_path,
-        s.n_states,
-        s.energies_element,
-        r.energy_min,
-        r.energy_max,
-        if r.sorted {
-            ""
-        } else {
-            " (not ascending: sorted on reading)"
-        }
-    );
+/// The eigenvector line of a sector (after `eigenvectors  `).
+fn vectors_line(s: &crate::input::Sector) -> String {
     match (&s.eigenvectors_path, s.dim, s.element) {
         (Some(p), Some(dim), Some(el)) => {
             let chunk = match &s.chunk {
@@ -64,15 +49,32 @@ fn format_sector(o: &mut String, r: &SectorSummary) {
                 LayoutSource::MatFile => " (MATLAB v7.3 file, column-major)",
                 _ => "",
             };
-            let _ = writeln!(
-                o,
-                "    eigenvectors  {p}: dimension {dim}{partial}, {el}, layout {name}{how} {axes}, {chunk}{filters}",
-            );
+            format!(
+                "{p}: dimension {dim}{partial}, {el}, layout {name}{how} {axes}, {chunk}{filters}"
+            )
         }
-        _ => {
-            let _ = writeln!(o, "    eigenvectors  none stored");
-        }
+        _ => "none stored".to_string(),
     }
+}
+
+fn format_sector(o: &mut String, r: &SectorSummary) {
+    let s = &r.sector;
+    let _ = writeln!(o, "  sector {} (group {})", s.name, s.group);
+    let _ = writeln!(
+        o,
+        "    energies      {}: {} states, {}, range [{:.6}, {:.6}]{}",
+        s.energies_path,
+        s.n_states,
+        s.energies_element,
+        r.energy_min,
+        r.energy_max,
+        if r.sorted {
+            ""
+        } else {
+            " (not ascending: sorted on reading)"
+        }
+    );
+    let _ = writeln!(o, "    eigenvectors  {}", vectors_line(s));
     if s.observables.is_empty() {
         let _ = writeln!(o, "    observables   none");
     } else {
