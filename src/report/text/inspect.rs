@@ -16,7 +16,8 @@ pub fn inspect_text(r: &FileSummary) -> String {
 }
 
 /// The eigenvector line of a sector (after `eigenvectors  `).
-fn vectors_line(s: &crate::input::Sector) -> String {
+fn vectors_line(r: &SectorSummary) -> String {
+    let s = &r.sector;
     match (&s.eigenvectors_path, s.dim, s.element) {
         (Some(p), Some(dim), Some(el)) => {
             let chunk = match &s.chunk {
@@ -74,7 +75,7 @@ fn format_sector(o: &mut String, r: &SectorSummary) {
             " (not ascending: sorted on reading)"
         }
     );
-    let _ = writeln!(o, "    eigenvectors  {}", vectors_line(s));
+    let _ = writeln!(o, "    eigenvectors  {}", vectors_line(r));
     if s.observables.is_empty() {
         let _ = writeln!(o, "    observables   none");
     } else {
