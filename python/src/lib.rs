@@ -334,13 +334,14 @@ fn scaling(
 /// Every analysis (`eigentherm study FILE... --json`); with `out`, the report folder is
 /// written too.
 #[pyfunction]
-#[pyo3(signature = (files, *, observable=Vec::new(), out=None, state=Vec::new(), times=None, drop_weight=None, sector=None, window=None, energy_window=None, levels_window=None, omega_max=None, symmetry_class=None, combine_sectors=false, shared=None))]
+#[pyo3(signature = (files, *, observable=Vec::new(), out=None, figure_format=None, state=Vec::new(), times=None, drop_weight=None, sector=None, window=None, energy_window=None, levels_window=None, omega_max=None, symmetry_class=None, combine_sectors=false, shared=None))]
 #[allow(clippy::too_many_arguments)]
 fn study(
     py: Python<'_>,
     files: Vec<PathBuf>,
     observable: Vec<String>,
     out: Option<PathBuf>,
+    figure_format: Option<String>,
     state: Vec<String>,
     times: Option<String>,
     drop_weight: Option<f64>,
@@ -373,9 +374,10 @@ fn study(
         },
     };
     run_detached(py, move || {
+        let formats = flags::figure_formats(figure_format.as_deref())?;
         let results = eigentherm::pipeline::study::study(&f.request()?)?;
         if let Some(dir) = &out {
-            eigentherm::report::study::write_folder(&results, dir)?;
+            eigentherm::report::study::write_folder_as(&results, dir, formats)?;
         }
         json(&results)
     })

@@ -21,6 +21,10 @@ pub struct Args {
     /// Output folder (created when missing).
     #[arg(long, value_name = "DIR")]
     pub out: PathBuf,
+    /// Files of each figure: svg, pdf (vector, fonts embedded), png (2x), comma-separated
+    /// [default: svg,pdf,png].
+    #[arg(long, value_name = "LIST")]
+    pub figure_format: Option<String>,
     /// Initial states of quenches (adds the section "Quench dynamics") and their time grid.
     #[command(flatten)]
     pub dynamics: DynamicsArgs,
@@ -43,9 +47,10 @@ impl Args {
 
 /// Runs `eigentherm study`.
 pub fn run(args: &Args) -> Result<()> {
+    let formats = crate::pipeline::flags::figure_formats(args.figure_format.as_deref())?;
     let results = study(&args.resolve()?)?;
     let stage = crate::progress::stage("writing the report folder");
-    let written = crate::report::study::write_folder(&results, &args.out)?;
+    let written = crate::report::study::write_folder_as(&results, &args.out, formats)?;
     stage.finish_and_clear();
     if args.json.json {
         output::print_json(&results)

@@ -178,6 +178,15 @@ pub fn set_progress(flag: Option<&str>) -> Result<()> {
     Ok(())
 }
 
+/// `--figure-format svg,pdf,png` (default: all three; see
+/// [`crate::report::study::FigureFormats`]).
+pub fn figure_formats(s: Option<&str>) -> Result<crate::report::study::FigureFormats> {
+    match s {
+        None => Ok(Default::default()),
+        Some(s) => crate::report::study::FigureFormats::parse(s),
+    }
+}
+
 /// The observables, at least one (`--observable NAME`).
 pub fn required_observables(observables: &[String]) -> Result<Vec<String>> {
     if observables.is_empty() {

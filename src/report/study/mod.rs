@@ -24,11 +24,75 @@ pub struct StudyFiles {
     pub files: Vec<PathBuf>,
 }
 
+/// The files each figure is written as: SVG (inline in the page too), PDF (vector, fonts
+/// embedded) and PNG at twice the size ([`crate::report::convert`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct FigureFormats {
+    /// `NAME.svg`.
+    pub svg: bool,
+    /// `NAME.pdf`.
+    pub pdf: bool,
+    /// `NAME.png` at [`PNG_SCALE`] times the SVG's size.
+    pub png: bool,
+    /// Given by the user: a PDF or PNG that cannot be made is an error (by default: a
+    /// warning, and SVG only).
+    pub explicit: bool,
+}
+
+/// Scale of the PNG twins (2x for slides and high-density screens).
+pub const PNG_SCALE: f32 = 2.0;
+
+impl Default for FigureFormats {
+    fn default() -> Self {
+        FigureFormats {
+            svg: true,
+            pdf: true,
+            png: true,
+            explicit: false,
+        }
+    }
+}
+
+impl FigureFormats {
+    /// `svg,pdf,png` or any non-empty subset, comma-separated (`--figure-format`).
+    pub fn parse(s: &str) -> Result<FigureFormats> {
+        let mut f = FigureFormats {
+            svg: false,
+            pdf: false,
+            png: false,
+            explicit: true,
+        };
+        for part in s.split(',').map(str::trim) {
+            match part.to_ascii_lowercase().as_str() {
+                "svg" => f.svg = true,
+                "pdf" => f.pdf = true,
+                "png" => f.png = true,
+                _ => {
+                    return Err(Error::usage(format!(
+                        "--figure-format '{}': expected svg, pdf and/or png, comma-separated",
+                        crate::error::escape(s)
+                    )))
+                }
+            }
+        }
+        Ok(f)
+    }
+}
+
+/// [`write_folder_as`] with every figure format.
+pub fn write_folder(results: &StudyResults, out: &Path) -> Result<StudyFiles> {
+    write_folder_as(results, out, FigureFormats::default())
+}
+
 /// Writes the study folder `out` from the results: checked first ([`folder::check_target`]:
 /// never an input, nor a folder holding one, nor a folder another program wrote), written
 /// into a staging folder beside it and moved into place; on an error the staging folder is
 /// removed and `out` is left as it was.
-pub fn write_folder(results: &StudyResults, out: &Path) -> Result<StudyFiles> {
+pub fn write_folder_as(
+    results: &StudyResults,
+    out: &Path,
+    formats: FigureFormats,
+) -> Result<StudyFiles> {
     let inputs: Vec<PathBuf> = results
         .provenance
         .inputs
@@ -37,7 +101,7 @@ pub fn write_folder(results: &StudyResults, out: &Path) -> Result<StudyFiles> {
         .collect();
     folder::check_target(out, &inputs)?;
     let staged = folder::staging(out)?;
-    let written = write_into(results, &staged, out);
+    let written = write_into(results, &staged, out, formats);
     let done = written.and_then(|w| folder::move_into_place(&staged, out).map(|()| w));
     if done.is_err() {
         let _ = std::fs::remove_dir_all(&staged);
@@ -46,7 +110,12 @@ pub fn write_folder(results: &StudyResults, out: &Path) -> Result<StudyFiles> {
 }
 
 /// Writes every file into `dir`; the paths returned are those they will have in `out`.
-fn write_into(results: &StudyResults, dir: &Path, out: &Path) -> Result<StudyFiles> {
+fn write_into(
+    results: &StudyResults,
+    dir: &Path,
+    out: &Path,
+    formats: FigureFormats,
+) -> Result<StudyFiles> {
     let mut files = Vec::new();
     let mut put = |name: &str, bytes: &[u8]| -> Result<()> {
         write_atomic(&dir.join(name), bytes)?;
@@ -84,10 +153,8 @@ fn write_into(results: &StudyResults, dir: &Path, out: &Path) -> Result<StudyFil
         put(&format!("{name}.csv"), t.to_csv().as_bytes())?;
         put(&format!("{name}.md"), t.to_markdown().as_bytes())?;
     }
-    for (name, fig, _) in &figures {
-        if let Ok(svg) = fig.to_svg() {
-            put(&format!("{name}.svg"), svg.as_bytes())?;
-        }
+    for (name, bytes) in figure_files(&figures, formats)? {
+        put(&name, &bytes)?;
     }
     let json = serde_json::to_string_pretty(&crate::report::json::versioned(results))
         .map_err(|e| Error::other(format!("cannot serialise results: {e}")))?;
@@ -101,4 +168,49 @@ fn write_into(results: &StudyResults, dir: &Path, out: &Path) -> Result<StudyFil
     let report = out.join("report.html");
     files.push(report.clone());
     Ok(StudyFiles { report, files })
+}
+
+/// The figure files `(file name, bytes)` in `formats`, converted in parallel. Without a
+/// font for PDF and PNG, the default formats fall back to SVG with one warning; formats the
+/// user asked for are an error then.
+fn figure_files(
+    figures: &[(String, crate::report::plot::Figure, String)],
+    formats: FigureFormats,
+) -> Result<Vec<(String, Vec<u8>)>> {
+    use rayon::prelude::*;
+    let mut formats = formats;
+    if (formats.pdf || formats.png) && !formats.explicit && !crate::report::convert::available() {
+        crate::progress::warn(&format!(
+            "figures written as SVG only: no font for their text is installed for the PDF and PNG twins (looked for {}; Debian: apt-get install fonts-dejavu-core)",
+            crate::report::convert::SANS_FAMILIES.join(", ")
+        ));
+        formats.pdf = false;
+        formats.png = false;
+    }
+    type Files = Vec<(String, Vec<u8>)>;
+    let per_figure: Vec<Result<Files>> = figures
+        .par_iter()
+        .map(|(name, fig, _)| {
+            let Ok(svg) = fig.to_svg() else {
+                return Ok(Vec::new());
+            };
+            let mut files = Vec::new();
+            if formats.pdf {
+                files.push((format!("{name}.pdf"), crate::report::convert::to_pdf(&svg)?));
+            }
+            if formats.png {
+                let png = crate::report::convert::to_png(&svg, PNG_SCALE)?;
+                files.push((format!("{name}.png"), png));
+            }
+            if formats.svg {
+                files.push((format!("{name}.svg"), svg.into_bytes()));
+            }
+            Ok(files)
+        })
+        .collect();
+    let mut out = Vec::new();
+    for f in per_figure {
+        out.extend(f?);
+    }
+    Ok(out)
 }
