@@ -363,7 +363,9 @@ pub(crate) fn gershgorin<T: Elem>(op: &OpData<T>) -> [f64; 2] {
     [lo, hi]
 }
 
-/// `Tr A = Σᵢ Re Aᵢᵢ`.
+/// `Tr A = Σᵢ Re Aᵢᵢ`. The traces below form their row terms in parallel and add them in
+/// row order, so that the result does not depend on how the work was split (a parallel
+/// sum's order would move the last bit from run to run).
 fn trace<T: Elem>(op: &OpData<T>) -> f64 {
     (0..nrows(op))
         .into_par_iter()
@@ -376,7 +378,9 @@ fn trace<T: Elem>(op: &OpData<T>) -> f64 {
             });
             t
         })
-        .sum()
+        .collect::<Vec<f64>>()
+        .iter()
+        .sum::<f64>()
 }
 
 /// `Tr(A B) = Σᵢⱼ Aᵢⱼ Bⱼᵢ = Re Σᵢⱼ Aᵢⱼ conj(Bᵢⱼ)` for Hermitian `B` (row `i` of `B`
@@ -407,7 +411,9 @@ fn trace_product<T: Elem>(a: &OpData<T>, b: &OpData<T>) -> f64 {
                 t
             },
         )
-        .sum()
+        .collect::<Vec<f64>>()
+        .iter()
+        .sum::<f64>()
 }
 
 /// `Tr(A H²) = Σᵢ ⟨hᵢ|A|hᵢ⟩` with `hᵢ = H eᵢ = conj(row i of H)` (H Hermitian), for a
@@ -446,6 +452,8 @@ fn trace_sandwich<T: Elem>(a: &OpData<T>, h: &OpData<T>) -> Option<f64> {
                 t
             },
         )
-        .sum();
+        .collect::<Vec<f64>>()
+        .iter()
+        .sum::<f64>();
     Some(total)
 }
