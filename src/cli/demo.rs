@@ -120,7 +120,7 @@ pub fn run(args: &Args) -> Result<()> {
     }
     let shown: Vec<String> = reports.iter().map(|p| p.display().to_string()).collect();
     output::print(&format!(
-        "\nDone in {:.1} s. Reports: {}  (tables: *.md/.csv/.tex, figures: *.svg, everything: results.json)\n\
+        "\nDone in {:.1} s. Reports: {}  (tables: *.md/.csv/.tex, figures: *.svg/.pdf/.png, everything: results.json)\n\
          These are numerical results on small finite systems: evidence, not proof.\n",
         t0.elapsed().as_secs_f64(),
         shown.join(", ")
