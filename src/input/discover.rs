@@ -122,11 +122,13 @@ pub fn discover(file: &Path, f: &hdf5::File, ov: &Overrides) -> Result<Vec<Secto
                 Some(0) | None => "/".to_string(),
                 Some(k) => epath[..k].to_string(),
             };
-            return Ok(vec![describe(file, f, &group, &epath, ov)?]);
+            let mat = matlab::is_mat73(file);
+            return Ok(vec![describe(file, f, &group, &epath, ov, mat)?]);
         }
         Some(e) => e.trim_end_matches('/').to_string(),
         None => "energies".to_string(),
     };
+    let mat = matlab::is_mat73(file);
     let mut groups = Vec::new();
     let mut visited = Visited::default();
     visited.first(f, "/");
@@ -147,7 +149,7 @@ pub fn discover(file: &Path, f: &hdf5::File, ov: &Overrides) -> Result<Vec<Secto
     }
     groups
         .iter()
-        .map(|g| describe(file, f, g, &join(g, &relative), ov))
+        .map(|g| describe(file, f, g, &join(g, &relative), ov, mat))
         .collect()
 }
 
@@ -264,12 +266,13 @@ fn describe(
     group: &str,
     epath: &str,
     ov: &Overrides,
+    mat: bool,
 ) -> Result<Sector> {
     let (n, eel) = describe_energies(file, f, epath)?;
-    let v = describe_vectors(file, f, group, n, ov)?;
+    let v = describe_vectors(file, f, group, n, ov, mat)?;
     let mut observables = describe_observables(file, f, group, v.dim, n, ov)?;
     let mut hamiltonian = describe_hamiltonian(file, f, group, v.dim, n, ov)?;
-    if matlab::is_mat73(file) {
+    if mat {
         // MATLAB writes column-major: every 2-D dataset holds the transpose
         for o in observables.iter_mut().chain(hamiltonian.as_mut()) {
             o.column_major |= matches!(o.form, OperatorForm::Dense | OperatorForm::EnergyBasis);
@@ -434,6 +437,7 @@ fn describe_vectors(
     group: &str,
     n: usize,
     ov: &Overrides,
+    mat: bool,
 ) -> Result<Vectors> {
     let vpath = match &ov.eigenvectors {
         Some(p) => Some(resolve(group, p)),
@@ -442,7 +446,6 @@ fn describe_vectors(
             kind(file, f, &p)?.map(|_| p)
         }
     };
-    let mat = matlab::is_mat73(file);
     let (layout, layout_source) = match ov.layout {
         Some(l) => (l, LayoutSource::Option),
         None if mat => (Layout::Rows, LayoutSource::MatFile),

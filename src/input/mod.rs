@@ -644,11 +644,16 @@ impl EigenFile {
     /// optional attribute `full_dim`, the CSR structure, real finite values, and
     /// orthonormal columns (`PᵀP = 1`); any problem is a one-line error naming the group.
     pub fn embedding(&self, sector: &Sector) -> Result<Option<crate::data::Csr<f64>>> {
-        let path = discover::join(&sector.group, "embedding");
-        if discover::kind(&self.path, &self.h5, &path)?.is_none() {
+        if !self.has_embedding(sector)? {
             return Ok(None);
         }
+        let path = discover::join(&sector.group, "embedding");
         operators::read_embedding(&self.path, &self.h5, &path, sector.dim, &self.limit).map(Some)
+    }
+    /// Whether the sector stores an `embedding` (nothing is read).
+    pub fn has_embedding(&self, sector: &Sector) -> Result<bool> {
+        let path = discover::join(&sector.group, "embedding");
+        Ok(discover::kind(&self.path, &self.h5, &path)?.is_some())
     }
     /// An initial state by name (`states/<name>`).
     pub fn state(&self, sector: &Sector, name: &str) -> Result<Vector> {

@@ -257,7 +257,7 @@ fn by_configurations<'a>(
     let path = file.path();
     let mut out = Vec::with_capacity(sectors.len());
     for &s in sectors {
-        if file.embedding(s)?.is_some() {
+        if file.has_embedding(s)? {
             return Ok(None);
         }
         let Some(configs) = file.basis(s)? else {

@@ -55,11 +55,29 @@ fn tree(svg: &str) -> Result<resvg::usvg::Tree> {
     resvg::usvg::Tree::from_str(svg, &opts).map_err(|e| Error::other(format!("figure SVG: {e}")))
 }
 
+/// A figure's PDF and PNG bytes (each when asked for).
+pub type Twins = (Option<Vec<u8>>, Option<Vec<u8>>);
+
+/// The twins of one figure from one parse of its SVG: the PDF when `pdf`, the PNG at
+/// `png_scale` when given.
+pub fn twins(svg: &str, pdf: bool, png_scale: Option<f32>) -> Result<Twins> {
+    let t = tree(svg)?;
+    let p = if pdf { Some(pdf_of(&t)?) } else { None };
+    let g = match png_scale {
+        Some(s) => Some(png_of(&t, s)?),
+        None => None,
+    };
+    Ok((p, g))
+}
+
 /// The figure as a one-page PDF of the SVG's size (fonts embedded as subsets).
 pub fn to_pdf(svg: &str) -> Result<Vec<u8>> {
-    let t = tree(svg)?;
+    pdf_of(&tree(svg)?)
+}
+
+fn pdf_of(t: &resvg::usvg::Tree) -> Result<Vec<u8>> {
     svg2pdf::to_pdf(
-        &t,
+        t,
         svg2pdf::ConversionOptions::default(),
         svg2pdf::PageOptions::default(),
     )
@@ -68,7 +86,10 @@ pub fn to_pdf(svg: &str) -> Result<Vec<u8>> {
 
 /// The figure as a PNG at `scale` times the SVG's size, on white.
 pub fn to_png(svg: &str, scale: f32) -> Result<Vec<u8>> {
-    let t = tree(svg)?;
+    png_of(&tree(svg)?, scale)
+}
+
+fn png_of(t: &resvg::usvg::Tree, scale: f32) -> Result<Vec<u8>> {
     let size = t
         .size()
         .to_int_size()
@@ -78,7 +99,7 @@ pub fn to_png(svg: &str, scale: f32) -> Result<Vec<u8>> {
         .ok_or_else(|| Error::other("figure PNG: size too large"))?;
     pixmap.fill(resvg::tiny_skia::Color::WHITE);
     resvg::render(
-        &t,
+        t,
         resvg::tiny_skia::Transform::from_scale(scale, scale),
         &mut pixmap.as_mut(),
     );

@@ -195,12 +195,11 @@ fn figure_files(
                 return Ok(Vec::new());
             };
             let mut files = Vec::new();
-            if formats.pdf {
-                files.push((format!("{name}.pdf"), crate::report::convert::to_pdf(&svg)?));
-            }
-            if formats.png {
-                let png = crate::report::convert::to_png(&svg, PNG_SCALE)?;
-                files.push((format!("{name}.png"), png));
+            if formats.pdf || formats.png {
+                let scale = formats.png.then_some(PNG_SCALE);
+                let (pdf, png) = crate::report::convert::twins(&svg, formats.pdf, scale)?;
+                files.extend(pdf.map(|b| (format!("{name}.pdf"), b)));
+                files.extend(png.map(|b| (format!("{name}.png"), b)));
             }
             if formats.svg {
                 files.push((format!("{name}.svg"), svg.into_bytes()));
